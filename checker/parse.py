@@ -1,0 +1,535 @@
+"""Text to syntax tree: the lark grammar in ``grammar/`` plus positions.
+
+``parse_text`` turns one file's text into a :class:`File` of plain dataclasses,
+each carrying the :class:`Pos` of its first character. Every failure is an
+:class:`InputError` with the file, line and column; no input raises anything
+else.
+"""
+
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Optional, Union
+
+from lark import Lark, Token, Tree
+from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+
+from .errors import InputError, Pos
+
+RESERVED = frozenset(
+    "use design end in out node flop part check of code count hold load back step "
+    "recover within when always equal on sequence after clear preset".split()
+)
+MAX_FILE_BYTES = 32 * 1024 * 1024
+MAX_NESTING = 200
+MAX_INDEX = 10**9
+
+
+# --- expressions ---------------------------------------------------------
+@dataclass
+class Index:
+    """``[first]`` or ``[first:last]``."""
+
+    first: int
+    last: Optional[int]
+    pos: Pos
+
+
+@dataclass
+class Num:
+    value: int
+    text: str
+    pos: Pos
+
+    @property
+    def binary_width(self) -> Optional[int]:
+        """Digits of a ``0b`` literal (its width in a vector), else None."""
+        return len(self.text) - 2 if self.text[:2].lower() == "0b" else None
+
+
+@dataclass
+class Ref:
+    path: list[str]
+    index: Optional[Index]
+    pos: Pos
+
+    @property
+    def dotted(self) -> str:
+        return ".".join(self.path)
+
+
+@dataclass
+class Call:
+    name: str
+    args: list["Expr"]
+    pos: Pos
+
+
+@dataclass
+class Not:
+    arg: "Expr"
+    pos: Pos
+
+
+@dataclass
+class Op:
+    op: str  # '&', '|', '^'
+    args: list["Expr"]
+    pos: Pos
+
+
+@dataclass
+class Cat:
+    items: list["Expr"]
+    pos: Pos
+
+
+@dataclass
+class Cmp:
+    op: str  # '==' or '!='
+    left: "Expr"
+    right: "Expr"
+    pos: Pos
+
+
+Expr = Union[Num, Ref, Call, Not, Op, Cat, Cmp]
+
+
+# --- design statements ---------------------------------------------------
+@dataclass
+class Decl:
+    name: str
+    msb: Optional[int]
+    lsb: Optional[int]
+    pos: Pos
+
+
+@dataclass
+class InDecl:
+    decls: list[Decl]
+    pos: Pos
+
+
+@dataclass
+class OutDecl:
+    decl: Decl
+    expr: Expr
+    pos: Pos
+
+
+@dataclass
+class NodeDecl:
+    decl: Decl
+    expr: Expr
+    pos: Pos
+
+
+@dataclass
+class FlopDecl:
+    decl: Decl
+    kind: str
+    kind_pos: Pos
+    clear: Optional[Expr]
+    preset: Optional[Expr]
+    pos: Pos
+
+
+@dataclass
+class PinDrive:
+    flop: str
+    index: Optional[Index]
+    pin: str
+    pin_pos: Pos
+    expr: Expr
+    pos: Pos
+
+
+@dataclass
+class Conn:
+    port: str
+    index: Optional[Index]
+    expr: Expr
+    pos: Pos
+
+
+@dataclass
+class PartDecl:
+    name: str
+    design: str
+    design_pos: Pos
+    conns: list[Conn]
+    pos: Pos
+
+
+@dataclass
+class DesignBlock:
+    name: str
+    stmts: list
+    pos: Pos
+
+
+# --- check statements ----------------------------------------------------
+@dataclass
+class CodeStmt:
+    expr: Expr
+    pos: Pos
+
+
+@dataclass
+class CountStmt:
+    items: list[tuple[Union[int, str], Pos]]  # ints, names, and '..'
+    pos: Pos
+
+
+@dataclass
+class RuleStmt:
+    kind: str  # hold, load, back, step
+    value: Optional[Expr]  # the CODE of a load
+    cond: Expr
+    pos: Pos
+
+
+@dataclass
+class RecoverStmt:
+    within: Optional[int]
+    cond: Optional[Expr]
+    pos: Pos
+
+
+@dataclass
+class AlwaysStmt:
+    prop: Expr
+    pos: Pos
+
+
+@dataclass
+class EqualStmt:
+    design: str
+    design_pos: Pos
+    mode: Optional[str]  # None, 'sequence', 'after'
+    cond: Optional[Expr]
+    pos: Pos
+
+
+@dataclass
+class CheckBlock:
+    name: str
+    design: str
+    design_pos: Pos
+    stmts: list
+    pos: Pos
+
+
+@dataclass
+class UseStmt:
+    path: str
+    pos: Pos
+
+
+@dataclass
+class File:
+    path: str
+    uses: list[UseStmt] = field(default_factory=list)
+    designs: list[DesignBlock] = field(default_factory=list)
+    checks: list[CheckBlock] = field(default_factory=list)
+
+
+# --- the parser ----------------------------------------------------------
+def grammar_path() -> Path:
+    """The grammar file: ``grammar/cnl.lark`` beside the package, in a checkout or a wheel."""
+    here = Path(__file__).resolve().parent
+    for cand in (here.parent / "grammar" / "cnl.lark", here / "grammar" / "cnl.lark"):
+        if cand.is_file():
+            return cand
+    raise FileNotFoundError("grammar/cnl.lark is missing from the installation")
+
+
+@functools.lru_cache(maxsize=1)
+def _parser() -> Lark:
+    return Lark(grammar_path().read_text(encoding="utf-8"), parser="lalr",
+                propagate_positions=True, maybe_placeholders=True)
+
+
+_READABLE = {"NAME": "a name", "INT": "a number", "STRING": "a quoted path",
+             "_NL": "end of line", "$END": "end of file", "CMPOP": "'==' or '!='",
+             "NOT": "'!'", "DOTDOT": "'..'"}
+
+
+def _describe_terminal(name: str) -> str:
+    if name in _READABLE:
+        return _READABLE[name]
+    try:
+        term = _parser().get_terminal(name)
+    except KeyError:
+        return name.lower()
+    if term.pattern.type == "str":
+        return f"'{term.pattern.value}'"
+    return name.lower()
+
+
+def _expected_text(expected) -> str:
+    names = sorted({_describe_terminal(t) for t in expected if t != "COMMENT"})
+    if not names:
+        return ""
+    if len(names) > 8:
+        names = names[:8] + ["..."]
+    return "; expected " + (names[0] if len(names) == 1 else "one of " + ", ".join(names))
+
+
+def _line_col_at(text: str, offset: int) -> tuple[int, int]:
+    line = text.count("\n", 0, offset) + 1
+    col = offset - (text.rfind("\n", 0, offset) + 1) + 1
+    return line, col
+
+
+def _check_nesting(path: str, text: str) -> None:
+    """Reject expressions nesting deeper than MAX_NESTING before lark sees them."""
+    depth = 0
+    nots = 0
+    i, n = 0, len(text)
+    while i < n:
+        c = text[i]
+        if c == "#":
+            j = text.find("\n", i)
+            i = n if j < 0 else j
+            continue
+        if c == '"':
+            j = text.find('"', i + 1)
+            i = n if j < 0 else j + 1
+            continue
+        if c == "\n":
+            depth = nots = 0
+        elif c in "({":
+            depth += 1
+        elif c in ")}":
+            depth = max(0, depth - 1)
+        elif c in "!~" and text[i + 1:i + 2] != "=":
+            nots += 1
+        elif not c.isspace():
+            nots = 0
+        if depth + nots > MAX_NESTING:
+            line, col = _line_col_at(text, i)
+            raise InputError(Pos(path, line, col),
+                             f"expression nests deeper than {MAX_NESTING} levels (the limit)")
+        i += 1
+
+
+def decode_source(path: str, data: bytes) -> str:
+    """UTF-8 text of a source file, or an InputError at the first bad byte."""
+    if len(data) > MAX_FILE_BYTES:
+        raise InputError(Pos(path, 1, 1), f"file is larger than {MAX_FILE_BYTES // (1024 * 1024)} MiB (the limit)")
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as e:
+        prefix = data[:e.start].decode("utf-8", errors="replace")
+        line, col = _line_col_at(prefix, len(prefix))
+        raise InputError(Pos(path, line, col), f"not UTF-8 text (byte 0x{data[e.start]:02x}); a .cnl file is UTF-8") from None
+    if text.startswith("\ufeff"):
+        text = text[1:]
+    nul = text.find("\x00")
+    if nul >= 0:
+        line, col = _line_col_at(text, nul)
+        raise InputError(Pos(path, line, col), "NUL character; a .cnl file is text")
+    return text
+
+
+def parse_text(path: str, text: str) -> File:
+    """Parse one file's text into a :class:`File`; raises InputError on any syntax error."""
+    _check_nesting(path, text)
+    try:
+        tree = _parser().parse(text)
+    except UnexpectedInput as e:
+        raise _syntax_error(path, text, e) from None
+    return _Builder(path).file(tree)
+
+
+def _syntax_error(path: str, text: str, e: UnexpectedInput) -> InputError:
+    line = getattr(e, "line", None)
+    col = getattr(e, "column", None)
+    if isinstance(e, UnexpectedCharacters):
+        ch = text[e.pos_in_stream] if e.pos_in_stream is not None and e.pos_in_stream < len(text) else "?"
+        msg = f"unexpected character {ch!r}" + _expected_text(e.allowed or ())
+    elif isinstance(e, UnexpectedToken):
+        tok = e.token
+        if tok.type == "$END":
+            msg = "unexpected end of file" + _expected_text(e.expected)
+            line, col = _line_col_at(text, len(text))
+        elif tok.type == "_NL":
+            msg = "unexpected end of line" + _expected_text(e.expected)
+        else:
+            msg = f"unexpected {str(tok)!r}" + _expected_text(e.expected)
+            if tok.type in _parser().terminals and str(tok) in RESERVED:
+                msg += f" ('{tok}' is a reserved word)"
+    elif isinstance(e, UnexpectedEOF):
+        line, col = _line_col_at(text, len(text))
+        msg = "unexpected end of file" + _expected_text(e.expected)
+    else:  # pragma: no cover - lark has no other kinds today
+        msg = "syntax error"
+    if not isinstance(line, int) or line < 1:
+        line, col = _line_col_at(text, len(text))
+    return InputError(Pos(path, line, col if isinstance(col, int) and col > 0 else 1), msg)
+
+
+class _Builder:
+    """Lark tree to dataclasses, checking names and integer sizes on the way."""
+
+    def __init__(self, path: str) -> None:
+        self.path = path
+
+    def pos(self, item) -> Pos:
+        if isinstance(item, Token):
+            return Pos(self.path, item.line, item.column)
+        return Pos(self.path, item.meta.line, item.meta.column)
+
+    def name(self, tok: Token) -> str:
+        s = str(tok)
+        if s in RESERVED:
+            raise InputError(self.pos(tok), f"'{s}' is a reserved word and cannot be a name")
+        return s
+
+    def small_int(self, tok: Token) -> int:
+        v = int(str(tok), 0)
+        if v > MAX_INDEX:
+            raise InputError(self.pos(tok), f"bit index {tok} is too large (limit {MAX_INDEX})")
+        return v
+
+    # file level
+    def file(self, tree: Tree) -> File:
+        f = File(self.path)
+        for ch in tree.children:
+            if ch is None:
+                continue
+            if ch.data == "use":
+                tok = ch.children[0]
+                f.uses.append(UseStmt(str(tok)[1:-1], self.pos(tok)))
+            elif ch.data == "design":
+                f.designs.append(self.design(ch))
+            elif ch.data == "check":
+                f.checks.append(self.check(ch))
+        return f
+
+    def design(self, t: Tree) -> DesignBlock:
+        name_tok, *stmts = t.children
+        out = []
+        for s in stmts:
+            out.append(getattr(self, "d_" + s.data)(s))
+        return DesignBlock(self.name(name_tok), out, self.pos(t))
+
+    def decl(self, t: Tree) -> Decl:
+        name_tok, rng = t.children
+        if rng is None:
+            return Decl(self.name(name_tok), None, None, self.pos(t))
+        msb, lsb = (self.small_int(x) for x in rng.children)
+        return Decl(self.name(name_tok), msb, lsb, self.pos(t))
+
+    def index(self, t: Optional[Tree]) -> Optional[Index]:
+        if t is None:
+            return None
+        a, b = t.children
+        return Index(self.small_int(a), None if b is None else self.small_int(b), self.pos(t))
+
+    def d_in_decl(self, t: Tree) -> InDecl:
+        return InDecl([self.decl(d) for d in t.children], self.pos(t))
+
+    def d_out_decl(self, t: Tree) -> OutDecl:
+        return OutDecl(self.decl(t.children[0]), self.expr(t.children[1]), self.pos(t))
+
+    def d_node_decl(self, t: Tree) -> NodeDecl:
+        return NodeDecl(self.decl(t.children[0]), self.expr(t.children[1]), self.pos(t))
+
+    def d_flop_decl(self, t: Tree) -> FlopDecl:
+        decl, kind, *opts = t.children
+        clear = preset = None
+        for o in opts:
+            key, e = o.children
+            if key.type == "CLEAR":
+                if clear is not None:
+                    raise InputError(self.pos(key), "clear given twice")
+                clear = self.expr(e)
+            else:
+                if preset is not None:
+                    raise InputError(self.pos(key), "preset given twice")
+                preset = self.expr(e)
+        return FlopDecl(self.decl(decl), str(kind), self.pos(kind), clear, preset, self.pos(t))
+
+    def d_pin_drive(self, t: Tree) -> PinDrive:
+        flop, idx, pin, e = t.children
+        return PinDrive(self.name(flop), self.index(idx), str(pin), self.pos(pin), self.expr(e), self.pos(t))
+
+    def d_part_decl(self, t: Tree) -> PartDecl:
+        name, design, *conns = t.children
+        cs = []
+        for c in conns:
+            if c is None:
+                continue
+            port, idx, e = c.children
+            cs.append(Conn(self.name(port), self.index(idx), self.expr(e), self.pos(c)))
+        return PartDecl(self.name(name), self.name(design), self.pos(design), cs, self.pos(t))
+
+    def check(self, t: Tree) -> CheckBlock:
+        name, design, *stmts = t.children
+        out = [getattr(self, "c_" + s.data)(s) for s in stmts]
+        return CheckBlock(self.name(name), self.name(design), self.pos(design), out, self.pos(t))
+
+    def c_code_stmt(self, t: Tree) -> CodeStmt:
+        return CodeStmt(self.expr(t.children[0]), self.pos(t))
+
+    def c_count_stmt(self, t: Tree) -> CountStmt:
+        items: list[tuple[Union[int, str], Pos]] = []
+        for it in t.children:
+            tok = it.children[0]
+            if tok.type == "INT":
+                items.append((int(str(tok), 0), self.pos(tok)))
+            else:
+                items.append((str(tok), self.pos(tok)))
+        return CountStmt(items, self.pos(t))
+
+    def c_rule(self, t: Tree) -> RuleStmt:
+        kind = t.children[0]
+        if kind.type == "LOAD":
+            return RuleStmt("load", self.expr(t.children[1]), self.expr(t.children[2]), self.pos(t))
+        return RuleStmt(str(kind), None, self.expr(t.children[1]), self.pos(t))
+
+    def c_recover_stmt(self, t: Tree) -> RecoverStmt:
+        within, when = t.children
+        n = None if within is None else int(str(within.children[0]), 0)
+        cond = None if when is None else self.expr(when.children[0])
+        return RecoverStmt(n, cond, self.pos(t))
+
+    def c_always_stmt(self, t: Tree) -> AlwaysStmt:
+        return AlwaysStmt(self.expr(t.children[0]), self.pos(t))
+
+    def c_equal_stmt(self, t: Tree) -> EqualStmt:
+        name, mode = t.children
+        if mode is None:
+            return EqualStmt(self.name(name), self.pos(name), None, None, self.pos(t))
+        if isinstance(mode.children[0], Token) and mode.children[0].type == "ON":
+            return EqualStmt(self.name(name), self.pos(name), "sequence", None, self.pos(t))
+        return EqualStmt(self.name(name), self.pos(name), "after", self.expr(mode.children[0]), self.pos(t))
+
+    # expressions
+    def expr(self, t) -> Expr:
+        if isinstance(t, Token):  # a bare NAME cannot reach here; kept for safety
+            raise InputError(self.pos(t), f"unexpected {t!s}")
+        d = t.data
+        if d == "num":
+            tok = t.children[0]
+            return Num(int(str(tok), 0), str(tok), self.pos(tok))
+        if d == "ref":
+            *names, idx = t.children
+            return Ref([self.name(n) for n in names], self.index(idx), self.pos(t))
+        if d == "call":
+            name, *args = t.children
+            args = [a for a in args if a is not None]
+            return Call(str(name), [self.expr(a) for a in args], self.pos(t))
+        if d == "not_":
+            return Not(self.expr(t.children[1]), self.pos(t))
+        if d == "cat":
+            return Cat([self.expr(a) for a in t.children], self.pos(t))
+        if d == "cmp":
+            a, op, b = t.children
+            return Cmp(str(op), self.expr(a), self.expr(b), self.pos(t))
+        op = {"and_expr": "&", "or_expr": "|", "xor_expr": "^"}[d]
+        return Op(op, [self.expr(a) for a in t.children], self.pos(t))
