@@ -1,0 +1,95 @@
+"""Time budgets for claims: cooperative deadlines and a hard stop.
+
+An engine reads ``Budget.expired()`` between solver calls and reports how far
+it got with ``Budget.report(depth=...)``. ``run_bounded`` runs a claim in a
+forked child when a timeout is set, so a solver call that cannot be
+interrupted (python-sat's CaDiCaL cannot) is still stopped: the claim is then
+``open`` with the progress last reported, never ``proved``.
+"""
+
+from __future__ import annotations
+
+import multiprocessing as mp
+import time
+from dataclasses import dataclass, field
+from typing import Any, Callable, Optional
+
+
+@dataclass
+class Budget:
+    """A deadline (``time.monotonic()`` seconds, or None) and the progress reported so far."""
+
+    deadline: Optional[float] = None
+    progress: dict = field(default_factory=dict)
+    _conn: Any = None
+
+    @classmethod
+    def seconds(cls, s: Optional[float]) -> "Budget":
+        return cls(None if s is None else time.monotonic() + s)
+
+    def left(self) -> Optional[float]:
+        return None if self.deadline is None else max(0.0, self.deadline - time.monotonic())
+
+    def expired(self) -> bool:
+        return self.deadline is not None and time.monotonic() >= self.deadline
+
+    def report(self, **kv: Any) -> None:
+        """Record progress (for example ``depth=k``); it survives a hard stop."""
+        self.progress.update(kv)
+        if self._conn is not None:
+            try:
+                self._conn.send(("progress", dict(self.progress)))
+            except (OSError, ValueError):
+                pass
+
+
+def _child(conn, fn, deadline):
+    b = Budget(deadline, {}, conn)
+    try:
+        res = fn(b)
+        conn.send(("done", res))
+    except BaseException as e:  # passed to the parent, which re-raises it
+        conn.send(("error", e))
+    finally:
+        conn.close()
+
+
+def run_bounded(fn: Callable[[Budget], Any], timeout: Optional[float]) -> tuple[Any, dict, bool]:
+    """Run ``fn(budget)``; returns (result, progress, finished).
+
+    With no timeout ``fn`` runs here. With one, it runs in a forked child with
+    a cooperative deadline at the timeout and is killed shortly after it; a
+    killed run returns (None, last progress, False).
+    """
+    if timeout is None:
+        b = Budget()
+        return fn(b), b.progress, True
+    ctx = mp.get_context("fork")
+    parent, child = ctx.Pipe(duplex=False)
+    start = time.monotonic()
+    proc = ctx.Process(target=_child, args=(child, fn, start + timeout), daemon=True)
+    proc.start()
+    child.close()
+    progress: dict = {}
+    hard = start + timeout + min(2.0, 0.1 * timeout + 0.2)
+    try:
+        while True:
+            left = hard - time.monotonic()
+            if left <= 0 or not parent.poll(left):
+                break
+            try:
+                kind, payload = parent.recv()
+            except EOFError:
+                break
+            if kind == "progress":
+                progress = payload
+            elif kind == "done":
+                return payload, progress, True
+            else:
+                raise payload
+    finally:
+        if proc.is_alive():
+            proc.kill()
+        proc.join()
+        parent.close()
+    return None, progress, False
