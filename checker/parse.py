@@ -248,7 +248,7 @@ def grammar_path() -> Path:
 
 @functools.lru_cache(maxsize=1)
 def _parser() -> Lark:
-    return Lark(grammar_path().read_text(encoding="utf-8"), parser="lalr",
+    return Lark(grammar_path().read_text(encoding="utf-8"), parser="lalr", start=["start", "expr"],
                 propagate_positions=True, maybe_placeholders=True)
 
 
@@ -339,10 +339,22 @@ def parse_text(path: str, text: str) -> File:
     """Parse one file's text into a :class:`File`; raises InputError on any syntax error."""
     _check_nesting(path, text)
     try:
-        tree = _parser().parse(text)
+        tree = _parser().parse(text, start="start")
     except UnexpectedInput as e:
         raise _syntax_error(path, text, e) from None
     return _Builder(path).file(tree)
+
+
+def parse_expr(where: str, text: str) -> Expr:
+    """Parse one expression (a command-line condition, say); ``where`` names it in errors."""
+    _check_nesting(where, text)
+    if "\n" in text:
+        raise InputError(Pos(where, 1, text.index("\n") + 1), "an expression is one line")
+    try:
+        tree = _parser().parse(text, start="expr")
+    except UnexpectedInput as e:
+        raise _syntax_error(where, text, e) from None
+    return _Builder(where).expr(tree)
 
 
 def _syntax_error(path: str, text: str, e: UnexpectedInput) -> InputError:

@@ -245,3 +245,23 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
             claims.append(cl)
     chk.claims = claims
     return chk
+
+
+def condition_literal(design: Design, expr: P.Expr) -> int:
+    """A condition over ``design``'s inputs (for example ``map --when``) as a literal."""
+    return _Scope(design, "cond").bit(expr, "a condition")
+
+
+def flop_indices(design: Design, expr: P.Expr) -> list[int]:
+    """State indices (most significant first) of a VEC of flop bits, each at most once."""
+    scope = _Scope(design, "code")
+    bits = scope.vec(expr)
+    if any(b[0] != "r" for b in bits):
+        raise InputError(expr.pos, "a code takes flop bits only (no constants or operators)")
+    index = {n: i for i, n in enumerate(design.model.states)}
+    out: list[int] = []
+    for _, b in bits:
+        if index[b] in out:
+            raise InputError(expr.pos, f"flop {b} appears twice in the code")
+        out.append(index[b])
+    return out
