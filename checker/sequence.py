@@ -932,7 +932,7 @@ def _make_lfsr(args: list[int | str], width: int) -> Sequence:
         if maximal:
             return LfsrSequence("lfsr", width, tuple(taps), start)
     else:
-        maximal, why = False, f"tap {width} (the top bit) is not a tap, so the register loses bits"
+        maximal, why = False, f"the top bit, {width}, is not a tap, so the register forgets it"
     if width > LFSR_WALK_LIMIT_BITS:
         raise SequenceError(
             f"{label} is not of maximal length ({why}); above {LFSR_WALK_LIMIT_BITS} bits "
@@ -1016,10 +1016,10 @@ def _lfsr_maximal(taps: list[int], width: int) -> tuple[bool, str]:
         for q in _prime_factors_2n_minus_1(width, deadline):
             if mod.pow_x(((1 << width) - 1) // q) == 1:
                 return False, f"its feedback polynomial is irreducible but x has order below 2^{width} - 1"
-    except _OutOfTime:
+    except _OutOfTime as e:
         raise SequenceError(
-            f"cannot confirm that the {width}-bit lfsr {' '.join(map(str, taps))} is of maximal length: "
-            f"factoring 2^{width} - 1 did not finish within {FACTOR_SECONDS:g} s") from None
+            f"cannot confirm that lfsr {' '.join(map(str, taps))} is of maximal length: "
+            f"{e} took longer than {FACTOR_SECONDS:g} s") from None
     return True, ""
 
 
@@ -1103,7 +1103,7 @@ def _irreducible(mod: _Gf2Modulus, deadline: float) -> bool:
         if i in wanted:
             kept[i] = y
         if i % 64 == 0 and time.monotonic() > deadline:
-            raise _OutOfTime
+            raise _OutOfTime("testing its feedback polynomial for irreducibility")
     if y != x:
         return False
     return all(_gf2_gcd(mod.poly, yi ^ x) == 1 for yi in kept.values())
@@ -1149,15 +1149,20 @@ def _prime_factors_2n_minus_1(n: int, deadline: float) -> tuple[int, ...]:
     if got is not None:
         return got
     primes: set[int] = set()
-    for d in _divisors(n)[1:]:
-        m = _cyclotomic_at_2(d)
-        # A prime q dividing Phi_d(2) either divides d or has 2 of order d
-        # modulo q, so q = 1 (mod d), and q is odd: q = 1 (mod lcm(2, d)).
-        for p in _small_prime_factors(d):
-            while m % p == 0:
-                primes.add(p)
-                m //= p
-        primes |= _factor(m, d if d % 2 == 0 else 2 * d, deadline)
+    try:
+        for d in _divisors(n)[1:]:
+            if time.monotonic() > deadline:
+                raise _OutOfTime
+            m = _cyclotomic_at_2(d)
+            # A prime q dividing Phi_d(2) either divides d or has 2 of order d
+            # modulo q, so q = 1 (mod d), and q is odd: q = 1 (mod lcm(2, d)).
+            for p in _small_prime_factors(d):
+                while m % p == 0:
+                    primes.add(p)
+                    m //= p
+            primes |= _factor(m, d if d % 2 == 0 else 2 * d, deadline)
+    except _OutOfTime:
+        raise _OutOfTime(f"factoring 2^{n} - 1") from None
     got = tuple(sorted(primes))
     _FACTORS[n] = got
     return got
