@@ -24,6 +24,7 @@ import random
 import time
 from bisect import bisect_left
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Iterable, Iterator
 
 import numpy as np
@@ -121,7 +122,11 @@ def _count_text(n: int) -> str:
     s = str(n)
     if s == "1" + "0" * (len(s) - 1):
         return f"10^{len(s) - 1}"
-    return s
+    return f"about {s[0]}.{s[1:4]}e{len(s) - 1}" if len(s) > 15 else s
+
+
+def _code_text(c: int) -> str:
+    return str(c) if c < 1 << 64 else hex(c)
 
 
 # ---------------------------------------------------------------------------
@@ -276,7 +281,8 @@ class RangeSequence(Sequence):
 
     def describe(self) -> str:
         way = "" if self.up else " (descending)"
-        return f"range {self.start} .. {self.end}{way}, {_count_text(self.length())} codes"
+        ends = f"{_code_text(self.start)} .. {_code_text(self.end)}"
+        return f"range {ends}{way}, {_count_text(self.length())} codes"
 
     def member(self, aig: Aig, bits: list[int]) -> int:
         self._need_width(bits)
@@ -1238,6 +1244,7 @@ def _rho(n: int, step: int, deadline: float, budget: int | None) -> int | None:
     return None  # pragma: no cover
 
 
+@lru_cache(maxsize=4)
 def _primes_below(limit: int) -> list[int]:
     sieve = np.ones(limit, dtype=bool)
     sieve[:2] = False

@@ -1,12 +1,15 @@
 """The count claim by SAT: one clock from every code of the sequence at once.
 
 One time frame with the state free: the code is constrained to be a member
-of the sequence (the sequence's membership circuit, never a list of codes),
-the inputs to be ones whose next code the rules decide, and the solver is
-asked for a next code that differs from the rules' one. A second question
-on the same solver, by assumptions, asks for an SR fault (s = r = 1 with
-clear and preset 0) in a code of the sequence under any input. Both UNSAT:
-proved. Either SAT: refuted by a one-clock trace, replayed in the simulator.
+of the sequence (the sequence's membership circuit, never a list of codes).
+For each region of the inputs where one rule decides the next code (rules in
+written order, then the default step), the solver is asked for a next code
+that differs from that rule's target; the inputs the region fixes are
+substituted first, so identical logic folds away by structural hashing. One
+more question asks for an SR fault (s = r = 1 with clear and preset 0) in a
+code of the sequence under any input. All questions go to one solver as
+assumptions. Every one UNSAT: proved. One SAT: refuted by a one-clock trace,
+replayed in the simulator and checked against the rules in plain Python.
 """
 
 from __future__ import annotations
@@ -16,7 +19,7 @@ from typing import Optional
 
 from ..budget import Budget
 from ..elaborate import Check, Claim
-from ..model import evaluate
+from ..model import FALSE, TRUE, Aig, evaluate
 from ..sat import Sat, Unrolling
 from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .common import Options, ReplayError, make_result, replay, rule_spec
@@ -28,34 +31,35 @@ FAULT_UNDER_ANY_INPUT = True
 
 
 @dataclass
-class CountProblem:
-    """The count claim's formula in one solver; every literal is a solver literal.
+class Question:
+    """One SAT question of the count claim; a model of ``assumptions`` refutes it.
 
-    ``member``: the code is in the sequence; ``decided``: the rules decide the
-    next code; ``differs`` implies that some bit of ``actual`` differs from
-    ``expected`` (both least significant first); ``faulty`` implies that some
-    SR fault literal of ``faults`` is 1 (None without SR flops).
+    ``kind`` is 'mismatch' (a wrong next code) or 'fault' (an SR fault).
+    ``fixed`` holds the inputs that the question's region of the rules fixes
+    (they were substituted as constants, so the solver leaves them unset);
+    ``expected`` and ``actual`` are the next code's solver literals, least
+    significant first; ``rule`` the index of the deciding rule (None: the
+    default step, or the whole rule set when the question is not split).
     """
+
+    kind: str
+    assumptions: list[int]
+    fixed: dict[str, int] = field(default_factory=dict)
+    expected: list[int] = field(default_factory=list)
+    actual: list[int] = field(default_factory=list)
+    rule: Optional[int] = None
+
+
+@dataclass
+class CountProblem:
+    """The count claim's formula in one solver: its questions in the order asked,
+    and each SR flop's fault literal (solver literals of frame 0)."""
 
     sat: Sat
     frame: Unrolling
     member: int
-    decided: int
-    differs: int
-    faulty: Optional[int]
-    expected: list[int]
-    actual: list[int]
+    questions: list[Question]
     faults: list[tuple[str, int]] = field(default_factory=list)
-
-    def mismatch_question(self) -> list[int]:
-        """Assumptions under which a model is a wrong next code."""
-        return [self.member, self.decided, self.differs]
-
-    def fault_question(self) -> Optional[list[int]]:
-        """Assumptions under which a model is an SR fault in a sequence code."""
-        if self.faulty is None:
-            return None
-        return [self.member, self.faulty] if FAULT_UNDER_ANY_INPUT else [self.member, self.decided, self.faulty]
 
 
 def _some(sat: Sat, lits: list[int], name: str) -> int:
@@ -69,17 +73,9 @@ def _some(sat: Sat, lits: list[int], name: str) -> int:
     return g
 
 
-def build_count(check: Check, sat: Sat) -> CountProblem:
-    """Encode the count claim of ``check`` (one frame, state free) into ``sat``."""
-    model = check.design.model
-    aig = model.aig
-    seq = check.sequence
-    assert seq is not None, "a count claim needs the check's sequence"
-    cur = check.code_lits()
-    member = seq.member(aig, cur)
-    decided, expected = rule_spec(check)
-    actual = [model.next_lits[i] for i in reversed(check.code)]
-    frame = Unrolling(model, sat)
+def _differs(frame: Unrolling, actual: list[int], expected: list[int], tag: str) -> tuple[int, list[int], list[int]]:
+    """(a literal implying that some bit differs, actual and expected solver literals)."""
+    sat = frame.sat
     diffs: list[int] = []
     for i, (a, e) in enumerate(zip(actual, expected)):
         if a == e:
@@ -91,15 +87,111 @@ def build_count(check: Check, sat: Sat) -> CountProblem:
             diffs.append(sat.true)
             continue
         # d -> (a != e): the two clauses of the xor that d needs (one polarity)
-        d = sat.new_var(f"differs bit {i}@1")
+        d = sat.new_var(f"{tag} bit {i} differs@1")
         sat.add([-d, la, le])
         sat.add([-d, -la, -le])
         diffs.append(d)
-    differs = _some(sat, diffs, "next code differs@1")
+    return _some(sat, diffs, f"{tag} next code differs@1"), frame.lits(0, actual), frame.lits(0, expected)
+
+
+def _conjuncts(aig: Aig, lit: int) -> list[int]:
+    """The literals whose conjunction is ``lit``, through positive and-nodes."""
+    out, stack = [], [lit]
+    while stack:
+        l = stack.pop()
+        n = l >> 1
+        if not l & 1 and n and not aig.is_leaf(n):
+            stack += [aig.left[n], aig.right[n]]
+        else:
+            out.append(l)
+    return out
+
+
+def regions(check: Check) -> list[tuple[Optional[int], int, list[int]]]:
+    """The rules' regions of the inputs: (rule index or None for the default
+    step, region literal, targets lsb first); a region is where that rule is
+    the first whose condition holds. Undecided inputs have no region."""
+    aig = check.design.model.aig
+    seq = check.sequence
+    assert seq is not None
+    cur = check.code_lits()
+    w = len(cur)
+    none_before = TRUE
+    out: list[tuple[Optional[int], int, list[int]]] = []
+    for k, r in enumerate(check.rules):
+        if r.kind == "hold":
+            t = cur
+        elif r.kind == "step":
+            t = seq.next_bits(aig, cur)
+        elif r.kind == "back":
+            t = seq.prev_bits(aig, cur)
+        elif r.load_const is not None:
+            t = [TRUE if (r.load_const >> i) & 1 else FALSE for i in range(w)]
+        else:
+            assert r.load_bits is not None
+            t = list(reversed(r.load_bits))
+        out.append((k, aig.and_(none_before, r.cond), t))
+        none_before = aig.and_(none_before, r.cond ^ 1)
+    if not any(r.kind == "step" for r in check.rules):
+        out.append((None, none_before, seq.next_bits(aig, cur)))
+    return [x for x in out if x[1] != FALSE]
+
+
+def build_count(check: Check, sat: Sat, split: bool = True) -> CountProblem:
+    """Encode the count claim of ``check`` (one frame, state free) into ``sat``.
+
+    With ``split`` there is one mismatch question per region of the rules
+    (Boole's and Shannon's expansion on the deciding rule): the inputs that
+    the region fixes (its conjuncts that are input bits) are substituted as
+    constants and the graph is rebuilt with structural hashing, so that a
+    next-state bit identical to the rules' one needs no clause at all; the
+    rest of the region is an assumption. Without ``split`` one question asks
+    for (decided and differs) against the rules' multiplexed next code.
+    """
+    model = check.design.model
+    aig = model.aig
+    seq = check.sequence
+    assert seq is not None, "a count claim needs the check's sequence"
+    cur = check.code_lits()
+    frame = Unrolling(model, sat)
+    member = frame.lit(0, seq.member(aig, cur))
+    actual = [model.next_lits[i] for i in reversed(check.code)]
+    questions: list[Question] = []
+    if split:
+        input_of = {l >> 1: n for n, l in zip(model.inputs, model.input_lits)}
+        identity = {l >> 1: l for l in model.state_lits + model.input_lits}
+        for k, region, target in regions(check):
+            fixed: dict[str, int] = {}
+            rest: list[int] = []
+            for c in _conjuncts(aig, region):
+                if aig.is_leaf(c >> 1) and (c >> 1) in input_of:
+                    fixed[input_of[c >> 1]] = 1 - (c & 1)
+                else:
+                    rest.append(c)
+            leaf_map = dict(identity)
+            for l, n in zip(model.input_lits, model.inputs):
+                if n in fixed:
+                    leaf_map[l >> 1] = TRUE if fixed[n] else FALSE
+            roots = actual + target + rest
+            cof = aig.copy_into(aig, roots, leaf_map) if fixed else roots
+            w = len(actual)
+            a2, e2, rest2 = cof[:w], cof[w:2 * w], cof[2 * w:]
+            tag = "default step" if k is None else f"rule {k + 1}"
+            d, la, le = _differs(frame, a2, e2, tag)
+            assume = [member] + frame.lits(0, rest2) + [d]
+            questions.append(Question("mismatch", assume, fixed, le, la, k))
+    else:
+        decided, expected = rule_spec(check)
+        d, la, le = _differs(frame, actual, expected, "rules")
+        questions.append(Question("mismatch", [member, frame.lit(0, decided), d], {}, le, la, None))
     faults = [(name, frame.lit(0, f)) for name, f in model.faults]
-    faulty = _some(sat, [l for _, l in faults], "SR fault@0") if faults else None
-    return CountProblem(sat, frame, frame.lit(0, member), frame.lit(0, decided), differs, faulty,
-                        frame.lits(0, expected), frame.lits(0, actual), faults)
+    if faults:
+        faulty = _some(sat, [l for _, l in faults], "some SR fault@0")
+        assume = [member, faulty]
+        if not FAULT_UNDER_ANY_INPUT:
+            assume.append(frame.lit(0, rule_spec(check)[0]))
+        questions.append(Question("fault", assume, actual=frame.lits(0, actual)))
+    return CountProblem(sat, frame, member, questions, faults)
 
 
 def _code_from(values_lsb: list[int]) -> int:
@@ -165,62 +257,64 @@ def trace_lines(check: Check, trace: list[TraceEntry]) -> list[str]:
     return ["  ".join(c.ljust(widths[k]) for k, c in enumerate(r)).rstrip() for r in rows]
 
 
-def _refute(check: Check, claim: Claim, p: CountProblem, opts: Options, fault: bool) -> Result:
+def _refute(check: Check, claim: Claim, p: CountProblem, q: Question, opts: Options) -> Result:
     sat, frame = p.sat, p.frame
     state = frame.read_state(0)
     inputs = frame.read_inputs(0)
+    inputs.update(q.fixed)
     code = check.code_of(state)
-    actual = _code_from([sat.value(l) for l in p.actual])
-    decided = sat.value(p.decided)
-    expected = _code_from([sat.value(l) for l in p.expected]) if decided else None
+    actual = _code_from([sat.value(l) for l in q.actual])
+    ref = reference_next(check, code, inputs)
+    if q.kind == "mismatch":
+        expected: Optional[int] = _code_from([sat.value(l) for l in q.expected])
+        if ref != expected:
+            raise ReplayError(f"at code {code} the rules give {ref}, the SAT problem said {expected}")
+    else:
+        expected = ref
     trace = [TraceEntry(0, code, inputs), TraceEntry(1, actual)]
     # The simulator must reproduce the trace, and plain Python the expectation.
     replay(check.design, check, trace)
     if not check.sequence.contains(code):
         raise ReplayError(f"counterexample code {code} is not in the sequence ({check.sequence.describe()})")
-    ref = reference_next(check, code, inputs)
-    if ref != expected:
-        raise ReplayError(f"at code {code} the rules give {ref}, the SAT problem said {expected}")
     details = {"engine": "sat", "expected": expected, "actual": actual, "solver": opts.solver,
                "vars": sat.nvars, "clauses": sat.nclauses}
     lines = trace_lines(check, trace)
-    if fault:
-        hit_by_sat = [n for n, l in p.faults if sat.value(l)]
+    if q.kind == "fault":
+        by_sat = [n for n, l in p.faults if sat.value(l)]
         _, _, hit = check.design.model.step(state, inputs)
-        if not hit or hit_by_sat[0] not in hit:
-            raise ReplayError(f"the simulator does not report the SR fault of {hit_by_sat[0]} at code {code}")
-        details["fault"] = hit_by_sat[0]
-        summary = f"SR flop {hit_by_sat[0]} has s = r = 1 at code {code}"
-        lines.append(f"SR flop {hit_by_sat[0]}: s = 1 and r = 1 at code {code} (a fault)")
+        if not by_sat or by_sat[0] not in hit:
+            raise ReplayError(f"the simulator does not report the SR fault the SAT problem found at code {code}")
+        details["fault"] = by_sat[0]
+        summary = f"SR flop {by_sat[0]} has s = r = 1 at code {code}"
+        lines.append(f"SR flop {by_sat[0]}: s = 1 and r = 1 at code {code} (a fault)")
         if expected is not None:
             lines.append(f"expected {expected}, got {actual}")
     else:
-        if ref == actual:
+        if expected == actual:
             raise ReplayError(f"at code {code} the simulator's next code {actual} is what the rules say")
         summary = f"code {code} goes to {actual}, the rules say {expected}"
         lines.append(f"expected {expected}, got {actual}")
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=lines)
 
 
-def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+def prove(check: Check, claim: Claim, opts: Options, budget: Budget, split: bool = True) -> Result:
     """Prove or refute the count claim: from every code of the sequence, under
     every input the rules decide, the next code is the rules' one, and no SR
-    fault occurs in a code of the sequence. UNSAT of both questions is the proof."""
+    fault occurs in a code of the sequence. UNSAT of every question is the proof."""
     seq = check.sequence
     assert seq is not None
     with Sat(opts.solver) as sat:
-        p = build_count(check, sat)
-        base = {"engine": "sat", "solver": opts.solver, "vars": sat.nvars, "clauses": sat.nclauses}
-        for fault, question in ((False, p.mismatch_question()), (True, p.fault_question())):
-            if question is None:
-                continue
+        p = build_count(check, sat, split)
+        details = {"engine": "sat", "solver": opts.solver, "vars": sat.nvars, "clauses": sat.nclauses,
+                   "questions": len(p.questions)}
+        for k, q in enumerate(p.questions):
             if budget.expired():
-                return make_result(check, claim, OPEN, "ran out of time before the SAT question was answered",
-                                   details=dict(base, depth=None))
-            if sat.solve(question):
-                return _refute(check, claim, p, opts, fault)
-            budget.report(stage="fault" if fault else "mismatch")
-        base["solve_seconds"] = round(sat.solve_seconds, 6)
+                return make_result(check, claim, OPEN, f"ran out of time after {k} of {len(p.questions)} SAT questions",
+                                   details=dict(details, depth=None))
+            if sat.solve(q.assumptions):
+                return _refute(check, claim, p, q, opts)
+            budget.report(questions_answered=k + 1)
+        details["solve_seconds"] = round(sat.solve_seconds, 6)
         return make_result(check, claim, PROVED,
                            f"every code of the sequence ({seq.describe()}) steps as the rules say",
-                           details=base)
+                           details=details)
