@@ -114,7 +114,7 @@ def _u64(codes: np.ndarray, width: int) -> np.ndarray:
 def _count_text(n: int) -> str:
     """A count for people: exact when short, as a power when it is one."""
     if n < 10**12:
-        return f"{n:,}".replace(",", " ") if n >= 10**5 else str(n)
+        return str(n)
     if n & (n - 1) == 0:
         return f"2^{n.bit_length() - 1}"
     if (n + 1) & n == 0:
@@ -946,20 +946,20 @@ def _make_lfsr(args: list[int | str], width: int) -> Sequence:
 
     tap_mask = _tap_mask(taps)
     orbit = [start]
+    seen = {start}
     c = _lfsr_step(start, tap_mask, width)
     while c != start:
+        if c in seen or (len(orbit) == LIST_LIMIT and not _lfsr_periodic(start, taps, width)):
+            raise SequenceError(f"{label} never comes back to {start} ({why})", where)
         if len(orbit) == LIST_LIMIT:
-            if _lfsr_periodic(start, taps, width):
-                raise SequenceError(
-                    f"{label} runs longer than {LIST_LIMIT} codes before it comes back to {start}; "
-                    f"an lfsr that is not of maximal length is listed code by code, at most {LIST_LIMIT}",
-                    where)
-            break
+            raise SequenceError(
+                f"{label} runs longer than {LIST_LIMIT} codes before it comes back to {start}; "
+                f"an lfsr that is not of maximal length is listed code by code, at most {LIST_LIMIT}",
+                where)
         orbit.append(c)
+        seen.add(c)
         c = _lfsr_step(c, tap_mask, width)
-    else:
-        return ListSequence("lfsr", width, tuple(orbit), label)
-    raise SequenceError(f"{label} never comes back to {start} ({why})", where)
+    return ListSequence("lfsr", width, tuple(orbit), label)
 
 
 def _lfsr_periodic(start: int, taps: list[int], width: int) -> bool:
