@@ -163,11 +163,15 @@ def build_count(check: Check, sat: Sat, split: bool = True) -> CountProblem:
         for k, region, target in regions(check):
             fixed: dict[str, int] = {}
             rest: list[int] = []
+            empty = False
             for c in _conjuncts(aig, region):
                 if aig.is_leaf(c >> 1) and (c >> 1) in input_of:
-                    fixed[input_of[c >> 1]] = 1 - (c & 1)
+                    n, v = input_of[c >> 1], 1 - (c & 1)
+                    empty |= fixed.setdefault(n, v) != v
                 else:
                     rest.append(c)
+            if empty:
+                continue  # the region asks an input to be 0 and 1: no input is in it
             leaf_map = dict(identity)
             for l, n in zip(model.input_lits, model.inputs):
                 if n in fixed:
@@ -249,7 +253,7 @@ def inputs_text(check: Check, inputs: dict[str, int]) -> str:
 def trace_lines(check: Check, trace: list[TraceEntry]) -> list[str]:
     """A trace as a small table: clock, code in binary and decimal, inputs."""
     w = check.width
-    rows = [("clock", "code", "", "inputs")]
+    rows = [("clock", "code", "decimal", "inputs")]
     for t in trace:
         rows.append((str(t.clock), format(t.code, f"0{w}b"), str(t.code),
                      "" if t.inputs is None else inputs_text(check, t.inputs)))
