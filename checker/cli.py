@@ -288,8 +288,8 @@ def cmd_cnf(args) -> int:
         stats = export_cnf(chk, claims[0], args.output)
     except ValueError as e:
         raise InputError(claims[0].pos, str(e)) from None
-    _emit(stats, args.json, f"wrote {args.output}: {stats.get('vars')} variables, {stats.get('clauses')} clauses; "
-                            f"{stats.get('meaning', '')}")
+    _emit(stats, args.json, f"wrote {args.output}: {stats.get('vars')} variables, {stats.get('clauses')} clauses "
+                            "(satisfiable means refuted, unsatisfiable proved; the header says more)")
     return 0
 
 

@@ -207,12 +207,13 @@ def _pairs(classes: list[list[tuple[int, int]]]) -> list[tuple[int, int, int]]:
 
 
 def _split(classes: list[list[tuple[int, int]]], value) -> list[list[tuple[int, int]]]:
-    """Refine classes by one assignment (``value(node) -> 0/1``)."""
+    """Refine classes: members stay together only when ``value(node, phase)``
+    (the node's sample bits, complemented when its phase is 1) agree."""
     out = []
     for c in classes:
         parts: dict[int, list[tuple[int, int]]] = {}
         for n, p in c:
-            parts.setdefault(value(n) ^ p, []).append((n, p))
+            parts.setdefault(value(n, p), []).append((n, p))
         out.extend(g for g in parts.values() if len(g) > 1)
     return out
 
@@ -245,7 +246,7 @@ def signal_correspondence(model: Model, init: list[int], bad: int, budget: Budge
             res.rounds += 1
             if not fr.sat.solve([any_lit(fr.sat, [-fr.eq("base", *p) for p in pairs])]):
                 break
-            classes = _split(classes, lambda n: fr.sat.value(fr.lit("base", n)))
+            classes = _split(classes, lambda n, p: fr.sat.value(fr.lit("base", n)) ^ p)
         # step: holding now, they hold at the next clock (van Eijk's fixpoint)
         while classes:
             if budget.expired():
@@ -275,9 +276,6 @@ def _refine_step(model: Model, fr: _Frames, classes, rng: random.Random):
     there is a valid witness against a candidate.
     """
     sat = fr.sat
-    classes = _split(classes, lambda n: sat.value(fr.lit("step", n)))
-    if not classes:
-        return classes
     width = 64
     ones = (1 << width) - 1
     st = [sat.value(v) for v in fr.free.state(1)]
@@ -286,11 +284,8 @@ def _refine_step(model: Model, fr: _Frames, classes, rng: random.Random):
         leaves[l >> 1] = rng.getrandbits(width)
     members = sorted({n for c in classes for n, _ in c})
     vals = dict(zip(members, evaluate(model.aig, leaves, [2 * n for n in members], ones)))
-    for bit in range(width):
-        classes = _split(classes, lambda n: (vals[n] >> bit) & 1)
-        if not classes:
-            break
-    return classes
+    # one key per node: the solver's value as bit 64, then 64 random inputs
+    return _split(classes, lambda n, p: ((sat.value(fr.lit("step", n)) << width) | vals[n]) ^ (p * ((ones << 1) | 1)))
 
 
 # --- explicit product-machine search ----------------------------------------
