@@ -25,6 +25,9 @@ class InputError(Exception):
         self.pos = pos
         self.message = message
 
+    def __reduce__(self):  # keeps the error intact across the timeout's child process
+        return (InputError, (self.pos, self.message))
+
     def to_json(self) -> dict:
         return {"error": {"file": self.pos.file, "line": self.pos.line,
                           "col": self.pos.col, "message": self.message}}

@@ -93,6 +93,7 @@ class Pdr:
         self.acts: list[int] = [0]
         self.depth = 0
         self.counter = itertools.count()
+        self._sets: dict[Cube, frozenset] = {}
 
     # --- frames ---------------------------------------------------------
     def _add_level(self) -> None:
@@ -106,8 +107,9 @@ class Pdr:
         return self.acts[i:]
 
     def _block_at(self, cube: Cube, level: int) -> None:
+        cs = frozenset(cube)
         for j in range(1, level + 1):
-            self.levels[j] = [c for c in self.levels[j] if not set(cube) <= set(c)]
+            self.levels[j] = [c for c in self.levels[j] if not cs <= self._sets.setdefault(c, frozenset(c))]
         self.levels[level].append(cube)
         self.t.sat.add([-self.acts[level]] + [-self.t.now(l) for l in cube])
 

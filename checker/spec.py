@@ -175,10 +175,10 @@ def _same_names(c: P.EqualStmt, a: Design, b: Design, paired: bool) -> None:
         only_b = [n for n in xb if n not in set(xa)]
         if only_a or only_b:
             parts = []
-            if only_a:
-                parts.append(f"only in {a.name}: {', '.join(only_a[:8])}{' ...' if len(only_a) > 8 else ''}")
-            if only_b:
-                parts.append(f"only in {b.name}: {', '.join(only_b[:8])}{' ...' if len(only_b) > 8 else ''}")
+            for d, only in ((a, only_a), (b, only_b)):
+                if only:
+                    more = f" and {len(only) - 8} more" if len(only) > 8 else ""
+                    parts.append(f"only in {d.name}: {', '.join(only[:8])}{more}")
             diffs.append(f"{what} differ ({'; '.join(parts)})")
     if diffs:
         raise InputError(c.pos, f"equal {b.name}: " + "; ".join(diffs))

@@ -1,0 +1,515 @@
+"""The equal claim: two designs behave the same.
+
+``equal D`` and ``equal D on sequence`` pair flops and inputs by name and ask
+one SAT question, a miter: is there a state (every state, or a code of the
+sequence) and an input under which some next-state bit or some output
+differs? Both designs are copied into one and-inverter graph over shared
+leaves, so logic they share becomes one node and needs no clause.
+
+``equal D after COND`` pairs nothing. One clock under COND must drive each
+design into one state from every state (a SAT question over two copies of
+each design). From that pair of reset states the outputs must agree under
+every input sequence: a sequential equivalence question on the product
+machine, answered by bounded model checking (Biere et al. 1999) for
+counterexamples, signal correspondence (van Eijk 2000) for proofs, and
+IC3/PDR (Bradley 2011) strengthened with the correspondences where they are
+not enough.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+
+from ..budget import Budget
+from ..correspond import (Product, bmc, explicit_search, product, signal_correspondence,
+                          simulate_inputs)
+from ..elaborate import Check, Claim, Design
+from ..errors import InputError
+from ..model import FALSE, TRUE, Aig
+from ..simulate import eval_states, leaf_arrays
+from ..pdr import Pdr, check_invariant
+from ..sat import Encoder, Sat, any_lit, equal_lit
+from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
+from .common import Options, ReplayError, make_result, replay
+
+UNUSED_LIMIT = 256  # unused codes enumerated by blocking clauses
+UNUSED_SHOWN = 16
+EXHAUSTIVE_BITS = 22  # engine 'explicit' on paired forms: at most 2^22 (state, input) points
+BMC_FIRST = 16  # clocks of BMC before the proof engines run
+
+
+# --- flop-paired miter --------------------------------------------------------
+@dataclass
+class PairedMiter:
+    """Two designs over shared state and input variables (paired by name).
+
+    ``diffs`` lists (kind 'flop'|'output', name, solver literal that is 1 when
+    the two designs differ there); ``differ`` is their disjunction. ``restrict``
+    is the solver literal of an extra condition built in A's graph (1 when none).
+    """
+
+    sat: Sat
+    aig: Aig
+    state_vars: dict[str, int]
+    input_vars: dict[str, int]
+    diffs: list[tuple[str, str, int]]
+    differ: int
+    restrict: int
+    enc: Encoder = field(repr=False, default=None)  # type: ignore[assignment]
+    env: int = 0
+
+    def read(self) -> tuple[dict[str, int], dict[str, int]]:
+        """(state, inputs) of the last model."""
+        v = self.sat.value
+        return ({n: v(x) for n, x in self.state_vars.items()}, {n: v(x) for n, x in self.input_vars.items()})
+
+
+def paired_miter(a: Design, b: Design, solver: str, restrict: Optional[int] = None) -> PairedMiter:
+    """The miter of ``a`` and ``b`` with flops and inputs shared by name.
+
+    ``restrict`` is a literal of ``a``'s graph over its flops (for example the
+    sequence's membership); it becomes ``PairedMiter.restrict``.
+    """
+    ma, mb = a.model, b.model
+    aig = Aig()
+    leaves = {n: aig.leaf(n) for n in ma.inputs + [s for s in mb.inputs if s not in ma.inputs]}
+    for n in ma.states + [s for s in mb.states if s not in ma.states]:
+        leaves[n] = aig.leaf(n)
+
+    def copy(m, roots):
+        lm = {l >> 1: leaves[n] for n, l in zip(m.inputs + m.states, m.input_lits + m.state_lits)}
+        return m.aig.copy_into(aig, roots, lm)
+
+    extra = [] if restrict is None else [restrict]
+    ca = copy(ma, ma.next_lits + ma.output_lits + extra)
+    cb = copy(mb, mb.next_lits + mb.output_lits)
+    na, nb = len(ma.states), len(mb.states)
+    a_next, a_out = dict(zip(ma.states, ca[:na])), dict(zip(ma.outputs, ca[na:na + len(ma.outputs)]))
+    b_next, b_out = dict(zip(mb.states, cb[:nb])), dict(zip(mb.outputs, cb[nb:]))
+    xors = [("flop", n, aig.xor(a_next[n], b_next[n])) for n in ma.states if n in b_next]
+    xors += [("output", n, aig.xor(a_out[n], b_out[n])) for n in ma.outputs if n in b_out]
+    sat = Sat(solver)
+    enc = Encoder(aig, sat)
+    var = {n: sat.new_var(n) for n in leaves}
+    env = enc.new_env({l >> 1: var[n] for n, l in leaves.items()})
+    diffs = [(k, n, enc.lit(env, x)) for k, n, x in xors if x != FALSE]
+    differ = any_lit(sat, [d for _, _, d in diffs]) if diffs else -sat.true
+    rlit = enc.lit(env, ca[-1]) if restrict is not None else sat.true
+    svars = {n: var[n] for n in ma.states}
+    ivars = {n: var[n] for n in ma.inputs}
+    return PairedMiter(sat, aig, svars, ivars, diffs, differ, rlit, enc, env)
+
+
+def code_indices(check: Check) -> list[int]:
+    """State indices of the check's code; all flops in declaration order without a code line."""
+    return list(check.code) if check.code else list(range(len(check.design.model.states)))
+
+
+def _code(names: list[str], idx: list[int], state: dict[str, int]) -> int:
+    v = 0
+    for i in idx:
+        v = (v << 1) | (state[names[i]] & 1)
+    return v
+
+
+def differences(a: Design, b: Design, state: dict[str, int], inputs: dict[str, int]) -> tuple[list[str], list[str]]:
+    """(flops whose next values differ, outputs that differ) at one state and input, by simulation."""
+    na, oa, _ = a.model.step(state, inputs)
+    nb, ob, _ = b.model.step({n: state.get(n, 0) for n in b.model.states}, inputs)
+    return [n for n in a.model.states if n in nb and na[n] != nb[n]], [n for n in a.model.outputs if n in ob and oa[n] != ob[n]]
+
+
+def _paired_trace(check: Check, b: Design, state: dict[str, int], inputs: dict[str, int]) -> list[TraceEntry]:
+    """A one-clock trace in both designs, replayed in both."""
+    a = check.design
+    idx = code_indices(check)
+    bidx = [b.model.states.index(a.model.states[i]) for i in idx]
+    na, _, _ = a.model.step(state, inputs)
+    nb, _, _ = b.model.step(state, inputs)
+    trace = [TraceEntry(0, _code(a.model.states, idx, state), dict(inputs), _code(b.model.states, bidx, state)),
+             TraceEntry(1, _code(a.model.states, idx, na), None, _code(b.model.states, bidx, nb))]
+    replay(a, check, trace, code=idx)
+    replay(b, check, [TraceEntry(t.clock, t.other_code, t.inputs) for t in trace], code=bidx)
+    flops, outs = differences(a, b, state, inputs)
+    if not flops and not outs:
+        raise ReplayError(f"{a.name} and {b.name} agree at code {trace[0].code} under the miter's inputs")
+    return trace
+
+
+def _unused_codes(m: PairedMiter, check: Check, budget: Budget) -> tuple[list[int], bool]:
+    """Codes where the designs differ, by blocking clauses; (codes, complete)."""
+    names = check.design.model.states
+    idx = code_indices(check)
+    bits = [m.state_vars[names[i]] for i in idx]
+    codes: list[int] = []
+    while len(codes) < UNUSED_LIMIT:
+        if budget.expired():
+            return sorted(codes), False
+        if not m.sat.solve([m.differ]):
+            return sorted(codes), True
+        vals = [m.sat.value(x) for x in bits]
+        codes.append(int("".join(map(str, vals)), 2) if vals else 0)
+        m.sat.add([-x if v else x for x, v in zip(bits, vals)])
+    return sorted(codes), not m.sat.solve([m.differ])
+
+
+def exhaustive_paired(check: Check, b: Design, chunk: int = 1 << 16) -> Optional[tuple[np.ndarray, np.ndarray]]:
+    """Every (code, input) point where ``check.design`` and ``b`` differ, by
+    bit-parallel simulation of both designs over all states and inputs; None
+    when they are more than EXHAUSTIVE_BITS bits. Returns (codes, input
+    codes) of the differing points: codes over the check's code, inputs
+    over the inputs in declaration order, most significant first."""
+    ma, mb = check.design.model, b.model
+    idx = code_indices(check)
+    ns, ni = len(idx), len(ma.inputs)
+    if ns + ni > EXHAUSTIVE_BITS:
+        return None
+    bidx = [mb.states.index(ma.states[i]) for i in idx]
+    codes_out, ins_out = [], []
+    total = 1 << (ns + ni)
+    for lo in range(0, total, chunk):
+        pts = np.arange(lo, min(total, lo + chunk), dtype=np.uint64)
+        codes, ins = pts >> np.uint64(ni), pts & np.uint64((1 << ni) - 1)
+        inputs = {n: ((ins >> np.uint64(ni - 1 - k)) & np.uint64(1)).astype(bool) for k, n in enumerate(ma.inputs)}
+        va = eval_states(ma, ma.next_lits + ma.output_lits, leaf_arrays(ma, idx, codes, inputs), len(pts))
+        vb = eval_states(mb, mb.next_lits + [mb.output_lits[mb.outputs.index(o)] for o in ma.outputs],
+                         leaf_arrays(mb, bidx, codes, inputs), len(pts))
+        nb = [vb[mb.states.index(q)] for q in ma.states] + vb[len(mb.states):]
+        bad = np.zeros(len(pts), dtype=bool)
+        for x, y in zip(va, nb):
+            bad |= x ^ y
+        codes_out.append(codes[bad])
+        ins_out.append(ins[bad])
+    return np.concatenate(codes_out), np.concatenate(ins_out)
+
+
+def _prove_exhaustive(check: Check, claim: Claim, b: Design, opts: Options) -> Optional[Result]:
+    got = exhaustive_paired(check, b)
+    if got is None:
+        return None
+    a, seq = check.design, check.sequence
+    on_seq = claim.mode == "sequence"
+    codes, ins = got
+    member = seq.member_array(codes) if seq is not None else np.ones(len(codes), dtype=bool)
+    details: dict = {"engine": "exhaustive simulation", "points": 1 << (len(code_indices(check)) + len(a.model.inputs))}
+    where = f"in every code of the sequence ({seq.describe()})" if on_seq else "in every state"
+    pick = np.flatnonzero(member) if (on_seq or member.any()) else np.arange(len(codes))
+    if not len(pick):
+        return make_result(check, claim, PROVED, f"{a.name} and {b.name} have the same next state and outputs {where}",
+                           details=details)
+    j = int(pick[0])
+    idx = code_indices(check)
+    w = len(idx)
+    state = {a.model.states[i]: (int(codes[j]) >> (w - 1 - k)) & 1 for k, i in enumerate(idx)}
+    ni = len(a.model.inputs)
+    inputs = {n: (int(ins[j]) >> (ni - 1 - k)) & 1 for k, n in enumerate(a.model.inputs)}
+    lines: list[str] = []
+    if not on_seq and seq is not None and not member.any():
+        unused = sorted({int(c) for c in codes})
+        details.update({"only_unused": True, "unused_codes": unused[:UNUSED_LIMIT], "unused_count": len(unused),
+                        "unused_count_exact": True})
+        lines = _unused_lines(b, unused, True)
+    return _refuted_paired(check, claim, b, state, inputs, details, lines)
+
+
+def _prove_paired(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+    a, b = check.design, claim.other
+    assert b is not None
+    on_seq = claim.mode == "sequence"
+    seq = check.sequence
+    if opts.engine == "explicit":
+        done = _prove_exhaustive(check, claim, b, opts)
+        if done is not None:
+            return done
+    member = seq.member(a.model.aig, check.code_lits()) if seq is not None else None
+    m = paired_miter(a, b, opts.solver, member)
+    where = f"in every code of the sequence ({seq.describe()})" if on_seq else "in every state"
+    try:
+        details = {"engine": "sat miter", "solver": opts.solver, "compared": len(m.diffs)}
+        assume = [m.differ] + ([m.restrict] if on_seq else [])
+        if not m.sat.solve(assume):
+            return make_result(check, claim, PROVED, f"{a.name} and {b.name} have the same next state and outputs {where}",
+                               details=details)
+        if on_seq or seq is None:
+            return _refuted_paired(check, claim, b, *m.read(), details, [])
+        state, inputs = m.read()
+        if m.sat.solve([m.differ, m.restrict]):
+            return _refuted_paired(check, claim, b, *m.read(), details, [])
+        # differs, but never in a code of the sequence: only on unused codes
+        codes, complete = _unused_codes(m, check, budget)
+        details.update({"only_unused": True, "unused_codes": codes, "unused_count": len(codes),
+                        "unused_count_exact": complete})
+        return _refuted_paired(check, claim, b, state, inputs, details, _unused_lines(b, codes, complete))
+    finally:
+        m.sat.close()
+
+
+def _unused_lines(b: Design, codes: list[int], complete: bool) -> list[str]:
+    shown = ", ".join(map(str, codes[:UNUSED_SHOWN]))
+    more = "" if len(codes) <= UNUSED_SHOWN else f" ... ({len(codes) - UNUSED_SHOWN} more)"
+    count = f"{len(codes)}" if complete else f"at least {len(codes)}"
+    return [f"the designs agree on every code of the sequence; they differ only on unused codes ({count}): {shown}{more}",
+            f"that matters for lockout: recovery from unused codes may differ from {b.name}'s"]
+
+
+def _refuted_paired(check: Check, claim: Claim, b: Design, state, inputs, details: dict, lines: list[str]) -> Result:
+    a = check.design
+    trace = _paired_trace(check, b, state, inputs)
+    flops, outs = differences(a, b, state, inputs)
+    details = dict(details, flops_differ=flops, outputs_differ=outs)
+    c = trace[0].code
+    what = []
+    if flops:
+        what.append(f"{a.name} goes to {trace[1].code}, {b.name} to {trace[1].other_code}")
+    if outs:
+        what.append(f"output{'s' if len(outs) > 1 else ''} {', '.join(outs[:6])}{' ...' if len(outs) > 6 else ''} differ{'' if len(outs) > 1 else 's'}")
+    summary = f"at code {c} under {_inputs_text(inputs)}: {'; '.join(what)}"
+    if details.get("only_unused"):
+        summary += " (an unused code: the designs agree on the sequence)"
+    ev = [f"clock 0: code {c} ({b.name}: {trace[0].other_code}), inputs {_inputs_text(inputs)}",
+          f"clock 1: {a.name} goes to {trace[1].code}, {b.name} to {trace[1].other_code}"]
+    if outs:
+        ev.append("outputs that differ at clock 0: " + ", ".join(outs))
+    return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev + lines)
+
+
+def _inputs_text(inputs: dict[str, int]) -> str:
+    return " ".join(f"{n}={v}" for n, v in inputs.items()) or "-"
+
+
+# --- equal after COND --------------------------------------------------------
+@dataclass
+class Reset:
+    """The outcome of one clock under COND from every state of one design.
+
+    ``state``: the single state reached (bits in ``model.states`` order), or
+    None; ``undetermined``: flops that can end up 0 or 1; ``runs``: two
+    (state, inputs) pairs that end in different states; ``inputs``: an input
+    meeting COND.
+    """
+
+    state: Optional[list[int]]
+    undetermined: list[str]
+    runs: list[tuple[dict[str, int], dict[str, int]]]
+    inputs: dict[str, int]
+
+
+def reset_state(design: Design, cond: int, solver: str, budget: Budget) -> Optional[Reset]:
+    """Does one clock with inputs meeting ``cond`` drive ``design`` into one state
+    from every state? Two copies from free states under free inputs meeting
+    ``cond``: UNSAT of 'some next-state bit differs' proves it. Otherwise the
+    undetermined flops are collected by asking again for a flop not yet seen
+    differing. None: no input meets ``cond``."""
+    m = design.model
+    with Sat(solver) as sat:
+        enc = Encoder(m.aig, sat)
+        copies = []
+        for _ in range(2):
+            leaves = {l >> 1: sat.new_var() for l in m.state_lits + m.input_lits}
+            e = enc.new_env(leaves)
+            sat.add([enc.lit(e, cond)])
+            copies.append((e, enc.lits(e, m.next_lits)))
+        (e1, n1), (e2, n2) = copies
+        if not sat.solve():
+            return None
+
+        def read(e):
+            st = {n: sat.value(enc.lit(e, l)) for n, l in zip(m.states, m.state_lits)}
+            ins = {n: sat.value(enc.lit(e, l)) for n, l in zip(m.inputs, m.input_lits)}
+            return st, ins
+
+        first_inputs = read(e1)[1]
+        reset = [sat.value(x) for x in n1]
+        diff = {n: -equal_lit(sat, x, y) for n, x, y in zip(m.states, n1, n2)}
+        seen: list[str] = []
+        runs: list = []
+        while True:
+            if budget.expired():
+                raise _OutOfTime
+            left = [d for n, d in diff.items() if n not in seen]
+            if not left or not sat.solve([any_lit(sat, left)]):
+                break
+            if not runs:
+                runs = [read(e1), read(e2)]
+            seen += [n for n, d in diff.items() if n not in seen and sat.value(d)]
+        order = [n for n in m.states if n in seen]
+        return Reset(None if order else reset, order, runs, first_inputs)
+
+
+class _OutOfTime(Exception):
+    pass
+
+
+def _prove_after(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+    a, b = check.design, claim.other
+    assert b is not None and claim.cond is not None and claim.other_cond is not None
+    try:
+        ra = reset_state(a, claim.cond, opts.solver, budget)
+        rb = reset_state(b, claim.other_cond, opts.solver, budget)
+    except _OutOfTime:
+        return make_result(check, claim, OPEN, "ran out of time deciding whether the condition resets both designs",
+                           details={"depth": 0})
+    if ra is None or rb is None:
+        raise InputError(claim.pos, f"no input meets the condition of 'equal {b.name} after'")
+    if ra.state is None or rb.state is None:
+        return _undetermined(check, claim, b, ra, rb)
+    prod = product(a.model, b.model)
+    init = ra.state + rb.state
+    res = after_engines(prod, init, opts, budget)
+    details = {"engine": res.engine, "depth": res.depth, "reset_code": _code(a.model.states, code_indices(check), dict(zip(a.model.states, ra.state))),
+               "other_reset_code": _code(b.model.states, list(range(len(b.model.states))), dict(zip(b.model.states, rb.state)))}
+    details.update(res.details)
+    if res.status == PROVED:
+        return make_result(check, claim, PROVED,
+                           f"after one clock with the condition, {a.name} and {b.name} give the same outputs under every input sequence"
+                           f" ({res.engine})", details=details)
+    if res.status == OPEN:
+        return make_result(check, claim, OPEN, f"outputs agree for the first {res.depth} clocks after the condition; no proof within the budget",
+                           details=details)
+    assert res.inputs is not None
+    trace, outs = _after_trace(check, b, prod, init, ra.inputs, res.inputs)
+    details["outputs_differ"] = outs
+    details.pop("depth", None)
+    summary = (f"output{'s' if len(outs) > 1 else ''} {', '.join(outs)} of {a.name} and {b.name} differ{'' if len(outs) > 1 else 's'}"
+               f" at clock {trace[-1].clock} (the condition applied at clock 0)")
+    ev = [f"clock 0: any state, inputs meeting the condition ({_inputs_text(ra.inputs)})"]
+    ev += [f"clock {t.clock}: code {t.code} ({b.name}: {t.other_code}), inputs {_inputs_text(t.inputs or {})}" for t in trace[1:]]
+    ev.append(f"outputs that differ at clock {trace[-1].clock}: {', '.join(outs)}")
+    return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev)
+
+
+def _undetermined(check: Check, claim: Claim, b: Design, ra: Reset, rb: Reset) -> Result:
+    a = check.design
+    bad = ra if ra.state is None else rb
+    badd = a if ra.state is None else b
+    (s1, i1), (s2, i2) = bad.runs
+    runs = []
+    for st, ins in ((s1, i1), (s2, i2)):
+        sa = st if badd is a else {n: 0 for n in a.model.states}
+        sb = st if badd is b else {n: 0 for n in b.model.states}
+        runs.append(_after_prefix(check, b, sa, sb, ins))
+    undet = {d.name: r.undetermined for d, r in ((a, ra), (b, rb)) if r.state is None}
+    names = "; ".join(f"{d}: {', '.join(f[:8])}{' ...' if len(f) > 8 else ''}" for d, f in undet.items())
+    summary = f"one clock with the condition does not settle every flop ({names})"
+    details = {"undetermined": undet, "second_trace": [t.to_json() for t in runs[1]]}
+    ev = [f"{d}: flops left undetermined: {', '.join(f)}" for d, f in undet.items()]
+    ev.append(f"two runs of {badd.name} under the condition end in different states (trace and second_trace)")
+    return make_result(check, claim, REFUTED, summary, trace=runs[0], details=details, evidence=ev)
+
+
+def _after_prefix(check: Check, b: Design, sa: dict[str, int], sb: dict[str, int], ins: dict[str, int]) -> list[TraceEntry]:
+    """One clock from (sa, sb) under ``ins``, replayed in both designs."""
+    a = check.design
+    idx = code_indices(check)
+    bidx = list(range(len(b.model.states)))
+    na, _, _ = a.model.step(sa, ins)
+    nb, _, _ = b.model.step(sb, ins)
+    trace = [TraceEntry(0, _code(a.model.states, idx, sa), dict(ins), _code(b.model.states, bidx, sb)),
+             TraceEntry(1, _code(a.model.states, idx, na), None, _code(b.model.states, bidx, nb))]
+    replay(a, check, trace, code=idx)
+    replay(b, check, [TraceEntry(t.clock, t.other_code, t.inputs) for t in trace], code=bidx)
+    return trace
+
+
+def _after_trace(check: Check, b: Design, prod: Product, init: list[int], cond_inputs: dict[str, int],
+                 inputs: list[dict[str, int]]) -> tuple[list[TraceEntry], list[str]]:
+    """Clock 0 from all-zero states under the condition, then ``inputs``; replayed in both designs."""
+    a = check.design
+    ma, mb = a.model, b.model
+    idx = code_indices(check)
+    bidx = list(range(len(mb.states)))
+    states = simulate_inputs(prod.model, init, inputs[:-1])
+    na = prod.na
+    trace = [TraceEntry(0, 0, dict(cond_inputs), 0)]
+    for t, (st, ins) in enumerate(zip(states, inputs)):
+        sa = dict(zip(ma.states, st[:na]))
+        sb = dict(zip(mb.states, st[na:]))
+        trace.append(TraceEntry(t + 1, _code(ma.states, idx, sa), dict(ins), _code(mb.states, bidx, sb)))
+    replay(a, check, trace, code=idx)
+    replay(b, check, [TraceEntry(t.clock, t.other_code, t.inputs) for t in trace], code=bidx)
+    last = states[-1]
+    _, oa, _ = ma.step(dict(zip(ma.states, last[:na])), inputs[-1])
+    _, ob, _ = mb.step(dict(zip(mb.states, last[na:])), inputs[-1])
+    outs = [n for n in ma.outputs if n in ob and oa[n] != ob[n]]
+    if not outs:
+        raise ReplayError(f"the outputs of {a.name} and {b.name} agree at the end of the counterexample")
+    return trace, outs
+
+
+@dataclass
+class AfterResult:
+    """What the sequential engines found: status, the engine that decided, depth."""
+
+    status: str
+    engine: str
+    depth: int
+    inputs: Optional[list[dict[str, int]]] = None
+    details: dict = field(default_factory=dict)
+
+
+def after_engines(prod: Product, init: list[int], opts: Options, budget: Budget,
+                  bmc_first: int = BMC_FIRST, correspondence: bool = True) -> AfterResult:
+    """Do the outputs of the product machine agree forever from ``init``?
+
+    BMC for ``bmc_first`` clocks, then signal correspondence (skipped when
+    ``correspondence`` is False), then IC3/PDR under the correspondences.
+    Proved only by a closed argument: an exhausted explicit search, an
+    inductive correspondence that implies the outputs agree, or a PDR
+    invariant that an independent check confirms.
+    """
+    m, bad = prod.model, prod.bad
+    depth = 0
+
+    def at(d: int) -> None:
+        nonlocal depth
+        depth = max(depth, d)
+        budget.report(depth=depth)
+
+    note: dict = {}
+    if opts.engine == "explicit":
+        ex = explicit_search(m, init, bad, budget=budget)
+        if ex is not None:
+            det = {"product_states": ex.states}
+            if ex.inputs is None:
+                return AfterResult(PROVED, "explicit product-machine search", ex.depth, details=det)
+            return AfterResult(REFUTED, "explicit product-machine search", len(ex.inputs) - 1, ex.inputs, det)
+        note = {"explicit": "the product machine is too large for explicit search; SAT engines used"}
+    r = bmc(m, init, bad, bmc_first, budget, opts.solver, at)
+    if r.inputs is not None:
+        return AfterResult(REFUTED, "bmc", len(r.inputs) - 1, r.inputs, dict(note))
+    if budget.expired():
+        return AfterResult(OPEN, "bmc", depth, details=dict(note))
+    constraint, det = TRUE, dict(note)
+    if correspondence:
+        sc = signal_correspondence(m, init, bad, budget, opts.solver)
+        det.update({"correspondences": len(sc.pairs), "candidates": sc.candidates, "refinement_rounds": sc.rounds})
+        if sc.status == "proved":
+            return AfterResult(PROVED, "signal correspondence", depth, details=det)
+        if sc.status == "open":
+            return AfterResult(OPEN, "signal correspondence", depth, details=det)
+        constraint = sc.constraint
+    p = Pdr(m, init, bad, constraint=constraint, solver=opts.solver, budget=budget).run(on_depth=at)
+    det.update({"pdr_frames": p.frames, "pdr_sat_calls": p.sat_calls})
+    if p.status == "proved":
+        if not check_invariant(m, init, bad, p.invariant, constraint, opts.solver):
+            raise AssertionError("IC3/PDR returned an invariant that does not check")
+        det["invariant_clauses"] = len(p.invariant)
+        name = "ic3/pdr with signal correspondence" if correspondence else "ic3/pdr"
+        return AfterResult(PROVED, name, max(depth, p.depth), details=det)
+    if p.status == "refuted":
+        assert p.inputs is not None
+        # the shortest counterexample, by BMC up to PDR's length
+        r = bmc(m, init, bad, len(p.inputs), Budget(), opts.solver)
+        inputs = r.inputs if r.inputs is not None else p.inputs
+        return AfterResult(REFUTED, "ic3/pdr, shortened by bmc", len(inputs) - 1, inputs, det)
+    return AfterResult(OPEN, "ic3/pdr", max(depth, p.depth), details=det)
+
+
+def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+    """Prove or refute one ``equal`` claim (see the module docstring)."""
+    if claim.mode == "after":
+        return _prove_after(check, claim, opts, budget)
+    return _prove_paired(check, claim, opts, budget)

@@ -1,0 +1,63 @@
+"""JUnit XML reports, so that a CI server shows one test per claim.
+
+One test suite per file, one test case per claim: classname ``FILE::CHECK``,
+name ``KIND line N``, time the claim's seconds. A refuted claim is a failure
+(message: the summary; body: the evidence lines and the trace). An open
+claim is *skipped*, not an error: it is neither proved nor refuted, and a CI
+server counts skipped tests apart from passed and failed ones, which is what
+``open`` means. Files that could not be read are one test case each, with an
+error.
+"""
+
+from __future__ import annotations
+
+import json
+from typing import Iterable, Optional, Sequence
+
+from junit_xml import TestCase, TestSuite, to_xml_report_string
+
+from ..verdict import OPEN, REFUTED, Result
+
+SUITE_PREFIX = "countersign"
+
+
+def _case(r: Result) -> TestCase:
+    tc = TestCase(name=f"{r.claim} line {r.line}", classname=f"{r.file}::{r.check}",
+                  elapsed_sec=round(r.seconds, 6), file=r.file, line=r.line)
+    body = list(r.evidence)
+    if r.trace:
+        body.append("trace: " + json.dumps([t.to_json() for t in r.trace]))
+    if r.status == REFUTED:
+        tc.add_failure_info(message=r.summary or "refuted", output="\n".join(body), failure_type="refuted")
+    elif r.status == OPEN:
+        if r.details.get("depth") is not None:
+            body.append(f"depth reached: {r.details['depth']}")
+        tc.add_skipped_info(message=f"open: {r.summary}" if r.summary else "open", output="\n".join(body))
+    else:
+        tc.stdout = r.summary or None
+    return tc
+
+
+def junit_suites(results: Iterable[Result], errors: Sequence[tuple[str, str]] = ()) -> list[TestSuite]:
+    """Test suites (one per file, in first-seen order) for ``results``;
+    ``errors`` are (file, message) pairs for inputs that could not be checked."""
+    by_file: dict[str, list[TestCase]] = {}
+    for r in results:
+        by_file.setdefault(r.file, []).append(_case(r))
+    for f, msg in errors:
+        tc = TestCase(name="read", classname=f"{f}::(file)", elapsed_sec=0.0, file=f)
+        tc.add_error_info(message=msg, error_type="input")
+        by_file.setdefault(f, []).append(tc)
+    return [TestSuite(f"{SUITE_PREFIX}:{f}", cases, file=f) for f, cases in by_file.items()]
+
+
+def junit_text(results: Iterable[Result], errors: Sequence[tuple[str, str]] = ()) -> str:
+    """The JUnit XML document as a string."""
+    return to_xml_report_string(junit_suites(results, errors), encoding="utf-8")
+
+
+def write_junit(results: Iterable[Result], path: str, errors: Optional[Sequence[tuple[str, str]]] = None) -> None:
+    """Write a JUnit XML report of ``results`` (one test case per claim) to ``path``."""
+    text = junit_text(list(results), errors or ())
+    with open(path, "w", encoding="utf-8") as f:
+        f.write(text)
