@@ -43,12 +43,13 @@ def names(path: str) -> dict[str, int]:
 def decode(path: str, model: list[int], check) -> tuple[int, dict[str, int]]:
     """The code and inputs of a model of the file, read through its header."""
     nm = names(path)
+    # a variable in no clause is free: the solver may not report it, any value will do
     val = {abs(l): int(l > 0) for l in model}
     states = check.design.model.states
     code = 0
     for i in check.code:
-        code = (code << 1) | val[nm[f"{states[i]}@0"]]
-    inputs = {n: val[nm[f"{n}@0"]] for n in check.design.model.inputs}
+        code = (code << 1) | val.get(nm[f"{states[i]}@0"], 0)
+    inputs = {n: val.get(nm[f"{n}@0"], 0) for n in check.design.model.inputs}
     return code, inputs
 
 
