@@ -93,7 +93,7 @@ def _find_check(prog, name: str, where: str):
 def cmd_map(args) -> int:
     from .api import load
     from .parse import parse_expr
-    from .recovery import format_map, recovery_map
+    from .recovery import map_lines, recovery_map
     from .spec import condition_literal
 
     opts = _options(args)
@@ -115,7 +115,7 @@ def cmd_map(args) -> int:
             Path(args.dot).write_text(dot, encoding="utf-8")
         if args.svg:
             render_svg(dot, args.svg)
-    _emit(result, args.json, format_map(chk, result))
+    _emit(result, args.json, "\n".join(map_lines(result)))
     if result.get("locked"):
         return 1
     return 3 if result.get("status") == "open" else 0

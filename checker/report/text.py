@@ -74,7 +74,7 @@ def format_results(results: Sequence[Result], widths: dict[tuple[str, str], int]
             w = widths.get((r.file, r.check), max(1, max(t.code for t in r.trace).bit_length()))
             out.extend("    " + l for l in trace_table(r.trace, w))
         for line in r.advice:
-            out.append("    hint: " + line)
+            out.append("    | " + line)
     c = summary_counts(results)
     out.append("")
     out.append(f"{len(results)} claim{'s' if len(results) != 1 else ''}: {c[PROVED]} proved, {c[REFUTED]} refuted, {c[OPEN]} open")

@@ -1,0 +1,900 @@
+"""Exhaustive search of a counter's state graph: every code, every admissible input.
+
+The successor relation is built bit-parallel: the and-inverter graph is
+evaluated over packed 64-bit words, one bit per (input row, code) sample, in
+chunks (:data:`CHUNK` samples at a time). From it, without a Python loop per
+code, :func:`analyse` computes for every unused code the exact worst number
+of clocks it needs to reach the sequence when the inputs are chosen at worst
+(the longest path in the successor graph restricted to unused codes), the
+codes that can stay unused forever, and every strongly connected set of
+unused codes that holds a cycle.
+
+In v1 ``code`` names every flop, so a code is the whole state; the engine
+refuses a check whose code leaves a flop out.
+
+Memory: the successor table takes 4 bytes per edge (one edge per code and
+admissible input row), at most :data:`EDGE_LIMIT` edges (128 MiB); the depth
+and cycle arrays add about 40 bytes per code when the inputs do not matter
+and about 24 bytes per edge when they do. At 2^24 codes with one input row
+the peak is about 0.8 GiB.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+
+from .budget import Budget
+from .elaborate import Check
+from .errors import InputError
+from .model import Aig, evaluate
+from .sat import Encoder, Sat
+from .simulate import eval_states
+
+MAX_WIDTH = 25
+"""Widest code the explicit engine takes."""
+
+EDGE_LIMIT = 1 << 25
+"""Most edges (codes times admissible input rows) the successor table may hold."""
+
+INPUT_BITS_LIMIT = 12
+"""Most input bits that may reach the next code (rows are their combinations)."""
+
+ENUMERATE_LIMIT = 20
+"""Most input bits enumerated at once to find the admissible rows."""
+
+CHUNK = 1 << 20
+"""Samples evaluated per bit-parallel pass (a multiple of 64)."""
+
+VECTOR_ROUNDS = 64
+"""Vectorised rounds a pass takes before a long thin remainder goes one code at a time."""
+
+QUEUE_FRONTIER = 256
+"""Below this many codes decided in a round (after VECTOR_ROUNDS rounds), depth goes by a work queue."""
+
+ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
+
+
+class OutOfBudget(Exception):
+    """The budget ran out during the exhaustive search; ``depth`` says how far it got."""
+
+    def __init__(self, depth: int) -> None:
+        super().__init__(f"out of time at depth {depth}")
+        self.depth = depth
+
+
+@dataclass
+class Rows:
+    """The admissible input rows: combinations of the input bits that reach the next code.
+
+    ``names`` are those bits; ``values[r]`` row r's bits (0/1, in ``names``
+    order); ``full[r]`` a complete input assignment that meets the condition
+    and agrees with row r (used in traces).
+    """
+
+    names: list[str]
+    values: list[list[int]]
+    full: list[dict[str, int]]
+
+    def __len__(self) -> int:
+        return len(self.values)
+
+
+@dataclass
+class Graph:
+    """The successor relation: ``succ[r, c]`` is the next code of ``c`` under row r."""
+
+    width: int
+    succ: np.ndarray  # (rows, 2^width) uint32
+    rows: Rows
+    member: np.ndarray  # bool, 2^width: in the sequence
+
+    @property
+    def size(self) -> int:
+        return 1 << self.width
+
+    @property
+    def deterministic(self) -> bool:
+        return self.succ.shape[0] == 1
+
+
+@dataclass
+class Analysis:
+    """What the exhaustive search decided about every code.
+
+    ``steps[c]``: 0 for a sequence code, the worst number of clocks to reach
+    the sequence for an unused code, -1 for one that can stay unused forever.
+    ``locked_sets``: every strongly connected set of unused codes that holds a
+    cycle, each sorted, the sets sorted. ``worst`` is None when some code can
+    stay unused forever; ``worst_code`` the smallest code attaining ``worst``.
+    """
+
+    graph: Graph
+    steps: np.ndarray
+    worst: Optional[int]
+    worst_code: Optional[int]
+    locked_sets: list[np.ndarray] = field(default_factory=list)
+    unused_count: int = 0
+    rounds: int = 0
+
+    @property
+    def locked(self) -> bool:
+        return bool(self.locked_sets)
+
+    def locked_json(self) -> list[list[int]]:
+        return [[int(c) for c in s] for s in self.locked_sets]
+
+
+# --- feasibility and admissible inputs -----------------------------------
+
+def _input_nodes(check: Check, roots: list[int]) -> list[int]:
+    m = check.design.model
+    leaves = {l >> 1 for l in m.input_lits}
+    return [n for n in m.aig.cone(roots) if n in leaves]
+
+
+def _names_of(check: Check, nodes: list[int]) -> list[str]:
+    m = check.design.model
+    by_node = {l >> 1: n for n, l in zip(m.inputs, m.input_lits)}
+    order = {n: i for i, n in enumerate(m.inputs)}
+    return sorted((by_node[n] for n in nodes), key=order.__getitem__)
+
+
+def feasible(check: Check, cond: int) -> tuple[bool, str]:
+    """Whether the explicit engine can take this check under ``cond``, and why not."""
+    require_whole_state(check)
+    w = check.width
+    if w > MAX_WIDTH:
+        return False, f"the code is {w} bits wide (the explicit engine takes up to {MAX_WIDTH})"
+    m = check.design.model
+    nxt = _input_nodes(check, [m.next_lits[i] for i in check.code])
+    if len(nxt) > INPUT_BITS_LIMIT:
+        return False, f"{len(nxt)} input bits reach the next code (the explicit engine enumerates up to {INPUT_BITS_LIMIT})"
+    bound = (1 << w) << len(nxt)
+    if bound > EDGE_LIMIT:
+        # the exact row count may be smaller: the condition can fix some inputs
+        rows = len(admissible_rows(check, cond))
+        if (1 << w) * rows > EDGE_LIMIT:
+            return False, f"2^{w} codes times {rows} input rows exceed the explicit engine's {EDGE_LIMIT:,} edges"
+    return True, ""
+
+
+def require_whole_state(check: Check) -> None:
+    """v1: the code names every flop, so a code is the whole state; refuse otherwise."""
+    n = len(check.design.model.states)
+    if sorted(check.code) != list(range(n)):
+        pos = check.code_pos or check.pos
+        raise InputError(pos, "recovery needs a code that names every flop of the design (v1)")
+
+
+def admissible_rows(check: Check, cond: int) -> Rows:
+    """Every combination of the inputs that reach the next code allowed by ``cond``.
+
+    A combination is admissible when some assignment of the other inputs
+    meets ``cond``. Raises :class:`ValueError` when ``cond`` holds for no input
+    at all (the caller turns that into an input error at the claim).
+    """
+    m = check.design.model
+    nxt_nodes = _input_nodes(check, [m.next_lits[i] for i in check.code])
+    cond_nodes = _input_nodes(check, [cond])
+    names = _names_of(check, nxt_nodes)
+    every = _names_of(check, sorted(set(nxt_nodes) | set(cond_nodes)))
+    lit_of = dict(zip(m.inputs, m.input_lits))
+    if len(every) <= ENUMERATE_LIMIT:
+        k = len(every)
+        n = 1 << k
+        idx = np.arange(n, dtype=np.uint32)
+        leaves = {lit_of[name] >> 1: ((idx >> np.uint32(j)) & np.uint32(1)).astype(bool)
+                  for j, name in enumerate(every)}
+        ok = eval_states(m, [cond], leaves, n)[0]
+        combos = np.flatnonzero(ok)
+        if combos.size == 0:
+            raise ValueError("no input meets the condition")
+        pos = [every.index(name) for name in names]
+        key = np.zeros(combos.size, dtype=np.uint32)
+        for j, p in enumerate(pos):
+            key |= ((combos >> p) & 1).astype(np.uint32) << np.uint32(j)
+        _, first = np.unique(key, return_index=True)
+        values, full = [], []
+        for c in combos[np.sort(first)]:
+            bits = {name: int((int(c) >> j) & 1) for j, name in enumerate(every)}
+            values.append([bits[name] for name in names])
+            full.append({name: bits.get(name, 0) for name in m.inputs})
+        return Rows(names, values, full)
+    # Too many condition inputs to enumerate: one SAT call per combination.
+    sat = Sat()
+    enc = Encoder(m.aig, sat)
+    env = enc.new_env({})
+    c_lit = enc.lit(env, cond)
+    in_lits = {name: enc.lit(env, lit_of[name]) for name in every}
+    values, full = [], []
+    for combo in range(1 << len(names)):
+        bits = [(combo >> j) & 1 for j in range(len(names))]
+        assume = [c_lit] + [in_lits[nm] if b else -in_lits[nm] for nm, b in zip(names, bits)]
+        if sat.solve(assume):
+            values.append(bits)
+            full.append({name: (sat.value(in_lits[name]) if name in in_lits else 0) for name in m.inputs})
+    sat.close()
+    if not values:
+        raise ValueError("no input meets the condition")
+    return Rows(names, values, full)
+
+
+# --- the successor table --------------------------------------------------
+
+def _low_pattern(k: int) -> np.uint64:
+    """The 64-bit word whose bit i is bit k of i (k < 6)."""
+    v = 0
+    for i in range(64):
+        if (i >> k) & 1:
+            v |= 1 << i
+    return np.uint64(v)
+
+
+def _packed_bits(base: int, nw: int, k: int) -> np.ndarray:
+    """Words of bit k of the sample numbers base, base+1, ... (base a multiple of 64)."""
+    if k < 6:
+        return np.full(nw, _low_pattern(k), dtype=np.uint64)
+    words = (np.arange(nw, dtype=np.uint64) + np.uint64(base >> 6)) >> np.uint64(k - 6)
+    return (words & np.uint64(1)) * ONES
+
+
+def _pack(bits: np.ndarray) -> np.ndarray:
+    """Bool array (length a multiple of 64) to little-endian 64-bit words."""
+    return np.packbits(bits, bitorder="little").view(np.uint64)
+
+
+def build_graph(check: Check, rows: Rows, budget: Optional[Budget] = None) -> Graph:
+    """The next code of every code under every admissible row, bit-parallel in chunks."""
+    m = check.design.model
+    w = check.width
+    n = 1 << w
+    total = n * len(rows)
+    if w > MAX_WIDTH or total > EDGE_LIMIT:
+        raise ValueError(f"{total} edges exceed the explicit engine's limits")
+    aig: Aig = m.aig
+    roots = [m.next_lits[i] for i in check.code]  # msb first
+    code_nodes = [m.state_lits[i] >> 1 for i in check.code]
+    lit_of = dict(zip(m.inputs, m.input_lits))
+    row_bits = np.asarray(rows.values, dtype=bool).reshape(len(rows), len(rows.names))
+    padded = -(-total // 64) * 64
+    out = np.empty(padded, dtype=np.uint32)
+    chunk = max(64, min(CHUNK, padded))
+    for base in range(0, padded, chunk):
+        if budget is not None and budget.expired():
+            raise OutOfBudget(0)
+        size = min(chunk, padded - base)
+        nw = size // 64
+        leaves: dict[int, np.ndarray] = {}
+        for pos, node in enumerate(code_nodes):
+            leaves[node] = _packed_bits(base, nw, w - 1 - pos)
+        if rows.names:
+            sample = np.arange(base, base + size, dtype=np.int64)
+            r = np.minimum(sample >> w, len(rows) - 1)
+            for j, name in enumerate(rows.names):
+                leaves[lit_of[name] >> 1] = _pack(row_bits[r, j])
+        needed = {nd: v for nd, v in leaves.items()}
+        vals = evaluate(aig, needed, roots, np.full(nw, ONES, dtype=np.uint64))
+        acc = np.zeros(size, dtype=np.uint32)
+        for pos, v in enumerate(vals):
+            v = np.broadcast_to(v, (nw,))
+            bits = np.unpackbits(np.ascontiguousarray(v).view(np.uint8), bitorder="little")
+            acc |= bits.astype(np.uint32) << np.uint32(w - 1 - pos)
+        out[base:base + size] = acc
+    succ = out[:total].reshape(len(rows), n)
+    if len(rows) > 1 and bool(np.all(succ == succ[0])):
+        succ = succ[:1].copy()
+        rows = Rows(rows.names, rows.values[:1], rows.full[:1])
+    assert check.sequence is not None
+    member = check.sequence.member_array(np.arange(n, dtype=np.uint64))
+    return Graph(w, succ, rows, member)
+
+
+# --- depth ------------------------------------------------------------------
+
+def _rounds_for(n: int) -> int:
+    return max(1, int(n).bit_length() + 1)
+
+
+def _depth_functional(g: Graph, budget: Optional[Budget]) -> tuple[np.ndarray, int]:
+    """Steps to the sequence when every code has one successor: pointer jumping.
+
+    Wyllie's list ranking (Wyllie 1979): each undecided code keeps a pointer
+    ``ptr = succ^acc(c)`` over codes that are all unused; a round doubles
+    every pointer, so after log2(2^w) + 1 rounds a code not yet decided can
+    never reach the sequence.
+    """
+    n = g.size
+    steps = np.full(n, -1, dtype=np.int32)
+    steps[g.member] = 0
+    ptr = g.succ[0].astype(np.int32)
+    acc = np.ones(n, dtype=np.int32)
+    act = np.flatnonzero(~g.member).astype(np.int32)
+    rounds = 0
+    for rounds in range(1, _rounds_for(n) + 1):
+        if budget is not None and budget.expired():
+            raise OutOfBudget(rounds)
+        p = ptr[act]
+        dp = steps[p]
+        done = dp >= 0
+        if done.any():
+            steps[act[done]] = acc[act[done]] + dp[done]
+            act = act[~done]
+            p = p[~done]
+        if act.size == 0:
+            break
+        acc[act] = acc[act] + acc[p]
+        ptr[act] = ptr[p]
+    return steps, rounds
+
+
+def _depth_game(g: Graph, budget: Optional[Budget]) -> tuple[np.ndarray, int]:
+    """Worst steps to the sequence with several successors per code.
+
+    Retrograde analysis (Kahn's topological peeling, run backwards from the
+    sequence): a code is decided in round r when its last successor was
+    decided in round r-1; each round touches only the predecessors of the
+    codes decided in the round before.
+    """
+    n, m = g.size, g.succ.shape[0]
+    unused = np.flatnonzero(~g.member).astype(np.int32)
+    steps = np.full(n, -1, dtype=np.int32)
+    steps[g.member] = 0
+    if unused.size == 0:
+        return steps, 0
+    dst = g.succ[:, unused].ravel()
+    order = np.argsort(dst, kind="stable")
+    src_sorted = np.tile(unused, m)[order].astype(np.int32)
+    del order
+    offs = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.bincount(dst, minlength=n), out=offs[1:])
+    del dst
+    pending = np.zeros(n, dtype=np.int32)
+    pending[unused] = m
+    frontier = np.flatnonzero(g.member).astype(np.int32)
+    r = 0
+    while frontier.size:
+        if budget is not None and budget.expired():
+            raise OutOfBudget(r)
+        if r >= VECTOR_ROUNDS and frontier.size < QUEUE_FRONTIER:
+            # a long thin tail: vector rounds would cost more than their work
+            _depth_queue(g, steps, pending, offs, src_sorted, frontier, budget)
+            return steps, r
+        r += 1
+        starts = offs[frontier]
+        lens = offs[frontier + 1] - starts
+        total = int(lens.sum())
+        if total == 0:
+            break
+        shift = np.repeat(starts - np.concatenate(([0], np.cumsum(lens)[:-1])), lens)
+        preds = src_sorted[shift + np.arange(total)]
+        uq, cnt = np.unique(preds, return_counts=True)
+        pending[uq] -= cnt.astype(np.int32)
+        frontier = uq[pending[uq] == 0]
+        steps[frontier] = r
+    return steps, r
+
+
+def _depth_queue(g: Graph, steps: np.ndarray, pending: np.ndarray, offs: np.ndarray,
+                 src_sorted: np.ndarray, frontier: np.ndarray, budget: Optional[Budget]) -> None:
+    """Finish the retrograde analysis from ``frontier`` with a work queue (same answers as rounds)."""
+    from collections import deque
+
+    succ = g.succ
+    queue = deque(int(x) for x in frontier)
+    done = 0
+    while queue:
+        v = queue.popleft()
+        done += 1
+        if done & 0xFFFF == 0 and budget is not None and budget.expired():
+            raise OutOfBudget(int(steps.max()))
+        for p in src_sorted[offs[v]:offs[v + 1]].tolist():
+            pending[p] -= 1
+            if pending[p] == 0:
+                steps[p] = 1 + int(steps[succ[:, p]].max())
+                queue.append(p)
+
+
+# --- cycles -----------------------------------------------------------------
+
+def _functional_cycles(locked: np.ndarray, succ: np.ndarray) -> list[np.ndarray]:
+    """The cycles of a one-successor graph on ``locked`` (closed under ``succ``)."""
+    n = locked.size
+    pos = np.searchsorted(locked, succ[locked]).astype(np.int64)
+    rounds = _rounds_for(n)
+    p = pos.copy()
+    for _ in range(rounds):  # after 2^rounds >= n steps every code sits on its cycle
+        p = p[p]
+    on = np.unique(p)
+    q = np.searchsorted(on, pos[on])
+    lab = np.arange(on.size)
+    for _ in range(rounds):
+        lab = np.minimum(lab, lab[q])
+        q = q[q]
+    return _groups(locked[on], lab)
+
+
+def _groups(codes: np.ndarray, labels: np.ndarray) -> list[np.ndarray]:
+    order = np.lexsort((codes, labels))
+    lab, cod = labels[order], codes[order]
+    cuts = np.flatnonzero(np.diff(lab)) + 1
+    return [np.sort(s) for s in np.split(cod, cuts)]
+
+
+def scc_cycles(n: int, src: np.ndarray, dst: np.ndarray) -> list[np.ndarray]:
+    """Strongly connected sets holding a cycle in a graph on nodes 0..n-1.
+
+    Vectorised: trimming of nodes without predecessors or successors, then
+    the colouring method (Orzan 2004): every node takes the smallest node
+    that reaches it; a node that keeps its own colour is a root, and its set
+    is the nodes of its colour that reach it, found backwards. Each pass
+    takes at most :data:`VECTOR_ROUNDS` rounds; a graph with long chains
+    left after that goes to Tarjan's algorithm (Tarjan 1972), one node at a time.
+    """
+    src = np.asarray(src, dtype=np.int64)
+    dst = np.asarray(dst, dtype=np.int64)
+    loop = src == dst
+    selfloop = np.zeros(n, dtype=bool)
+    selfloop[src[loop]] = True
+    src, dst = src[~loop], dst[~loop]
+    alive = np.ones(n, dtype=bool)
+    out: list[np.ndarray] = []
+    idx = np.arange(n)
+
+    def retire(dead: np.ndarray) -> None:
+        out.extend(np.array([x]) for x in np.flatnonzero(dead & selfloop))
+
+    while True:
+        e = alive[src] & alive[dst]
+        s, t = src[e], dst[e]
+        for _ in range(VECTOR_ROUNDS):  # trim
+            e = alive[src] & alive[dst]
+            s, t = src[e], dst[e]
+            has_in = np.zeros(n, dtype=bool)
+            has_out = np.zeros(n, dtype=bool)
+            has_in[t] = True
+            has_out[s] = True
+            keep = alive & has_in & has_out
+            if np.array_equal(keep, alive):
+                break
+            retire(alive & ~keep)
+            alive = keep
+        if not alive.any():
+            break
+        color = np.where(alive, idx, n)
+        settled = False
+        for _ in range(VECTOR_ROUNDS):
+            new = color.copy()
+            np.minimum.at(new, t, color[s])
+            if np.array_equal(new, color):
+                settled = True
+                break
+            color = new
+        if not settled:
+            out.extend(_tarjan_cycles(n, s, t, alive, selfloop))
+            break
+        mark = alive & (color == idx)
+        same = color[s] == color[t]
+        while True:
+            grow = same & mark[t] & ~mark[s]
+            if not grow.any():
+                break
+            mark[s[grow]] = True
+        for grp in _groups(idx[mark], color[mark]):
+            if grp.size > 1 or selfloop[grp[0]]:
+                out.append(grp)
+        alive &= ~mark
+    return sorted(out, key=lambda a: tuple(a.tolist()))
+
+
+def _tarjan_cycles(n: int, src: np.ndarray, dst: np.ndarray, alive: np.ndarray,
+                   selfloop: np.ndarray) -> list[np.ndarray]:
+    """Tarjan's strongly connected components (iterative) on the ``alive`` nodes."""
+    e = alive[src] & alive[dst]
+    s, t = src[e], dst[e]
+    order = np.argsort(s, kind="stable")
+    adj = t[order].tolist()
+    offs = np.zeros(n + 1, dtype=np.int64)
+    np.cumsum(np.bincount(s, minlength=n), out=offs[1:])
+    off = offs.tolist()
+    index = [-1] * n
+    low = [0] * n
+    on = [False] * n
+    stack: list[int] = []
+    out: list[np.ndarray] = []
+    counter = 0
+    for root in np.flatnonzero(alive).tolist():
+        if index[root] >= 0:
+            continue
+        work = [(root, off[root])]
+        index[root] = low[root] = counter
+        counter += 1
+        stack.append(root)
+        on[root] = True
+        while work:
+            v, i = work[-1]
+            if i < off[v + 1]:
+                work[-1] = (v, i + 1)
+                w = adj[i]
+                if index[w] < 0:
+                    index[w] = low[w] = counter
+                    counter += 1
+                    stack.append(w)
+                    on[w] = True
+                    work.append((w, off[w]))
+                elif on[w]:
+                    low[v] = min(low[v], index[w])
+                continue
+            work.pop()
+            if work:
+                u = work[-1][0]
+                low[u] = min(low[u], low[v])
+            if low[v] == index[v]:
+                comp = []
+                while True:
+                    w = stack.pop()
+                    on[w] = False
+                    comp.append(w)
+                    if w == v:
+                        break
+                if len(comp) > 1 or selfloop[v]:
+                    out.append(np.array(sorted(comp), dtype=np.int64))
+    return out
+
+
+def _cycles(g: Graph, steps: np.ndarray) -> list[np.ndarray]:
+    locked = np.flatnonzero(steps < 0).astype(np.int64)
+    if locked.size == 0:
+        return []
+    if g.deterministic:
+        sets = _functional_cycles(locked, g.succ[0].astype(np.int64))
+    else:
+        m = g.succ.shape[0]
+        src = np.tile(locked, m)
+        dst = g.succ[:, locked].ravel().astype(np.int64)
+        inside = steps[dst] < 0
+        s = np.searchsorted(locked, src[inside])
+        t = np.searchsorted(locked, dst[inside])
+        sets = [locked[x] for x in scc_cycles(locked.size, s, t)]
+    return sorted(sets, key=lambda a: tuple(a.tolist()))
+
+
+# --- the analysis -------------------------------------------------------------
+
+def analyse(g: Graph, budget: Optional[Budget] = None) -> Analysis:
+    """Exact worst steps of every unused code, the locked codes and every locked cycle set."""
+    if g.deterministic:
+        steps, rounds = _depth_functional(g, budget)
+    else:
+        steps, rounds = _depth_game(g, budget)
+    unused = ~g.member
+    count = int(unused.sum())
+    sets = _cycles(g, steps)
+    if count == 0:
+        return Analysis(g, steps, 0, None, [], 0, rounds)
+    if sets or bool((steps[unused] < 0).any()):
+        return Analysis(g, steps, None, None, sets, count, rounds)
+    worst_code = int(np.argmax(steps))
+    return Analysis(g, steps, int(steps[worst_code]), worst_code, sets, count, rounds)
+
+
+def explore(check: Check, cond: int, budget: Optional[Budget] = None) -> Analysis:
+    """Build the successor graph of ``check`` under ``cond`` and analyse it."""
+    rows = admissible_rows(check, cond)
+    g = build_graph(check, rows, budget)
+    return analyse(g, budget)
+
+
+# --- runs ------------------------------------------------------------------------
+
+def worst_step(a: Analysis, codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """For each code, the row and next code of a worst run (a locked successor first)."""
+    cand = a.graph.succ[:, codes]  # (rows, k)
+    d = a.steps[cand].astype(np.int64)
+    d = np.where(d < 0, np.int64(1) << 40, d)
+    row = np.argmax(d, axis=0)
+    return row, cand[row, np.arange(codes.size)]
+
+
+def worst_run(a: Analysis, code: int, clocks: int) -> tuple[list[int], list[int]]:
+    """Codes and rows of a worst run from ``code``: ``clocks`` steps, or until the sequence.
+
+    Returns (codes, rows) with ``len(rows) == len(codes) - 1``.
+    """
+    codes, rows = [int(code)], []
+    c = np.array([code], dtype=np.int64)
+    for _ in range(clocks):
+        if a.graph.member[c[0]]:
+            break
+        r, nx = worst_step(a, c)
+        rows.append(int(r[0]))
+        codes.append(int(nx[0]))
+        c = nx.astype(np.int64)
+    return codes, rows
+
+
+def cycle_run(a: Analysis, members: np.ndarray, limit: int) -> tuple[list[int], list[int], bool]:
+    """A shortest run from the smallest code of sorted ``members`` back to it, inside ``members``.
+
+    Breadth-first over the set; returns (codes, rows, complete). When no
+    cycle of at most ``limit`` clocks is found, the run follows the set for
+    ``limit`` clocks and ``complete`` is False.
+    """
+    succ = a.graph.succ
+
+    def within(x: int) -> bool:
+        i = int(np.searchsorted(members, x))
+        return i < members.size and int(members[i]) == x
+
+    start = int(members[0])
+    parent: dict[int, int] = {}
+    frontier = [start]
+    depth = 0
+    while frontier and depth < limit:
+        depth += 1
+        grown = []
+        for x in frontier:
+            for y in {int(v) for v in succ[:, x]}:
+                if y == start:
+                    chain = [x]
+                    while chain[-1] != start:
+                        chain.append(parent[chain[-1]])
+                    codes = list(reversed(chain)) + [start]
+                    return codes, _fix_rows(a, codes), True
+                if y not in parent and within(y):
+                    parent[y] = x
+                    grown.append(y)
+        frontier = grown
+    codes = [start]
+    for _ in range(limit):
+        col = succ[:, codes[-1]]
+        codes.append(next(int(v) for v in col if within(int(v))))
+    return codes, _fix_rows(a, codes), False
+
+
+def _fix_rows(a: Analysis, codes: list[int]) -> list[int]:
+    """The row that takes each code of a run to the next one."""
+    succ = a.graph.succ
+    out = []
+    for x, y in zip(codes, codes[1:]):
+        out.append(int(np.flatnonzero(succ[:, x] == y)[0]))
+    return out
+
+
+# --- repair hints ------------------------------------------------------------
+
+EXACT_FVS_LIMIT = 128
+"""Largest locked set whose smallest feedback set is found exactly (by SAT)."""
+
+TABLE_LIMIT = 64
+"""Most redirected codes a repair plan lists (the count is always given)."""
+
+
+@dataclass
+class RepairPlan:
+    """Advice: unused codes whose next code, sent into the sequence, removes every lock.
+
+    ``codes`` is a smallest such set when ``exact``; ``table`` rows are
+    (code, its next codes now, the proposed next code); ``worst_after`` the
+    worst number of clocks once redirected (None when not computed).
+    """
+
+    codes: list[int]
+    target: int
+    exact: bool
+    table: list[tuple[int, list[int], int]]
+    worst_after: Optional[int] = None
+    for_within: list[int] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+
+def _set_edges(a: Analysis, members: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Edges inside ``members`` (sorted codes), as positions into ``members``."""
+    m = a.graph.succ.shape[0]
+    src = np.tile(np.arange(members.size), m)
+    dst_codes = a.graph.succ[:, members].ravel().astype(np.int64)
+    t = np.searchsorted(members, dst_codes)
+    t = np.minimum(t, members.size - 1)
+    ok = members[t] == dst_codes
+    n = members.size
+    pairs = np.unique(src[ok].astype(np.int64) * n + t[ok])
+    return pairs // n, pairs % n
+
+
+def _find_cycle(n: int, adj: list[list[int]], removed: set[int]) -> Optional[list[int]]:
+    """Some cycle among the nodes not removed (iterative depth-first search)."""
+    state = [0] * n  # 0 new, 1 on stack, 2 done
+    for root in range(n):
+        if root in removed or state[root]:
+            continue
+        stack = [(root, iter(adj[root]))]
+        path = [root]
+        state[root] = 1
+        while stack:
+            v, it = stack[-1]
+            nxt = next(it, None)
+            if nxt is None:
+                state[v] = 2
+                stack.pop()
+                path.pop()
+                continue
+            if nxt in removed:
+                continue
+            if state[nxt] == 1:
+                return path[path.index(nxt):]
+            if state[nxt] == 0:
+                state[nxt] = 1
+                stack.append((nxt, iter(adj[nxt])))
+                path.append(nxt)
+    return None
+
+
+def _exact_fvs(n: int, adj: list[list[int]], forced: set[int]) -> list[int]:
+    """A smallest feedback vertex set by implicit hitting sets.
+
+    Cycles are collected lazily; a smallest set hitting all collected cycles
+    is found by SAT with an at-most-k cardinality constraint (sequential
+    counter, Sinz 2005, from pysat.card), k rising from the last optimum;
+    when the graph without that set still has a cycle, the cycle is added.
+    """
+    from pysat.card import CardEnc, EncType
+    from pysat.solvers import Solver
+
+    cycles: list[list[int]] = []
+    k = 0
+    while True:
+        best: Optional[list[int]] = None
+        while best is None:
+            with Solver(name="minisat22") as s:
+                for v in forced:
+                    s.add_clause([v + 1])
+                for cyc in cycles:
+                    s.add_clause([v + 1 for v in cyc])
+                if k < n:
+                    card = CardEnc.atmost(list(range(1, n + 1)), bound=k, top_id=n, encoding=EncType.seqcounter)
+                    for cl in card.clauses:
+                        s.add_clause(cl)
+                if s.solve():
+                    model = s.get_model()
+                    best = [v for v in range(n) if model[v] > 0]
+                else:
+                    k += 1
+        cyc = _find_cycle(n, adj, set(best))
+        if cyc is None:
+            return best
+        cycles.append(cyc)
+
+
+def _greedy_fvs(n: int, src: np.ndarray, dst: np.ndarray, forced: set[int]) -> list[int]:
+    """A feedback vertex set by repeated removal of the busiest node (not always smallest)."""
+    removed = np.zeros(n, dtype=bool)
+    removed[list(forced)] = True
+    while True:
+        keep = ~removed[src] & ~removed[dst]
+        s, t = src[keep], dst[keep]
+        sets = scc_cycles(n, s, t)
+        if not sets:
+            return sorted(int(x) for x in np.flatnonzero(removed))
+        inside = np.zeros(n, dtype=bool)
+        for grp in sets:
+            inside[grp] = True
+        e = inside[s] & inside[t]
+        score = np.bincount(s[e], minlength=n) * np.bincount(t[e], minlength=n)
+        removed[int(np.argmax(score))] = True
+
+
+def feedback_codes(a: Analysis) -> tuple[list[int], bool]:
+    """A smallest set of unused codes meeting every cycle of unused codes, and whether it is exact.
+
+    Each locked set is independent: a code that holds itself under some
+    input must be in the set; a set that is one simple cycle needs one code
+    (its smallest); other sets up to :data:`EXACT_FVS_LIMIT` codes are
+    solved exactly, larger ones greedily.
+    """
+    out: list[int] = []
+    exact = True
+    if a.graph.deterministic:  # every set is one simple cycle: its smallest code breaks it
+        return sorted(int(s[0]) for s in a.locked_sets), True
+    for members in a.locked_sets:
+        if members.size == 1:  # a set of one code holds a cycle only by holding itself
+            out.append(int(members[0]))
+            continue
+        src, dst = _set_edges(a, members)
+        forced = set(int(x) for x in src[src == dst])
+        n = members.size
+        if not forced and src.size == n and np.unique(src).size == n:
+            out.append(int(members[0]))  # a simple cycle: one code breaks it
+            continue
+        if n <= EXACT_FVS_LIMIT:
+            adj: list[list[int]] = [[] for _ in range(n)]
+            for x, y in zip(src.tolist(), dst.tolist()):
+                if y not in adj[x]:
+                    adj[x].append(y)
+            pick = _exact_fvs(n, adj, forced)
+        else:
+            pick = _greedy_fvs(n, src, dst, forced)
+            exact = exact and len(pick) == len(forced)
+        out.extend(int(members[i]) for i in pick)
+    return sorted(out), exact
+
+
+def redirected(a: Analysis, codes: list[int], target: int, budget: Optional[Budget] = None) -> Analysis:
+    """The analysis of the same graph with ``codes`` sent to ``target`` under every row."""
+    succ = a.graph.succ.copy()
+    if codes:
+        succ[:, np.asarray(codes, dtype=np.int64)] = target
+    if succ.shape[0] > 1 and bool(np.all(succ == succ[0])):
+        succ = succ[:1]
+    g = Graph(a.graph.width, succ, a.graph.rows, a.graph.member)
+    return analyse(g, budget)
+
+
+def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
+                budget: Optional[Budget] = None, recompute_limit: int = 1 << 20) -> RepairPlan:
+    """Unused codes to redirect into ``target`` so that no lock remains (and, with
+    ``within``, so that every unused code recovers within that many clocks).
+
+    The lock part is a smallest feedback vertex set over the locked sets (see
+    :func:`feedback_codes`). The ``within`` part is greedy: while some code
+    needs more than ``within`` clocks, redirect the code ``within - 1`` clocks
+    down its worst run, then look again. Advice only.
+    """
+    codes, exact = feedback_codes(a)
+    notes = []
+    if not exact:
+        notes.append(f"a locked set has more than {EXACT_FVS_LIMIT} codes: the set is found greedily and may not be the smallest")
+    after: Optional[Analysis] = None
+    extra: list[int] = []
+    if a.graph.size <= recompute_limit:
+        after = redirected(a, codes, target, budget) if codes else a
+        rounds = 0
+        while within is not None and after.worst is not None and after.worst > within and within >= 1:
+            if rounds == 64:
+                notes.append("stopped after 64 rounds of greedy redirects for the clock bound")
+                break
+            # every code at the current worst: redirect the code within-1 clocks down its worst run
+            cur = np.flatnonzero(after.steps == after.worst).astype(np.int64)
+            for _ in range(within - 1):
+                _, cur = worst_step(after, cur)
+                cur = cur.astype(np.int64)
+            pick = sorted(set(int(c) for c in cur))
+            extra.extend(pick)
+            after = redirected(after, pick, target, budget)
+            rounds += 1
+        if extra:
+            notes.append("the redirects for the clock bound are chosen greedily (not always the fewest)")
+    succ = a.graph.succ
+    table = []
+    for c in (codes + extra)[:TABLE_LIMIT]:
+        table.append((c, sorted({int(x) for x in succ[:, c]}), target))
+    return RepairPlan(codes, target, exact, table, None if after is None else after.worst, extra, notes)
+
+
+def plan_lines(plan: RepairPlan) -> list[str]:
+    """The repair plan as text lines for the readable report."""
+    every = plan.codes + plan.for_within
+    if not every:
+        return []
+    lines = []
+    if plan.codes:
+        what = "the smallest set" if plan.exact else "a set"
+        lines.append(f"repair hint: redirecting {len(plan.codes)} unused code(s) into the sequence "
+                     f"({what} that breaks every lock): {_short(plan.codes)}")
+    if plan.for_within:
+        lines.append(f"repair hint: redirecting {len(plan.for_within)} more code(s) meets the clock bound: {_short(plan.for_within)}")
+    lines.append("  code -> next now -> proposed next")
+    for c, now, new in plan.table:
+        lines.append(f"  {c} -> {'/'.join(str(x) for x in now)} -> {new}")
+    if len(every) > len(plan.table):
+        lines.append(f"  ... {len(every) - len(plan.table)} more")
+    if plan.worst_after is not None:
+        lines.append(f"  worst after the redirect: {plan.worst_after} clock(s)")
+    lines.extend(f"  note: {n}" for n in plan.notes)
+    return lines
+
+
+def _short(codes: list[int], limit: int = 16) -> str:
+    s = ", ".join(str(c) for c in codes[:limit])
+    return s + (f", ... ({len(codes)} in all)" if len(codes) > limit else "")

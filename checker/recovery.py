@@ -1,0 +1,231 @@
+"""The unused-code map and repair hints, as a Python API (used by the `map` command).
+
+:func:`recovery_map` returns the contract's ``map --json`` document: every
+unused code with the worst number of clocks it needs to reach the sequence,
+its successor on a worst run and that run, worst first. The explicit engine
+decides every code exactly; where the width is beyond it, the SAT engine
+decides the worst and any lock but can name only the codes of the run it
+found, so ``unused`` then lists those (``unused_count`` is still exact); where
+neither finishes, ``worst`` is null and ``"status": "open"``.
+
+:func:`repair_hints` names unused codes whose next code, if redirected into
+the sequence, removes every lock: advice only, it never changes a verdict.
+"""
+
+from __future__ import annotations
+
+from typing import Optional
+
+import numpy as np
+
+from . import explicit as X
+from .budget import Budget
+from .claims.common import Options, stepping
+from .claims.recover import LOCKED_LIST_LIMIT, choose_engine, sat_search, satisfiable
+from .elaborate import Check
+from .errors import InputError
+
+PATH_LIMIT = 64
+"""Most codes in one entry's ``path`` (then ``"path_truncated": true``)."""
+
+
+class MapDoc(dict):
+    """The map document (a plain dict for JSON), carrying the explicit analysis it came
+    from in ``analysis`` (None when the SAT engine made it) for the state graph."""
+
+    analysis: Optional[X.Analysis] = None
+
+
+def map_condition(check: Check) -> int:
+    """The inputs the map assumes: the first recover claim's condition, else the stepping inputs."""
+    for c in check.claims:
+        if c.kind == "recover":
+            return c.cond if c.cond is not None else stepping(check)
+    return stepping(check)
+
+
+def _condition(check: Check, cond: Optional[int]) -> int:
+    lit = map_condition(check) if cond is None else cond
+    if not satisfiable(check, lit):
+        raise InputError(check.pos, f"check {check.name}: no input meets the map's condition")
+    return lit
+
+
+def analyse(check: Check, cond: Optional[int] = None, opts: Optional[Options] = None,
+            budget: Optional[Budget] = None) -> Optional[X.Analysis]:
+    """The explicit analysis the map and the state graph draw on, or None when the
+    explicit engine cannot take the check (or the options ask for SAT)."""
+    opts = opts or Options()
+    X.require_whole_state(check)
+    lit = _condition(check, cond)
+    engine, _ = choose_engine(check, lit, opts)
+    if engine != "explicit":
+        return None
+    return X.explore(check, lit, budget)
+
+
+def _order(a: X.Analysis, limit: int) -> np.ndarray:
+    """Up to ``limit`` unused codes, locked first, then by worst steps, then by code."""
+    unused = np.flatnonzero(~a.graph.member)
+    if unused.size == 0 or limit <= 0:
+        return unused[:0]
+    key = a.steps[unused].astype(np.int64)
+    key = np.where(key < 0, np.int64(1) << 40, key)
+    if unused.size > limit:
+        # the limit-th largest key; ties at it go to the smallest codes
+        t = np.partition(key, unused.size - limit)[unused.size - limit]
+        above = np.flatnonzero(key > t)
+        tied = np.flatnonzero(key == t)[:limit - above.size]
+        keep = np.concatenate([above, tied])
+        unused, key = unused[keep], key[keep]
+    order = np.lexsort((unused, -key))
+    return unused[order]
+
+
+def _entries(a: X.Analysis, codes: np.ndarray) -> list[dict]:
+    """Map entries for ``codes``: worst runs walked for all of them at once."""
+    k = codes.size
+    if k == 0:
+        return []
+    member = a.graph.member
+    paths = [[int(c)] for c in codes]
+    seen = [{int(c)} for c in codes]
+    live = np.ones(k, dtype=bool)
+    cur = codes.astype(np.int64)
+    nexts: list[Optional[int]] = [None] * k
+    for step in range(PATH_LIMIT - 1):
+        idx = np.flatnonzero(live)
+        if idx.size == 0:
+            break
+        _, nx = X.worst_step(a, cur[idx])
+        for i, y in zip(idx.tolist(), nx.tolist()):
+            if step == 0:
+                nexts[i] = int(y)
+            paths[i].append(int(y))
+            if member[y] or y in seen[i]:
+                live[i] = False
+            seen[i].add(int(y))
+        cur[idx] = nx
+    out = []
+    for i, c in enumerate(codes.tolist()):
+        s = int(a.steps[c])
+        e = {"code": int(c), "steps": None if s < 0 else s, "next": nexts[i], "path": paths[i]}
+        if live[i]:
+            e["path_truncated"] = True
+        out.append(e)
+    return out
+
+
+def _locked_listing(sets: list[list[int]]) -> list[list[int]]:
+    out, n = [], 0
+    for s in sets:
+        if n + len(s) > LOCKED_LIST_LIMIT:
+            break
+        out.append(s)
+        n += len(s)
+    return out
+
+
+def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opts: Optional[Options] = None,
+                 budget: Optional[Budget] = None, analysis: Optional[X.Analysis] = None) -> MapDoc:
+    """Every unused code of ``check``: worst steps to the sequence, next code and run; totals.
+
+    ``cond`` is a literal over the inputs (default :func:`map_condition`).
+    The result has exactly the keys of the contract's ``map --json``, plus
+    ``"status": "open"`` when the question was not decided in the budget.
+    """
+    opts = opts or Options()
+    budget = budget or Budget()
+    seq = check.sequence
+    if seq is None:
+        raise InputError(check.pos, f"check {check.name} has no count line, so it has no unused codes to map")
+    w = check.width
+    doc = MapDoc({"check": check.name, "width": w, "sequence_length": seq.length(),
+                  "unused_count": (1 << w) - seq.length(), "worst": None, "locked": None, "unused": []})
+    X.require_whole_state(check)
+    lit = _condition(check, cond)
+    if analysis is None:
+        engine, _ = choose_engine(check, lit, opts)
+        if engine == "explicit":
+            try:
+                analysis = X.explore(check, lit, budget)
+            except X.OutOfBudget:
+                doc["status"] = "open"
+                return doc
+    if analysis is not None:
+        doc.analysis = analysis
+        doc["worst"] = analysis.worst
+        doc["locked"] = _locked_listing(analysis.locked_json())
+        doc["unused"] = _entries(analysis, _order(analysis, limit))
+        return doc
+    s = sat_search(check, lit, None, budget, opts.solver)
+    if s.status == "open":
+        doc["status"] = "open"
+        return doc
+    if s.status == "locked":
+        doc["locked"] = [s.cycle]
+        path = s.codes[:PATH_LIMIT]
+        entry = {"code": path[0], "steps": None, "next": path[1] if len(path) > 1 else None, "path": path}
+        if len(s.codes) > PATH_LIMIT:
+            entry["path_truncated"] = True
+        doc["unused"] = [entry][:limit]
+        return doc
+    doc["worst"] = s.worst
+    doc["locked"] = []
+    if s.worst_codes:
+        path = s.worst_codes[:PATH_LIMIT]
+        entry = {"code": path[0], "steps": s.worst, "next": path[1], "path": path}
+        if len(s.worst_codes) > PATH_LIMIT:
+            entry["path_truncated"] = True
+        doc["unused"] = [entry][:limit]
+    return doc
+
+
+def map_lines(doc: dict) -> list[str]:
+    """The map as a readable table (text report of the `map` command)."""
+    lines = [f"check {doc['check']}: {doc['width']}-bit code, {doc['sequence_length']} codes in the sequence, "
+             f"{doc['unused_count']} unused"]
+    if doc.get("status") == "open":
+        lines.append("undecided in the time given: worst unknown")
+    elif doc["locked"]:
+        lines.append(f"locked: {len(doc['locked'])} set(s) of unused codes hold a cycle")
+        for s in doc["locked"][:8]:
+            lines.append("  {" + ", ".join(map(str, s[:32])) + (", ..." if len(s) > 32 else "") + "}")
+    else:
+        lines.append(f"worst: {doc['worst']} clock(s)")
+    if doc["unused"]:
+        lines.append(f"{'code':>10}  {'steps':>7}  {'next':>10}  run")
+        for e in doc["unused"]:
+            steps = "locked" if e["steps"] is None else str(e["steps"])
+            run = " -> ".join(map(str, e["path"][:12]))
+            if len(e["path"]) > 12 or e.get("path_truncated"):
+                run += " -> ..."
+            nxt = "" if e["next"] is None else str(e["next"])
+            lines.append(f"{e['code']:>10}  {steps:>7}  {nxt:>10}  {run}")
+        if len(doc["unused"]) < doc["unused_count"]:
+            lines.append(f"({len(doc['unused'])} of {doc['unused_count']} unused codes listed)")
+    return lines
+
+
+def repair_hints(check: Check, cond: Optional[int] = None, within: Optional[int] = None,
+                 opts: Optional[Options] = None, budget: Optional[Budget] = None,
+                 analysis: Optional[X.Analysis] = None) -> Optional[dict]:
+    """A smallest set of unused codes to redirect into the sequence so that no lock remains.
+
+    Uses the explicit graph (a minimum feedback vertex set over the locked
+    sets, exact up to :data:`checker.explicit.EXACT_FVS_LIMIT` codes per set);
+    with ``within``, greedy extra redirects until every unused code recovers
+    in that many clocks. Returns None when the explicit engine cannot take
+    the check. The dict holds ``redirect``, ``for_within``, ``target``,
+    ``exact``, ``table`` (code, next codes now, proposed next), ``worst_after``,
+    ``notes`` and the readable ``lines``.
+    """
+    if analysis is None:
+        analysis = analyse(check, cond, opts, budget)
+    if analysis is None:
+        return None
+    assert check.sequence is not None
+    plan = X.repair_plan(analysis, check.sequence.first(), within, budget)
+    return {"redirect": plan.codes, "for_within": plan.for_within, "target": plan.target, "exact": plan.exact,
+            "table": [{"code": c, "next_now": now, "next_new": new} for c, now, new in plan.table],
+            "worst_after": plan.worst_after, "notes": plan.notes, "lines": X.plan_lines(plan)}
