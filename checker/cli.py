@@ -271,7 +271,12 @@ def cmd_demo(args) -> int:
         print("(the bottle-batch counter of a brewery filler line, with a re-implementation to compare)\n")
     args.paths = [str(path)]
     args.junit = None
-    return cmd_check(args)
+    status = cmd_check(args)
+    if not args.json:
+        print("\nThe refuted always claim is deliberate: it shows what a refutation and its trace look like.")
+        print(f"Try: countersign map {path} batch    (every unused code and how soon it recovers)")
+    # the demo succeeded when it ran; its verdicts are the example's, printed above
+    return 0 if status in (0, 1, 3) else status
 
 
 def cmd_cnf(args) -> int:

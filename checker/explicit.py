@@ -15,8 +15,14 @@ refuses a check whose code leaves a flop out.
 Memory: the successor table takes 4 bytes per edge (one edge per code and
 admissible input row), at most :data:`EDGE_LIMIT` edges (128 MiB); the depth
 and cycle arrays add about 40 bytes per code when the inputs do not matter
-and about 24 bytes per edge when they do. At 2^24 codes with one input row
-the peak is about 0.8 GiB.
+and about 24 bytes per edge when they do, so the bound is about 1 GiB. At
+2^24 codes with one input row the measured peak is 0.5 to 0.7 GiB
+(tests/perf/RESULTS_recover.md).
+
+Time: one vectorised pass per table chunk, then pointer jumping (one
+successor per code: log2(2^w) rounds whatever the tails) or retrograde
+rounds (several successors: one round per clock of the worst, finished by a
+work queue when a long thin tail remains).
 """
 
 from __future__ import annotations
