@@ -108,13 +108,16 @@ def cmd_map(args) -> int:
         raise _bad("--limit takes a count of 0 or more")
     result = recovery_map(chk, cond=cond, limit=args.limit, opts=opts)
     if args.dot or args.svg:
-        from .report.dot import render_svg, state_graph_dot
+        from .report.dot import RenderError, render_svg, state_graph_dot
 
         dot = state_graph_dot(chk, result)
         if args.dot:
             Path(args.dot).write_text(dot, encoding="utf-8")
         if args.svg:
-            render_svg(dot, args.svg)
+            try:
+                render_svg(dot, args.svg)
+            except RenderError as e:
+                raise _bad(str(e)) from None
     _emit(result, args.json, "\n".join(map_lines(result)))
     if result.get("locked"):
         return 1
