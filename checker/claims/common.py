@@ -25,56 +25,68 @@ class ReplayError(AssertionError):
     """A counterexample that the simulator does not reproduce: a bug, never printed."""
 
 
+def rule_target(check: Check, rule) -> list[int]:
+    """The next code a rule names, as literals over the code bits, least significant first."""
+    seq = check.sequence
+    assert seq is not None
+    aig = check.design.model.aig
+    cur = check.code_lits()
+    if rule.kind == "hold":
+        return cur
+    if rule.kind == "step":
+        return seq.next_bits(aig, cur)
+    if rule.kind == "back":
+        return seq.prev_bits(aig, cur)
+    if rule.load_const is not None:
+        return [TRUE if (rule.load_const >> i) & 1 else FALSE for i in range(len(cur))]
+    assert rule.load_bits is not None
+    return list(reversed(rule.load_bits))
+
+
+def regions(check: Check) -> list[tuple[Optional[int], int, list[int]]]:
+    """The rules' regions of the inputs, in written order.
+
+    Each entry is (rule index, or None for the step a block without ``step``
+    rules must take when no rule holds; the region's literal over the inputs;
+    the next code it requires, lsb first). A region is where that rule is the
+    first whose condition holds; regions are disjoint, and inputs outside all
+    of them are undecided. Empty regions are left out.
+    """
+    aig = check.design.model.aig
+    none_before = TRUE
+    out: list[tuple[Optional[int], int, list[int]]] = []
+    for k, r in enumerate(check.rules):
+        out.append((k, aig.and_(none_before, r.cond), rule_target(check, r)))
+        none_before = aig.and_(none_before, r.cond ^ 1)
+    if not any(r.kind == "step" for r in check.rules):
+        assert check.sequence is not None
+        out.append((None, none_before, check.sequence.next_bits(aig, check.code_lits())))
+    return [x for x in out if x[1] != FALSE]
+
+
 def rule_spec(check: Check) -> tuple[int, list[int]]:
     """The count claim's reference as a circuit over the check's code bits.
 
     Returns ``(decided, expected)``: ``decided`` is the literal that is 1 when
     the rules decide the next code (some rule's condition holds, or none does
     and the block has no ``step`` rule, so the counter must step);
-    ``expected`` the decided next code, least significant bit first. Rules are
-    taken in written order; the first whose condition holds wins.
+    ``expected`` the decided next code, least significant bit first.
     """
-    seq = check.sequence
-    assert seq is not None
     aig = check.design.model.aig
-    cur = check.code_lits()
-    w = len(cur)
-    nxt = seq.next_bits(aig, cur)
-    targets: list[tuple[int, list[int]]] = []
-    for r in check.rules:
-        if r.kind == "hold":
-            t = cur
-        elif r.kind == "step":
-            t = nxt
-        elif r.kind == "back":
-            t = seq.prev_bits(aig, cur)
-        elif r.load_const is not None:
-            t = [TRUE if (r.load_const >> i) & 1 else FALSE for i in range(w)]
-        else:
-            assert r.load_bits is not None
-            t = list(reversed(r.load_bits))
-        targets.append((r.cond, t))
-    has_step = any(r.kind == "step" for r in check.rules)
-    expected = nxt
-    decided = FALSE if has_step else TRUE
-    for cond, t in reversed(targets):
-        expected = [aig.mux(cond, e, x) for e, x in zip(expected, t)]
-        decided = aig.or_(cond, decided)
+    assert check.sequence is not None
+    expected = check.sequence.next_bits(aig, check.code_lits())
+    decided = FALSE
+    for _, region, target in reversed(regions(check)):
+        expected = [aig.mux(region, e, t) for e, t in zip(expected, target)]
+        decided = aig.or_(decided, region)
     return decided, expected
 
 
 def stepping(check: Check) -> int:
     """Literal over the inputs: 1 when the rules make the counter step."""
     aig = check.design.model.aig
-    none_before = TRUE
-    acc = FALSE
-    for r in check.rules:
-        if r.kind == "step":
-            acc = aig.or_(acc, aig.and_(none_before, r.cond))
-        none_before = aig.and_(none_before, r.cond ^ 1)
-    if not any(r.kind == "step" for r in check.rules):
-        acc = aig.or_(acc, none_before)
-    return acc
+    return aig.or_all(region for k, region, _ in regions(check)
+                      if k is None or check.rules[k].kind == "step")
 
 
 def replay(design: Design, check: Check, trace: Sequence[TraceEntry], code: Optional[Sequence[int]] = None) -> None:

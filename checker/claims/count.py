@@ -22,7 +22,7 @@ from ..elaborate import Check, Claim
 from ..model import FALSE, TRUE, Aig, evaluate
 from ..sat import Sat, Unrolling
 from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
-from .common import Options, ReplayError, make_result, replay, rule_spec
+from .common import Options, ReplayError, make_result, regions, replay, rule_spec
 
 # An SR fault in a code of the sequence refutes the claim under any input,
 # not only under inputs whose next code the rules decide (the lead's reading
@@ -105,36 +105,6 @@ def _conjuncts(aig: Aig, lit: int) -> list[int]:
         else:
             out.append(l)
     return out
-
-
-def regions(check: Check) -> list[tuple[Optional[int], int, list[int]]]:
-    """The rules' regions of the inputs: (rule index or None for the default
-    step, region literal, targets lsb first); a region is where that rule is
-    the first whose condition holds. Undecided inputs have no region."""
-    aig = check.design.model.aig
-    seq = check.sequence
-    assert seq is not None
-    cur = check.code_lits()
-    w = len(cur)
-    none_before = TRUE
-    out: list[tuple[Optional[int], int, list[int]]] = []
-    for k, r in enumerate(check.rules):
-        if r.kind == "hold":
-            t = cur
-        elif r.kind == "step":
-            t = seq.next_bits(aig, cur)
-        elif r.kind == "back":
-            t = seq.prev_bits(aig, cur)
-        elif r.load_const is not None:
-            t = [TRUE if (r.load_const >> i) & 1 else FALSE for i in range(w)]
-        else:
-            assert r.load_bits is not None
-            t = list(reversed(r.load_bits))
-        out.append((k, aig.and_(none_before, r.cond), t))
-        none_before = aig.and_(none_before, r.cond ^ 1)
-    if not any(r.kind == "step" for r in check.rules):
-        out.append((None, none_before, seq.next_bits(aig, cur)))
-    return [x for x in out if x[1] != FALSE]
 
 
 def build_count(check: Check, sat: Sat, split: bool = True) -> CountProblem:

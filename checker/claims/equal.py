@@ -125,14 +125,8 @@ def differences(a: Design, b: Design, state: dict[str, int], inputs: dict[str, i
 def _paired_trace(check: Check, b: Design, state: dict[str, int], inputs: dict[str, int]) -> list[TraceEntry]:
     """A one-clock trace in both designs, replayed in both."""
     a = check.design
-    idx = code_indices(check)
-    bidx = [b.model.states.index(a.model.states[i]) for i in idx]
-    na, _, _ = a.model.step(state, inputs)
-    nb, _, _ = b.model.step(state, inputs)
-    trace = [TraceEntry(0, _code(a.model.states, idx, state), dict(inputs), _code(b.model.states, bidx, state)),
-             TraceEntry(1, _code(a.model.states, idx, na), None, _code(b.model.states, bidx, nb))]
-    replay(a, check, trace, code=idx)
-    replay(b, check, [TraceEntry(t.clock, t.other_code, t.inputs) for t in trace], code=bidx)
+    bidx = [b.model.states.index(a.model.states[i]) for i in code_indices(check)]
+    trace = _one_clock(check, b, bidx, state, state, inputs)
     flops, outs = differences(a, b, state, inputs)
     if not flops and not outs:
         raise ReplayError(f"{a.name} and {b.name} agree at code {trace[0].code} under the miter's inputs")
@@ -402,9 +396,15 @@ def _undetermined(check: Check, claim: Claim, b: Design, ra: Reset, rb: Reset) -
 
 def _after_prefix(check: Check, b: Design, sa: dict[str, int], sb: dict[str, int], ins: dict[str, int]) -> list[TraceEntry]:
     """One clock from (sa, sb) under ``ins``, replayed in both designs."""
+    return _one_clock(check, b, list(range(len(b.model.states))), sa, sb, ins)
+
+
+def _one_clock(check: Check, b: Design, bidx: list[int], sa: dict[str, int], sb: dict[str, int],
+               ins: dict[str, int]) -> list[TraceEntry]:
+    """A two-entry trace: this design from ``sa`` and ``b`` from ``sb`` (code bits ``bidx``)
+    under ``ins`` for one clock, replayed in both designs."""
     a = check.design
     idx = code_indices(check)
-    bidx = list(range(len(b.model.states)))
     na, _, _ = a.model.step(sa, ins)
     nb, _, _ = b.model.step(sb, ins)
     trace = [TraceEntry(0, _code(a.model.states, idx, sa), dict(ins), _code(b.model.states, bidx, sb)),
