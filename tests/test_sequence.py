@@ -14,6 +14,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from checker import gf2
 from checker import sequence as seqmod
 from checker.model import Aig, evaluate
 from checker.sequence import (
@@ -372,7 +373,7 @@ def test_galois_primitive_polynomials(width, method):
 @given(st.integers(1, 60).flatmap(lambda n: st.integers(0, (1 << n) - 1).map(lambda low: (1 << n) | low | 1)))
 def test_irreducibility_matches_galois(poly):
     n = poly.bit_length() - 1
-    ours = seqmod._irreducible(seqmod._Gf2Modulus(poly), time.monotonic() + 60)
+    ours = gf2._irreducible(gf2._Gf2Modulus(poly), time.monotonic() + 60)
     coeffs = [(poly >> i) & 1 for i in range(n, -1, -1)]
     assert ours == galois.Poly(coeffs, field=GF2).is_irreducible()
 
@@ -407,10 +408,10 @@ def test_irreducible_but_not_primitive_rejected(width, k):
 def test_factors_of_2n_minus_1_up_to_128():
     deadline = time.monotonic() + 60
     for n in range(1, 129):
-        primes = seqmod._prime_factors_2n_minus_1(n, deadline)
+        primes = gf2._prime_factors_2n_minus_1(n, deadline)
         rest = 2**n - 1
         for q in primes:
-            assert rest % q == 0 and seqmod._probable_prime(q)
+            assert rest % q == 0 and gf2._probable_prime(q)
             while rest % q == 0:
                 rest //= q
         assert rest == 1, n
@@ -418,7 +419,7 @@ def test_factors_of_2n_minus_1_up_to_128():
 
 def test_factoring_out_of_time(monkeypatch):
     monkeypatch.setattr(seqmod, "FACTOR_SECONDS", 0.0)
-    monkeypatch.setattr(seqmod, "_FACTORS", {})
+    monkeypatch.setattr(gf2, "_FACTORS", {})
     with pytest.raises(SequenceError, match="took longer than") as e:
         make_sequence("lfsr", XAPP052_TAPS[32], 32)
     assert "2^32 - 1" in e.value.message and e.value.arg is None
