@@ -237,6 +237,11 @@ class File:
 
 
 # --- the parser ----------------------------------------------------------
+def int_value(text: str) -> int:
+    """Value of a number token: ``0b..``, ``0x..`` or decimal (leading zeros allowed)."""
+    return int(text, 0) if text[:2].lower() in ("0b", "0x") else int(text, 10)
+
+
 def grammar_path() -> Path:
     """The grammar file: ``grammar/cnl.lark`` beside the package, in a checkout or a wheel."""
     here = Path(__file__).resolve().parent
@@ -402,7 +407,7 @@ class _Builder:
         return s
 
     def small_int(self, tok: Token) -> int:
-        v = int(str(tok), 0)
+        v = int_value(str(tok))
         if v > MAX_INDEX:
             raise InputError(self.pos(tok), f"bit index {tok} is too large (limit {MAX_INDEX})")
         return v
@@ -493,7 +498,7 @@ class _Builder:
         for it in t.children:
             tok = it.children[0]
             if tok.type == "INT":
-                items.append((int(str(tok), 0), self.pos(tok)))
+                items.append((int_value(str(tok)), self.pos(tok)))
             else:
                 items.append((str(tok), self.pos(tok)))
         return CountStmt(items, self.pos(t))
@@ -506,7 +511,7 @@ class _Builder:
 
     def c_recover_stmt(self, t: Tree) -> RecoverStmt:
         within, when = t.children
-        n = None if within is None else int(str(within.children[0]), 0)
+        n = None if within is None else int_value(str(within.children[0]))
         cond = None if when is None else self.expr(when.children[0])
         return RecoverStmt(n, cond, self.pos(t))
 
@@ -528,7 +533,7 @@ class _Builder:
         d = t.data
         if d == "num":
             tok = t.children[0]
-            return Num(int(str(tok), 0), str(tok), self.pos(tok))
+            return Num(int_value(str(tok)), str(tok), self.pos(tok))
         if d == "ref":
             *names, idx = t.children
             return Ref([self.name(n) for n in names], self.index(idx), self.pos(t))

@@ -136,3 +136,11 @@ def test_missing_file_and_bad_command_line(tmp_path):
     assert r.returncode == 2 and "no such file" in r.stderr and "Traceback" not in r.stderr
     r = run_cli("sim", "--frobnicate")
     assert r.returncode == 2 and "Traceback" not in r.stderr and r.stderr.count(":") >= 3
+
+
+def test_decimal_numbers_may_have_leading_zeros(write):
+    ns = load_namespace(write("design a\n  in x\n  flop q[1:0] : D\n  q.d = {x & 01, x}\nend\n"
+                              "check c of a\n  code q\n  count 00 01 02\n  recover within 007\nend\n"))
+    chk = ns.checks[0]
+    assert [c for c in chk.sequence.codes()] == [0, 1, 2]
+    assert chk.claims[1].within == 7
