@@ -230,7 +230,7 @@ def nums(draw):
     v = draw(st.integers(0, 2**70))
     style = draw(st.sampled_from(["dec", "0b", "0B", "0x", "0X", "0xU"]))
     if style == "dec":
-        text = str(v)  # no leading zeros: see the report on int('01', 0)
+        text = "0" * draw(st.integers(0, 2)) + str(v)  # leading zeros are allowed in decimal
     elif style in ("0b", "0B"):
         text = style + format(v, "b").zfill(draw(st.integers(1, 6)))
     elif style == "0xU":
