@@ -388,10 +388,15 @@ def test_after_agrees_with_product_search(tmp_path, seed, nflops, mode):
         assert len(r.trace) == want + 2  # shortest: clock 0 is the condition, clock 1 the reset pair
     ex = prove(check, engine="explicit")
     assert ex.status == r.status
+    sat = prove(check, engine="sat")  # the SAT engines alone (auto may have searched explicitly)
+    assert sat.status == r.status
+    if sat.status == REFUTED:
+        verify_after_trace(check, db, sat)
+        assert len(sat.trace) == want + 2
     # without BMC first: signal correspondence then IC3/PDR, and IC3/PDR alone, agree too
     prod, init = product(da.model, db.model), list(ra) + list(rb)
-    no_bmc = after_engines(prod, init, Options(), Budget(), bmc_first=0)
-    alone = after_engines(prod, init, Options(), Budget(), bmc_first=0, correspondence=False)
+    no_bmc = after_engines(prod, init, Options(engine="sat"), Budget(), bmc_first=0)
+    alone = after_engines(prod, init, Options(engine="sat"), Budget(), bmc_first=0, correspondence=False)
     assert no_bmc.status == r.status
     assert alone.status == r.status and alone.engine.startswith("ic3/pdr")
 
@@ -439,8 +444,9 @@ def ferry(n: int, encoded: bool, edit: str | None = None) -> str:
 @pytest.mark.parametrize("encoded", [False, True])
 def test_one_hot_against_binary(tmp_path, n, encoded):
     ns = load(tmp_path, ferry(n, encoded))
-    r = prove(ns.checks[0])
+    r = prove(ns.checks[0], engine="sat")
     assert r.status == PROVED, r.summary
+    assert prove(ns.checks[0]).status == PROVED  # auto: explicit search while the product is small
     if not encoded:
         # every one-hot flop corresponds to a decoder gate: an inductive correspondence (van Eijk 2000)
         assert r.details["engine"] == "signal correspondence"
@@ -451,12 +457,13 @@ def test_one_hot_against_binary(tmp_path, n, encoded):
 def test_one_hot_against_binary_edits_are_caught(tmp_path, edit, encoded):
     ns = load(tmp_path, ferry(8, encoded, edit))
     check = ns.checks[0]
-    r = prove(check)
-    assert r.status == REFUTED, r.summary
-    verify_after_trace(check, ns.designs["gate_hot"], r)
     want = product_bfs(ns.designs["gate_bin"].model, ns.designs["gate_hot"].model,
                        (0, 0, 0), (1,) + (0,) * 7)
-    assert len(r.trace) == want + 2
+    for engine in ("auto", "sat"):
+        r = prove(check, engine=engine)
+        assert r.status == REFUTED, r.summary
+        verify_after_trace(check, ns.designs["gate_hot"], r)
+        assert len(r.trace) == want + 2
 
 
 MIST = """
@@ -496,7 +503,7 @@ def test_deep_difference_is_found_past_the_first_bmc_bound(tmp_path):
     """A swapped mux input at position 16 of 32 shows only 16 clocks after the reset pair."""
     ns = load(tmp_path, ferry(32, True, "swapped input"))
     check = ns.checks[0]
-    r = prove(check)
+    r = prove(check, engine="sat")
     assert r.status == REFUTED and "ic3/pdr" in r.details["engine"]
     verify_after_trace(check, ns.designs["gate_hot"], r)
     want = product_bfs(ns.designs["gate_bin"].model, ns.designs["gate_hot"].model, (0,) * 5, (1,) + (0,) * 31)
