@@ -10,7 +10,8 @@ codes that can stay unused forever, and every strongly connected set of
 unused codes that holds a cycle.
 
 In v1 ``code`` names every flop, so a code is the whole state; the engine
-refuses a check whose code leaves a flop out.
+refuses a check whose code leaves a flop out. Repair hints drawn from an
+:class:`Analysis` are in :mod:`checker.repair`.
 
 Memory: the successor table takes 4 bytes per edge (one edge per code and
 admissible input row), at most :data:`EDGE_LIMIT` edges (128 MiB); the depth
@@ -27,6 +28,7 @@ work queue when a long thin tail remains).
 
 from __future__ import annotations
 
+from collections import deque
 from dataclasses import dataclass, field
 from typing import Optional
 
@@ -71,6 +73,12 @@ class OutOfBudget(Exception):
         self.depth = depth
 
 
+def _tick(budget: Optional[Budget], depth: int) -> None:
+    """Raise :class:`OutOfBudget` at ``depth`` when the budget has run out."""
+    if budget is not None and budget.expired():
+        raise OutOfBudget(depth)
+
+
 @dataclass
 class Rows:
     """The admissible input rows: combinations of the input bits that reach the next code.
@@ -104,6 +112,14 @@ class Graph:
     @property
     def deterministic(self) -> bool:
         return self.succ.shape[0] == 1
+
+    @classmethod
+    def of(cls, width: int, succ: np.ndarray, rows: Rows, member: np.ndarray) -> "Graph":
+        """The graph of ``succ``, with the rows kept to one when every row gives the same next codes."""
+        if len(rows) > 1 and bool(np.all(succ == succ[0])):
+            succ = succ[:1].copy()
+            rows = Rows(rows.names, rows.values[:1], rows.full[:1])
+        return cls(width, succ, rows, member)
 
 
 @dataclass
@@ -148,14 +164,19 @@ def _names_of(check: Check, nodes: list[int]) -> list[str]:
     return sorted((by_node[n] for n in nodes), key=order.__getitem__)
 
 
+def _next_input_nodes(check: Check) -> list[int]:
+    """The input nodes that reach the next code."""
+    m = check.design.model
+    return _input_nodes(check, [m.next_lits[i] for i in check.code])
+
+
 def feasible(check: Check, cond: int) -> tuple[bool, str]:
     """Whether the explicit engine can take this check under ``cond``, and why not."""
     require_whole_state(check)
     w = check.width
     if w > MAX_WIDTH:
         return False, f"the code is {w} bits wide (the explicit engine takes up to {MAX_WIDTH})"
-    m = check.design.model
-    nxt = _input_nodes(check, [m.next_lits[i] for i in check.code])
+    nxt = _next_input_nodes(check)
     if len(nxt) > INPUT_BITS_LIMIT:
         return False, f"{len(nxt)} input bits reach the next code (the explicit engine enumerates up to {INPUT_BITS_LIMIT})"
     bound = (1 << w) << len(nxt)
@@ -182,50 +203,56 @@ def admissible_rows(check: Check, cond: int) -> Rows:
     meets ``cond``. Raises :class:`ValueError` when ``cond`` holds for no input
     at all (the caller turns that into an input error at the claim).
     """
-    m = check.design.model
-    nxt_nodes = _input_nodes(check, [m.next_lits[i] for i in check.code])
-    cond_nodes = _input_nodes(check, [cond])
+    nxt_nodes = _next_input_nodes(check)
     names = _names_of(check, nxt_nodes)
-    every = _names_of(check, sorted(set(nxt_nodes) | set(cond_nodes)))
-    lit_of = dict(zip(m.inputs, m.input_lits))
-    if len(every) <= ENUMERATE_LIMIT:
-        k = len(every)
-        n = 1 << k
-        idx = np.arange(n, dtype=np.uint32)
-        leaves = {lit_of[name] >> 1: ((idx >> np.uint32(j)) & np.uint32(1)).astype(bool)
-                  for j, name in enumerate(every)}
-        ok = eval_states(m, [cond], leaves, n)[0]
-        combos = np.flatnonzero(ok)
-        if combos.size == 0:
-            raise ValueError("no input meets the condition")
-        pos = [every.index(name) for name in names]
-        key = np.zeros(combos.size, dtype=np.uint32)
-        for j, p in enumerate(pos):
-            key |= ((combos >> p) & 1).astype(np.uint32) << np.uint32(j)
-        _, first = np.unique(key, return_index=True)
-        values, full = [], []
-        for c in combos[np.sort(first)]:
-            bits = {name: int((int(c) >> j) & 1) for j, name in enumerate(every)}
-            values.append([bits[name] for name in names])
-            full.append({name: bits.get(name, 0) for name in m.inputs})
-        return Rows(names, values, full)
-    # Too many condition inputs to enumerate: one SAT call per combination.
-    sat = Sat()
-    enc = Encoder(m.aig, sat)
-    env = enc.new_env({})
-    c_lit = enc.lit(env, cond)
-    in_lits = {name: enc.lit(env, lit_of[name]) for name in every}
-    values, full = [], []
-    for combo in range(1 << len(names)):
-        bits = [(combo >> j) & 1 for j in range(len(names))]
-        assume = [c_lit] + [in_lits[nm] if b else -in_lits[nm] for nm, b in zip(names, bits)]
-        if sat.solve(assume):
-            values.append(bits)
-            full.append({name: (sat.value(in_lits[name]) if name in in_lits else 0) for name in m.inputs})
-    sat.close()
+    every = _names_of(check, sorted(set(nxt_nodes) | set(_input_nodes(check, [cond]))))
+    find = _rows_by_enumeration if len(every) <= ENUMERATE_LIMIT else _rows_by_sat
+    values, full = find(check, cond, names, every)
     if not values:
         raise ValueError("no input meets the condition")
     return Rows(names, values, full)
+
+
+def _rows_by_enumeration(check: Check, cond: int, names: list[str],
+                         every: list[str]) -> tuple[list[list[int]], list[dict[str, int]]]:
+    """Rows by evaluating ``cond`` on every combination of the inputs in ``every`` at once."""
+    m = check.design.model
+    lit_of = dict(zip(m.inputs, m.input_lits))
+    n = 1 << len(every)
+    idx = np.arange(n, dtype=np.uint32)
+    leaves = {lit_of[name] >> 1: ((idx >> np.uint32(j)) & np.uint32(1)).astype(bool)
+              for j, name in enumerate(every)}
+    combos = np.flatnonzero(eval_states(m, [cond], leaves, n)[0])
+    key = np.zeros(combos.size, dtype=np.uint32)
+    for j, name in enumerate(names):
+        key |= ((combos >> every.index(name)) & 1).astype(np.uint32) << np.uint32(j)
+    _, first = np.unique(key, return_index=True)  # the first combination of each row
+    values, full = [], []
+    for c in combos[np.sort(first)].tolist():
+        bits = {name: (c >> j) & 1 for j, name in enumerate(every)}
+        values.append([bits[name] for name in names])
+        full.append({name: bits.get(name, 0) for name in m.inputs})
+    return values, full
+
+
+def _rows_by_sat(check: Check, cond: int, names: list[str],
+                 every: list[str]) -> tuple[list[list[int]], list[dict[str, int]]]:
+    """Rows by one SAT call per combination of ``names`` (too many condition inputs to enumerate)."""
+    m = check.design.model
+    lit_of = dict(zip(m.inputs, m.input_lits))
+    values, full = [], []
+    with Sat() as sat:
+        enc = Encoder(m.aig, sat)
+        env = enc.new_env({})
+        c_lit = enc.lit(env, cond)
+        in_lits = {name: enc.lit(env, lit_of[name]) for name in every}
+        for combo in range(1 << len(names)):
+            bits = [(combo >> j) & 1 for j in range(len(names))]
+            assume = [c_lit] + [in_lits[nm] if b else -in_lits[nm] for nm, b in zip(names, bits)]
+            if sat.solve(assume):
+                values.append(bits)
+                full.append({name: (sat.value(in_lits[name]) if name in in_lits else 0) for name in m.inputs})
+    return values, full
 
 
 # --- the successor table --------------------------------------------------
@@ -269,33 +296,24 @@ def build_graph(check: Check, rows: Rows, budget: Optional[Budget] = None) -> Gr
     out = np.empty(padded, dtype=np.uint32)
     chunk = max(64, min(CHUNK, padded))
     for base in range(0, padded, chunk):
-        if budget is not None and budget.expired():
-            raise OutOfBudget(0)
+        _tick(budget, 0)
         size = min(chunk, padded - base)
         nw = size // 64
-        leaves: dict[int, np.ndarray] = {}
-        for pos, node in enumerate(code_nodes):
-            leaves[node] = _packed_bits(base, nw, w - 1 - pos)
+        leaves = {node: _packed_bits(base, nw, w - 1 - pos) for pos, node in enumerate(code_nodes)}
         if rows.names:
-            sample = np.arange(base, base + size, dtype=np.int64)
-            r = np.minimum(sample >> w, len(rows) - 1)
+            r = np.minimum(np.arange(base, base + size, dtype=np.int64) >> w, len(rows) - 1)
             for j, name in enumerate(rows.names):
                 leaves[lit_of[name] >> 1] = _pack(row_bits[r, j])
-        needed = {nd: v for nd, v in leaves.items()}
-        vals = evaluate(aig, needed, roots, np.full(nw, ONES, dtype=np.uint64))
+        vals = evaluate(aig, leaves, roots, np.full(nw, ONES, dtype=np.uint64))
         acc = np.zeros(size, dtype=np.uint32)
         for pos, v in enumerate(vals):
             v = np.broadcast_to(v, (nw,))
             bits = np.unpackbits(np.ascontiguousarray(v).view(np.uint8), bitorder="little")
             acc |= bits.astype(np.uint32) << np.uint32(w - 1 - pos)
         out[base:base + size] = acc
-    succ = out[:total].reshape(len(rows), n)
-    if len(rows) > 1 and bool(np.all(succ == succ[0])):
-        succ = succ[:1].copy()
-        rows = Rows(rows.names, rows.values[:1], rows.full[:1])
     assert check.sequence is not None
     member = check.sequence.member_array(np.arange(n, dtype=np.uint64))
-    return Graph(w, succ, rows, member)
+    return Graph.of(w, out[:total].reshape(len(rows), n), rows, member)
 
 
 # --- depth ------------------------------------------------------------------
@@ -320,8 +338,7 @@ def _depth_functional(g: Graph, budget: Optional[Budget]) -> tuple[np.ndarray, i
     act = np.flatnonzero(~g.member).astype(np.int32)
     rounds = 0
     for rounds in range(1, _rounds_for(n) + 1):
-        if budget is not None and budget.expired():
-            raise OutOfBudget(rounds)
+        _tick(budget, rounds)
         p = ptr[act]
         dp = steps[p]
         done = dp >= 0
@@ -362,8 +379,7 @@ def _depth_game(g: Graph, budget: Optional[Budget]) -> tuple[np.ndarray, int]:
     frontier = np.flatnonzero(g.member).astype(np.int32)
     r = 0
     while frontier.size:
-        if budget is not None and budget.expired():
-            raise OutOfBudget(r)
+        _tick(budget, r)
         if r >= VECTOR_ROUNDS and frontier.size < QUEUE_FRONTIER:
             # a long thin tail: vector rounds would cost more than their work
             _depth_queue(g, steps, pending, offs, src_sorted, frontier, budget)
@@ -386,8 +402,6 @@ def _depth_game(g: Graph, budget: Optional[Budget]) -> tuple[np.ndarray, int]:
 def _depth_queue(g: Graph, steps: np.ndarray, pending: np.ndarray, offs: np.ndarray,
                  src_sorted: np.ndarray, frontier: np.ndarray, budget: Optional[Budget]) -> None:
     """Finish the retrograde analysis from ``frontier`` with a work queue (same answers as rounds)."""
-    from collections import deque
-
     succ = g.succ
     queue = deque(int(x) for x in frontier)
     done = 0
@@ -395,7 +409,7 @@ def _depth_queue(g: Graph, steps: np.ndarray, pending: np.ndarray, offs: np.ndar
         v = queue.popleft()
         done += 1
         if done & 0xFFFF == 0 and budget is not None and budget.expired():
-            raise OutOfBudget(int(steps.max()))
+            raise OutOfBudget(int(steps.max()))  # the max only once out of time: it costs a pass
         for p in src_sorted[offs[v]:offs[v + 1]].tolist():
             pending[p] -= 1
             if pending[p] == 0:
@@ -453,15 +467,12 @@ def scc_cycles(n: int, src: np.ndarray, dst: np.ndarray) -> list[np.ndarray]:
         out.extend(np.array([x]) for x in np.flatnonzero(dead & selfloop))
 
     while True:
-        e = alive[src] & alive[dst]
-        s, t = src[e], dst[e]
         for _ in range(VECTOR_ROUNDS):  # trim
             e = alive[src] & alive[dst]
-            s, t = src[e], dst[e]
             has_in = np.zeros(n, dtype=bool)
             has_out = np.zeros(n, dtype=bool)
-            has_in[t] = True
-            has_out[s] = True
+            has_in[dst[e]] = True
+            has_out[src[e]] = True
             keep = alive & has_in & has_out
             if np.array_equal(keep, alive):
                 break
@@ -469,6 +480,8 @@ def scc_cycles(n: int, src: np.ndarray, dst: np.ndarray) -> list[np.ndarray]:
             alive = keep
         if not alive.any():
             break
+        e = alive[src] & alive[dst]
+        s, t = src[e], dst[e]
         color = np.where(alive, idx, n)
         settled = False
         for _ in range(VECTOR_ROUNDS):
@@ -492,7 +505,12 @@ def scc_cycles(n: int, src: np.ndarray, dst: np.ndarray) -> list[np.ndarray]:
             if grp.size > 1 or selfloop[grp[0]]:
                 out.append(grp)
         alive &= ~mark
-    return sorted(out, key=lambda a: tuple(a.tolist()))
+    return _sorted_sets(out)
+
+
+def _sorted_sets(sets: list[np.ndarray]) -> list[np.ndarray]:
+    """Sets of sorted codes in lexicographic order."""
+    return sorted(sets, key=lambda a: tuple(a.tolist()))
 
 
 def _tarjan_cycles(n: int, src: np.ndarray, dst: np.ndarray, alive: np.ndarray,
@@ -550,21 +568,27 @@ def _tarjan_cycles(n: int, src: np.ndarray, dst: np.ndarray, alive: np.ndarray,
     return out
 
 
+def inner_edges(g: Graph, members: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The edges of ``g`` between codes of ``members`` (sorted), as positions into ``members``.
+
+    One edge per row and code, so an edge two rows share comes twice.
+    """
+    k = members.size
+    dst = g.succ[:, members].ravel().astype(np.int64)  # row-major: entry i is code i % k's successor
+    t = np.minimum(np.searchsorted(members, dst), k - 1)
+    inside = np.flatnonzero(members[t] == dst)
+    return inside % k, t[inside]
+
+
 def _cycles(g: Graph, steps: np.ndarray) -> list[np.ndarray]:
+    """Every strongly connected set of locked codes that holds a cycle, sorted."""
     locked = np.flatnonzero(steps < 0).astype(np.int64)
     if locked.size == 0:
         return []
     if g.deterministic:
-        sets = _functional_cycles(locked, g.succ[0].astype(np.int64))
-    else:
-        m = g.succ.shape[0]
-        src = np.tile(locked, m)
-        dst = g.succ[:, locked].ravel().astype(np.int64)
-        inside = steps[dst] < 0
-        s = np.searchsorted(locked, src[inside])
-        t = np.searchsorted(locked, dst[inside])
-        sets = [locked[x] for x in scc_cycles(locked.size, s, t)]
-    return sorted(sets, key=lambda a: tuple(a.tolist()))
+        return _sorted_sets(_functional_cycles(locked, g.succ[0].astype(np.int64)))
+    # scc_cycles lists sets in order, and positions map to codes in order
+    return [locked[x] for x in scc_cycles(locked.size, *inner_edges(g, locked))]
 
 
 # --- the analysis -------------------------------------------------------------
@@ -577,9 +601,9 @@ def analyse(g: Graph, budget: Optional[Budget] = None) -> Analysis:
         steps, rounds = _depth_game(g, budget)
     unused = ~g.member
     count = int(unused.sum())
-    sets = _cycles(g, steps)
     if count == 0:
         return Analysis(g, steps, 0, None, [], 0, rounds)
+    sets = _cycles(g, steps)
     if sets or bool((steps[unused] < 0).any()):
         return Analysis(g, steps, None, None, sets, count, rounds)
     worst_code = int(np.argmax(steps))
@@ -588,19 +612,21 @@ def analyse(g: Graph, budget: Optional[Budget] = None) -> Analysis:
 
 def explore(check: Check, cond: int, budget: Optional[Budget] = None) -> Analysis:
     """Build the successor graph of ``check`` under ``cond`` and analyse it."""
-    rows = admissible_rows(check, cond)
-    g = build_graph(check, rows, budget)
-    return analyse(g, budget)
+    return analyse(build_graph(check, admissible_rows(check, cond), budget), budget)
 
 
 # --- runs ------------------------------------------------------------------------
 
+def worst_key(steps: np.ndarray) -> np.ndarray:
+    """``steps`` as int64 sort keys, worst largest: a locked code (-1) above every count."""
+    d = steps.astype(np.int64)
+    return np.where(d < 0, np.int64(1) << 40, d)
+
+
 def worst_step(a: Analysis, codes: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """For each code, the row and next code of a worst run (a locked successor first)."""
     cand = a.graph.succ[:, codes]  # (rows, k)
-    d = a.steps[cand].astype(np.int64)
-    d = np.where(d < 0, np.int64(1) << 40, d)
-    row = np.argmax(d, axis=0)
+    row = np.argmax(worst_key(a.steps[cand]), axis=0)
     return row, cand[row, np.arange(codes.size)]
 
 
@@ -610,14 +636,10 @@ def worst_run(a: Analysis, code: int, clocks: int) -> tuple[list[int], list[int]
     Returns (codes, rows) with ``len(rows) == len(codes) - 1``.
     """
     codes, rows = [int(code)], []
-    c = np.array([code], dtype=np.int64)
-    for _ in range(clocks):
-        if a.graph.member[c[0]]:
-            break
-        r, nx = worst_step(a, c)
+    while len(rows) < clocks and not a.graph.member[codes[-1]]:
+        r, nx = worst_step(a, np.array(codes[-1:], dtype=np.int64))
         rows.append(int(r[0]))
         codes.append(int(nx[0]))
-        c = nx.astype(np.int64)
     return codes, rows
 
 
@@ -663,244 +685,5 @@ def cycle_run(a: Analysis, members: np.ndarray, limit: int) -> tuple[list[int], 
 def _fix_rows(a: Analysis, codes: list[int]) -> list[int]:
     """The row that takes each code of a run to the next one."""
     succ = a.graph.succ
-    out = []
-    for x, y in zip(codes, codes[1:]):
-        out.append(int(np.flatnonzero(succ[:, x] == y)[0]))
-    return out
+    return [int(np.flatnonzero(succ[:, x] == y)[0]) for x, y in zip(codes, codes[1:])]
 
-
-# --- repair hints ------------------------------------------------------------
-
-EXACT_FVS_LIMIT = 128
-"""Largest locked set whose smallest feedback set is found exactly (by SAT)."""
-
-TABLE_LIMIT = 64
-"""Most redirected codes a repair plan lists (the count is always given)."""
-
-
-@dataclass
-class RepairPlan:
-    """Advice: unused codes whose next code, sent into the sequence, removes every lock.
-
-    ``codes`` is a smallest such set when ``exact``; ``table`` rows are
-    (code, its next codes now, the proposed next code); ``worst_after`` the
-    worst number of clocks once redirected (None when not computed).
-    """
-
-    codes: list[int]
-    target: int
-    exact: bool
-    table: list[tuple[int, list[int], int]]
-    worst_after: Optional[int] = None
-    for_within: list[int] = field(default_factory=list)
-    notes: list[str] = field(default_factory=list)
-
-
-def _set_edges(a: Analysis, members: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Edges inside ``members`` (sorted codes), as positions into ``members``."""
-    m = a.graph.succ.shape[0]
-    src = np.tile(np.arange(members.size), m)
-    dst_codes = a.graph.succ[:, members].ravel().astype(np.int64)
-    t = np.searchsorted(members, dst_codes)
-    t = np.minimum(t, members.size - 1)
-    ok = members[t] == dst_codes
-    n = members.size
-    pairs = np.unique(src[ok].astype(np.int64) * n + t[ok])
-    return pairs // n, pairs % n
-
-
-def _find_cycle(n: int, adj: list[list[int]], removed: set[int]) -> Optional[list[int]]:
-    """Some cycle among the nodes not removed (iterative depth-first search)."""
-    state = [0] * n  # 0 new, 1 on stack, 2 done
-    for root in range(n):
-        if root in removed or state[root]:
-            continue
-        stack = [(root, iter(adj[root]))]
-        path = [root]
-        state[root] = 1
-        while stack:
-            v, it = stack[-1]
-            nxt = next(it, None)
-            if nxt is None:
-                state[v] = 2
-                stack.pop()
-                path.pop()
-                continue
-            if nxt in removed:
-                continue
-            if state[nxt] == 1:
-                return path[path.index(nxt):]
-            if state[nxt] == 0:
-                state[nxt] = 1
-                stack.append((nxt, iter(adj[nxt])))
-                path.append(nxt)
-    return None
-
-
-def _exact_fvs(n: int, adj: list[list[int]], forced: set[int]) -> list[int]:
-    """A smallest feedback vertex set by implicit hitting sets.
-
-    Cycles are collected lazily; a smallest set hitting all collected cycles
-    is found by SAT with an at-most-k cardinality constraint (sequential
-    counter, Sinz 2005, from pysat.card), k rising from the last optimum;
-    when the graph without that set still has a cycle, the cycle is added.
-    """
-    from pysat.card import CardEnc, EncType
-    from pysat.solvers import Solver
-
-    cycles: list[list[int]] = []
-    k = 0
-    while True:
-        best: Optional[list[int]] = None
-        while best is None:
-            with Solver(name="minisat22") as s:
-                for v in forced:
-                    s.add_clause([v + 1])
-                for cyc in cycles:
-                    s.add_clause([v + 1 for v in cyc])
-                if k < n:
-                    card = CardEnc.atmost(list(range(1, n + 1)), bound=k, top_id=n, encoding=EncType.seqcounter)
-                    for cl in card.clauses:
-                        s.add_clause(cl)
-                if s.solve():
-                    model = s.get_model()
-                    best = [v for v in range(n) if model[v] > 0]
-                else:
-                    k += 1
-        cyc = _find_cycle(n, adj, set(best))
-        if cyc is None:
-            return best
-        cycles.append(cyc)
-
-
-def _greedy_fvs(n: int, src: np.ndarray, dst: np.ndarray, forced: set[int]) -> list[int]:
-    """A feedback vertex set by repeated removal of the busiest node (not always smallest)."""
-    removed = np.zeros(n, dtype=bool)
-    removed[list(forced)] = True
-    while True:
-        keep = ~removed[src] & ~removed[dst]
-        s, t = src[keep], dst[keep]
-        sets = scc_cycles(n, s, t)
-        if not sets:
-            return sorted(int(x) for x in np.flatnonzero(removed))
-        inside = np.zeros(n, dtype=bool)
-        for grp in sets:
-            inside[grp] = True
-        e = inside[s] & inside[t]
-        score = np.bincount(s[e], minlength=n) * np.bincount(t[e], minlength=n)
-        removed[int(np.argmax(score))] = True
-
-
-def feedback_codes(a: Analysis) -> tuple[list[int], bool]:
-    """A smallest set of unused codes meeting every cycle of unused codes, and whether it is exact.
-
-    Each locked set is independent: a code that holds itself under some
-    input must be in the set; a set that is one simple cycle needs one code
-    (its smallest); other sets up to :data:`EXACT_FVS_LIMIT` codes are
-    solved exactly, larger ones greedily.
-    """
-    out: list[int] = []
-    exact = True
-    if a.graph.deterministic:  # every set is one simple cycle: its smallest code breaks it
-        return sorted(int(s[0]) for s in a.locked_sets), True
-    for members in a.locked_sets:
-        if members.size == 1:  # a set of one code holds a cycle only by holding itself
-            out.append(int(members[0]))
-            continue
-        src, dst = _set_edges(a, members)
-        forced = set(int(x) for x in src[src == dst])
-        n = members.size
-        if not forced and src.size == n and np.unique(src).size == n:
-            out.append(int(members[0]))  # a simple cycle: one code breaks it
-            continue
-        if n <= EXACT_FVS_LIMIT:
-            adj: list[list[int]] = [[] for _ in range(n)]
-            for x, y in zip(src.tolist(), dst.tolist()):
-                if y not in adj[x]:
-                    adj[x].append(y)
-            pick = _exact_fvs(n, adj, forced)
-        else:
-            pick = _greedy_fvs(n, src, dst, forced)
-            exact = exact and len(pick) == len(forced)
-        out.extend(int(members[i]) for i in pick)
-    return sorted(out), exact
-
-
-def redirected(a: Analysis, codes: list[int], target: int, budget: Optional[Budget] = None) -> Analysis:
-    """The analysis of the same graph with ``codes`` sent to ``target`` under every row."""
-    succ = a.graph.succ.copy()
-    if codes:
-        succ[:, np.asarray(codes, dtype=np.int64)] = target
-    if succ.shape[0] > 1 and bool(np.all(succ == succ[0])):
-        succ = succ[:1]
-    g = Graph(a.graph.width, succ, a.graph.rows, a.graph.member)
-    return analyse(g, budget)
-
-
-def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
-                budget: Optional[Budget] = None, recompute_limit: int = 1 << 20) -> RepairPlan:
-    """Unused codes to redirect into ``target`` so that no lock remains (and, with
-    ``within``, so that every unused code recovers within that many clocks).
-
-    The lock part is a smallest feedback vertex set over the locked sets (see
-    :func:`feedback_codes`). The ``within`` part is greedy: while some code
-    needs more than ``within`` clocks, redirect the code ``within - 1`` clocks
-    down its worst run, then look again. Advice only.
-    """
-    codes, exact = feedback_codes(a)
-    notes = []
-    if not exact:
-        notes.append(f"a locked set has more than {EXACT_FVS_LIMIT} codes: the set is found greedily and may not be the smallest")
-    after: Optional[Analysis] = None
-    extra: list[int] = []
-    if a.graph.size <= recompute_limit:
-        after = redirected(a, codes, target, budget) if codes else a
-        rounds = 0
-        while within is not None and after.worst is not None and after.worst > within and within >= 1:
-            if rounds == 64:
-                notes.append("stopped after 64 rounds of greedy redirects for the clock bound")
-                break
-            # every code at the current worst: redirect the code within-1 clocks down its worst run
-            cur = np.flatnonzero(after.steps == after.worst).astype(np.int64)
-            for _ in range(within - 1):
-                _, cur = worst_step(after, cur)
-                cur = cur.astype(np.int64)
-            pick = sorted(set(int(c) for c in cur))
-            extra.extend(pick)
-            after = redirected(after, pick, target, budget)
-            rounds += 1
-        if extra:
-            notes.append("the redirects for the clock bound are chosen greedily (not always the fewest)")
-    succ = a.graph.succ
-    table = []
-    for c in (codes + extra)[:TABLE_LIMIT]:
-        table.append((c, sorted({int(x) for x in succ[:, c]}), target))
-    return RepairPlan(codes, target, exact, table, None if after is None else after.worst, extra, notes)
-
-
-def plan_lines(plan: RepairPlan) -> list[str]:
-    """The repair plan as text lines for the readable report."""
-    every = plan.codes + plan.for_within
-    if not every:
-        return []
-    lines = []
-    if plan.codes:
-        what = "the smallest set" if plan.exact else "a set"
-        lines.append(f"repair hint: redirecting {len(plan.codes)} unused code(s) into the sequence "
-                     f"({what} that breaks every lock): {_short(plan.codes)}")
-    if plan.for_within:
-        lines.append(f"repair hint: redirecting {len(plan.for_within)} more code(s) meets the clock bound: {_short(plan.for_within)}")
-    lines.append("  code -> next now -> proposed next")
-    for c, now, new in plan.table:
-        lines.append(f"  {c} -> {'/'.join(str(x) for x in now)} -> {new}")
-    if len(every) > len(plan.table):
-        lines.append(f"  ... {len(every) - len(plan.table)} more")
-    if plan.worst_after is not None:
-        lines.append(f"  worst after the redirect: {plan.worst_after} clock(s)")
-    lines.extend(f"  note: {n}" for n in plan.notes)
-    return lines
-
-
-def _short(codes: list[int], limit: int = 16) -> str:
-    s = ", ".join(str(c) for c in codes[:limit])
-    return s + (f", ... ({len(codes)} in all)" if len(codes) > limit else "")

@@ -19,9 +19,10 @@ from typing import Optional
 import numpy as np
 
 from . import explicit as X
+from . import repair
 from .budget import Budget
 from .claims.common import Options, stepping
-from .claims.recover import LOCKED_LIST_LIMIT, choose_engine, sat_search, satisfiable
+from .claims.recover import choose_engine, locked_listing, sat_search, satisfiable, set_lines
 from .elaborate import Check
 from .errors import InputError
 
@@ -69,8 +70,7 @@ def _order(a: X.Analysis, limit: int) -> np.ndarray:
     unused = np.flatnonzero(~a.graph.member)
     if unused.size == 0 or limit <= 0:
         return unused[:0]
-    key = a.steps[unused].astype(np.int64)
-    key = np.where(key < 0, np.int64(1) << 40, key)
+    key = X.worst_key(a.steps[unused])
     if unused.size > limit:
         # the limit-th largest key; ties at it go to the smallest codes
         t = np.partition(key, unused.size - limit)[unused.size - limit]
@@ -116,14 +116,13 @@ def _entries(a: X.Analysis, codes: np.ndarray) -> list[dict]:
     return out
 
 
-def _locked_listing(sets: list[list[int]]) -> list[list[int]]:
-    out, n = [], 0
-    for s in sets:
-        if n + len(s) > LOCKED_LIST_LIMIT:
-            break
-        out.append(s)
-        n += len(s)
-    return out
+def _run_entry(codes: list[int], steps: Optional[int]) -> dict:
+    """The map entry of a run the SAT engine found, from its first code."""
+    path = codes[:PATH_LIMIT]
+    entry = {"code": path[0], "steps": steps, "next": path[1] if len(path) > 1 else None, "path": path}
+    if len(codes) > PATH_LIMIT:
+        entry["path_truncated"] = True
+    return entry
 
 
 def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opts: Optional[Options] = None,
@@ -155,7 +154,7 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
     if analysis is not None:
         doc.analysis = analysis
         doc["worst"] = analysis.worst
-        doc["locked"] = _locked_listing(analysis.locked_json())
+        doc["locked"] = locked_listing(analysis.locked_json())[0]
         doc["unused"] = _entries(analysis, _order(analysis, limit))
         return doc
     s = sat_search(check, lit, None, budget, opts.solver)
@@ -164,20 +163,12 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
         return doc
     if s.status == "locked":
         doc["locked"] = [s.cycle]
-        path = s.codes[:PATH_LIMIT]
-        entry = {"code": path[0], "steps": None, "next": path[1] if len(path) > 1 else None, "path": path}
-        if len(s.codes) > PATH_LIMIT:
-            entry["path_truncated"] = True
-        doc["unused"] = [entry][:limit]
+        doc["unused"] = [_run_entry(s.codes, None)][:limit]
         return doc
     doc["worst"] = s.worst
     doc["locked"] = []
     if s.worst_codes:
-        path = s.worst_codes[:PATH_LIMIT]
-        entry = {"code": path[0], "steps": s.worst, "next": path[1], "path": path}
-        if len(s.worst_codes) > PATH_LIMIT:
-            entry["path_truncated"] = True
-        doc["unused"] = [entry][:limit]
+        doc["unused"] = [_run_entry(s.worst_codes, s.worst)][:limit]
     return doc
 
 
@@ -189,8 +180,7 @@ def map_lines(doc: dict) -> list[str]:
         lines.append("undecided in the time given: worst unknown")
     elif doc["locked"]:
         lines.append(f"locked: {len(doc['locked'])} set(s) of unused codes hold a cycle")
-        for s in doc["locked"][:8]:
-            lines.append("  {" + ", ".join(map(str, s[:32])) + (", ..." if len(s) > 32 else "") + "}")
+        lines.extend(set_lines(doc["locked"]))
     else:
         lines.append(f"worst: {doc['worst']} clock(s)")
     if doc["unused"]:
@@ -213,7 +203,7 @@ def repair_hints(check: Check, cond: Optional[int] = None, within: Optional[int]
     """A smallest set of unused codes to redirect into the sequence so that no lock remains.
 
     Uses the explicit graph (a minimum feedback vertex set over the locked
-    sets, exact up to :data:`checker.explicit.EXACT_FVS_LIMIT` codes per set);
+    sets, exact up to :data:`checker.repair.EXACT_FVS_LIMIT` codes per set);
     with ``within``, greedy extra redirects until every unused code recovers
     in that many clocks. Returns None when the explicit engine cannot take
     the check. The dict holds ``redirect``, ``for_within``, ``target``,
@@ -225,7 +215,7 @@ def repair_hints(check: Check, cond: Optional[int] = None, within: Optional[int]
     if analysis is None:
         return None
     assert check.sequence is not None
-    plan = X.repair_plan(analysis, check.sequence.first(), within, budget)
+    plan = repair.repair_plan(analysis, check.sequence.first(), within, budget)
     return {"redirect": plan.codes, "for_within": plan.for_within, "target": plan.target, "exact": plan.exact,
             "table": [{"code": c, "next_now": now, "next_new": new} for c, now, new in plan.table],
-            "worst_after": plan.worst_after, "notes": plan.notes, "lines": X.plan_lines(plan)}
+            "worst_after": plan.worst_after, "notes": plan.notes, "lines": repair.plan_lines(plan)}

@@ -17,6 +17,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from checker import explicit as X
+from checker import repair as P
 from checker import recovery as R
 from checker.claims.common import Options
 from checker.elaborate import load_namespace
@@ -118,14 +119,14 @@ def test_repair_set_is_smallest_and_removes_every_lock(text):
     check = load_text(text)
     cond = condition(check)
     a = X.explore(check, cond)
-    plan = X.repair_plan(a, check.sequence.first())
+    plan = P.repair_plan(a, check.sequence.first())
     g, seq = reference_graph(check, cond)
     if not a.locked:
         assert plan.codes == []
         return
     assert plan.exact
     assert len(plan.codes) == _brute_smallest(g, seq)
-    after = X.redirected(a, plan.codes, check.sequence.first())
+    after = P.redirected(a, plan.codes, check.sequence.first())
     assert not after.locked and after.worst is not None and plan.worst_after == after.worst
 
 

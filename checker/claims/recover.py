@@ -8,7 +8,8 @@ unused codes forever. Worst: the largest number of clocks any unused code
 needs over every admissible run.
 
 Two engines. The explicit one (:mod:`checker.explicit`) decides every code
-of widths up to its limits exactly and lists every locked set. The SAT one
+of widths up to its limits exactly and lists every locked set (and
+:mod:`checker.repair` turns its answer into repair hints). The SAT one
 (:func:`sat_search`) unrolls runs of unused codes:
 
 * a bounded path search (bounded model checking, Biere, Cimatti, Clarke and
@@ -35,6 +36,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 from .. import explicit as X
+from .. import repair
 from ..budget import Budget
 from ..elaborate import Check, Claim
 from ..errors import InputError
@@ -296,10 +298,12 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     return res
 
 
-def _trace(codes: list[int], inputs: list[dict[str, int]]) -> list[TraceEntry]:
-    out = [TraceEntry(i, c, dict(inputs[i]) if i < len(inputs) else None) for i, c in enumerate(codes)]
-    out[-1].inputs = None
-    return out
+def _replayed(check: Check, codes: list[int], inputs: list[dict[str, int]]) -> list[TraceEntry]:
+    """The trace of a run, replayed through the simulator (which raises if it does not match)."""
+    trace = [TraceEntry(i, c, dict(inputs[i]) if i < len(inputs) else None) for i, c in enumerate(codes)]
+    trace[-1].inputs = None
+    replay(check.design, check, trace)
+    return trace
 
 
 def _arrow(codes: list[int], limit: int = 24) -> str:
@@ -319,7 +323,8 @@ def _sizes(sizes: list[int]) -> str:
     return ", ".join(f"{k} x{v}" for k, v in sorted(Counter(sizes).items()))
 
 
-def _locked_json(sets: list[list[int]]) -> tuple[list[list[int]], bool]:
+def locked_listing(sets: list[list[int]]) -> tuple[list[list[int]], bool]:
+    """The first locked sets that fit in :data:`LOCKED_LIST_LIMIT` codes, and whether any were left out."""
     out, n = [], 0
     for s in sets:
         if n + len(s) > LOCKED_LIST_LIMIT:
@@ -327,6 +332,11 @@ def _locked_json(sets: list[list[int]]) -> tuple[list[list[int]], bool]:
         out.append(s)
         n += len(s)
     return out, False
+
+
+def set_lines(sets: list[list[int]]) -> list[str]:
+    """The first few sets of codes as readable lines, each cut short when long."""
+    return ["  {" + ", ".join(map(str, s[:32])) + (", ..." if len(s) > 32 else "") + "}" for s in sets[:8]]
 
 
 def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
@@ -337,7 +347,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
     details: dict = {"engine": "explicit", "worst": a.worst, "worst_code": a.worst_code,
                      "unused_count": a.unused_count}
     sets = a.locked_json()
-    listed, cut = _locked_json(sets)
+    listed, cut = locked_listing(sets)
     details["locked"] = listed
     if cut:
         details["locked_truncated"] = True
@@ -347,13 +357,11 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
         details["locked_sizes"] = sizes
         smallest = min(a.locked_sets, key=lambda s: (s.size, int(s[0])))
         codes, rows, complete = X.cycle_run(a, smallest, TRACE_LIMIT)
-        trace = _trace(codes, [g.rows.full[r] for r in rows])
-        replay(check.design, check, trace)
+        trace = _replayed(check, codes, [g.rows.full[r] for r in rows])
         n_locked = int((a.steps < 0).sum())
         evidence.append(f"locked: {len(sets)} set(s) of unused codes hold a cycle (sizes {_sizes(sizes)}); "
                         f"{n_locked} unused code(s) can stay unused forever")
-        for s in sets[:8]:
-            evidence.append("  {" + ", ".join(map(str, s[:32])) + (", ..." if len(s) > 32 else "") + "}")
+        evidence.extend(set_lines(sets))
         evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + _arrow(codes))
         if not complete:
             details["trace_truncated"] = True
@@ -361,8 +369,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
                           trace=trace, details=details, evidence=evidence)
     elif claim.within is not None and a.worst is not None and a.worst > claim.within:
         codes, rows = X.worst_run(a, a.worst_code, claim.within)
-        trace = _trace(codes, [g.rows.full[r] for r in rows])
-        replay(check.design, check, trace)
+        trace = _replayed(check, codes, [g.rows.full[r] for r in rows])
         evidence.append(f"code {a.worst_code} is still unused after {claim.within} clock(s): {_arrow(codes)}")
         evidence.append(f"worst: {a.worst} clocks (from code {a.worst_code})")
         res = make_result(check, claim, REFUTED, f"code {a.worst_code} needs {a.worst} clocks, more than {claim.within}",
@@ -371,15 +378,15 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
         if a.worst_code is not None:
             # the evidence run (replayed as a check) is its first EVIDENCE_RUN clocks
             codes, rows = X.worst_run(a, a.worst_code, min(a.worst, EVIDENCE_RUN))
-            replay(check.design, check, _trace(codes, [g.rows.full[r] for r in rows]))
+            _replayed(check, codes, [g.rows.full[r] for r in rows])
             more = "" if a.worst <= EVIDENCE_RUN else f" -> ... ({a.worst - EVIDENCE_RUN} more clocks)"
             evidence.append(f"worst: {a.worst} clock(s), from code {a.worst_code}: {_arrow(codes)}{more}")
         else:
             evidence.append("no unused codes: worst 0")
         res = make_result(check, claim, PROVED, f"no lockout; worst {a.worst} clock(s)", details=details, evidence=evidence)
     if res.status == REFUTED:
-        plan = X.repair_plan(a, seq.first(), claim.within, budget)
-        res.advice = X.plan_lines(plan)
+        plan = repair.repair_plan(a, seq.first(), claim.within, budget)
+        res.advice = repair.plan_lines(plan)
     return res
 
 
@@ -400,8 +407,7 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
                         "the search stopped there")
         return make_result(check, claim, OPEN, f"open at depth {s.depth}", details=details, evidence=evidence)
     if s.status == "locked":
-        trace = _trace(s.codes, s.inputs)
-        replay(check.design, check, trace)
+        trace = _replayed(check, s.codes, s.inputs)
         details["locked"] = [s.cycle]
         details["worst"] = None
         loop = s.codes[s.codes.index(s.codes[-1]):]
@@ -417,8 +423,7 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
         n = claim.within
         assert n is not None
         codes, inputs = s.codes[:n + 1], s.inputs[:n]
-        trace = _trace(codes, inputs)
-        replay(check.design, check, trace)
+        trace = _replayed(check, codes, inputs)
         if s.worst is None:
             details["worst_at_least"] = s.worst_at_least
             evidence.append(f"worst: at least {s.worst_at_least} clocks (the search for the exact worst stopped there)")
@@ -431,8 +436,7 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
                       f"(next code {seq.first()}) shortens this run to {max(n, 1)} clock(s)"]
         return res
     if s.worst_codes:
-        tr = _trace(s.worst_codes, s.worst_inputs)
-        replay(check.design, check, tr)
+        _replayed(check, s.worst_codes, s.worst_inputs)
         evidence.append(f"worst: {s.worst} clock(s), from code {s.worst_codes[0]}: {_arrow(s.worst_codes)}")
     else:
         evidence.append("no unused codes: worst 0")

@@ -17,7 +17,7 @@ from typing import Optional, Union
 import numpy as np
 
 from ..elaborate import Check
-from ..explicit import Analysis
+from ..explicit import Analysis, worst_key
 
 MAX_NODES = 2048
 """Most codes drawn; past it the graph shows the locked sets and the slowest unused codes."""
@@ -50,8 +50,7 @@ def _chosen(a: Analysis, max_nodes: int) -> np.ndarray:
         budget -= s.size
     unused = np.flatnonzero(~a.graph.member)
     if budget > 0 and unused.size:
-        key = a.steps[unused].astype(np.int64)
-        key = np.where(key < 0, np.int64(1) << 40, key)
+        key = worst_key(a.steps[unused])
         take = min(budget // 2, unused.size)
         if take > 0:
             top = unused[np.argpartition(-key, take - 1)[:take]]
