@@ -2,11 +2,19 @@
 
 from __future__ import annotations
 
+import os
 import subprocess
 import sys
 from pathlib import Path
 
 import pytest
+from hypothesis import settings
+
+# CI runs the same examples every time (a failure there is reproducible, not
+# luck); a developer's run explores new ones. Set HYPOTHESIS_PROFILE to choose.
+settings.register_profile("ci", derandomize=True, deadline=None, print_blob=True)
+settings.register_profile("dev", deadline=None)
+settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "ci" if os.environ.get("CI") else "dev"))
 
 ROOT = Path(__file__).resolve().parent.parent
 
