@@ -142,11 +142,35 @@ def _parse_int(text: str, what: str) -> int:
         raise _bad(f"{what}: '{text}' is not a number (decimal, 0b binary or 0x hex)") from None
 
 
+def _input_settings(groups: list[str], design) -> dict[str, int]:
+    """Input bit values from ``--set NAME=VALUE`` options (repeated or comma-separated)."""
+    fixed: dict[str, int] = {}
+    for item in (it for group in groups for it in group.split(",") if it):
+        name, eq, value = item.partition("=")
+        if not eq:
+            raise _bad(f"--set takes NAME=VALUE, not '{item}'")
+        v = _parse_int(value, f"--set {name}")
+        if name in design.input_vectors:
+            bitsn = design.input_vectors[name]
+            if v >> len(bitsn):
+                raise _bad(f"--set {name}: {value} does not fit its {len(bitsn)} bits")
+            for k, b in enumerate(bitsn):
+                fixed[b] = (v >> (len(bitsn) - 1 - k)) & 1
+        elif name in design.model.inputs:
+            if v not in (0, 1):
+                raise _bad(f"--set {name}: a single bit is 0 or 1")
+            fixed[name] = v
+        else:
+            known = ", ".join(design.input_vectors) or "none"
+            raise _bad(f"--set {name}: design {design.name} has no input '{name}' (inputs: {known})")
+    return fixed
+
+
 def cmd_sim(args) -> int:
     from .api import load
     from .parse import parse_expr
     from .report.text import bits, inputs_text
-    from .simulate import run
+    from .simulate import code_value, run, state_of_code
     from .spec import flop_indices
     from tabulate import tabulate
 
@@ -160,26 +184,7 @@ def cmd_sim(args) -> int:
     if args.code is not None:
         code = flop_indices(design, parse_expr("--code", args.code))
     per_clock: list[dict[str, int]]
-    start_code = 0
-    fixed: dict[str, int] = {}
-    items = [it for group in (args.set or []) for it in group.split(",") if it]
-    for item in items:
-        name, eq, value = item.partition("=")
-        if not eq:
-            raise _bad(f"--set takes NAME=VALUE, not '{item}'")
-        v = _parse_int(value, f"--set {name}")
-        if name in design.input_vectors:
-            bitsn = design.input_vectors[name]
-            if v >> len(bitsn):
-                raise _bad(f"--set {name}: {value} does not fit its {len(bitsn)} bits")
-            for k, b in enumerate(bitsn):
-                fixed[b] = (v >> (len(bitsn) - 1 - k)) & 1
-        elif name in model.inputs:
-            if v not in (0, 1):
-                raise _bad(f"--set {name}: a single bit is 0 or 1")
-            fixed[name] = v
-        else:
-            raise _bad(f"--set {name}: design {design.name} has no input '{name}' (inputs: {', '.join(design.input_vectors) or 'none'})")
+    fixed = _input_settings(args.set or [], design)
     if args.trace is not None:
         trace, code_from_trace = _read_trace(args.trace, design, args.code is None)
         if code_from_trace is not None:
@@ -195,25 +200,14 @@ def cmd_sim(args) -> int:
         raise _bad("--cycles takes a number from 0 to 1000000")
     if start_code < 0 or start_code >> len(code):
         raise _bad(f"--from {start_code} does not fit the {len(code)}-bit code")
-    state = {s: 0 for s in model.states}
-    w = len(code)
-    for k, i in enumerate(code):
-        state[model.states[i]] = (start_code >> (w - 1 - k)) & 1
-    steps = run(model, state, per_clock, cycles)
+    steps = run(model, state_of_code(model, code, start_code), per_clock, cycles)
     if args.vcd:
         from .report.vcd import write_vcd
 
         write_vcd(design, steps, args.vcd)
-
-    def code_of(st) -> int:
-        v = 0
-        for i in code:
-            v = (v << 1) | st[model.states[i]]
-        return v
-
-    entries = [{"clock": s.clock, "code": code_of(s.state), "inputs": s.inputs, "outputs": s.outputs}
+    entries = [{"clock": s.clock, "code": code_value(model, code, s.state), "inputs": s.inputs, "outputs": s.outputs}
                for s in steps]
-    rows = [[e["clock"], f"{bits(e['code'], w)} ({e['code']})", inputs_text(e["inputs"]),
+    rows = [[e["clock"], f"{bits(e['code'], len(code))} ({e['code']})", inputs_text(e["inputs"]),
              inputs_text(e["outputs"])] + (["SR fault: " + ", ".join(s.faults)] if s.faults else [])
             for e, s in zip(entries, steps)]
     text = tabulate(rows, headers=["clock", "code", "inputs", "outputs"], tablefmt="simple")
@@ -363,6 +357,14 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
+def _report_error(e: InputError, as_json: bool) -> int:
+    """``FILE:LINE:COL: message`` on stderr (and the JSON error on stdout); exit status 2."""
+    sys.stderr.write(f"{e.pos}: {e.message}\n")
+    if as_json:
+        sys.stdout.write(json.dumps(e.to_json()) + "\n")
+    return 2
+
+
 def main(argv: Optional[Sequence[str]] = None) -> int:
     """Run the command line; returns the exit status."""
     argv = list(sys.argv[1:] if argv is None else argv)
@@ -375,16 +377,12 @@ def main(argv: Optional[Sequence[str]] = None) -> int:
             return 2
         return args.func(args)
     except InputError as e:
-        sys.stderr.write(f"{e.pos}: {e.message}\n")
-        if as_json:
-            sys.stdout.write(json.dumps(e.to_json()) + "\n")
-        return 2
+        return _report_error(e, as_json)
     except RecursionError:
-        e = InputError(Pos(CMDLINE, 1, 1), "input nests too deeply to process")
-        sys.stderr.write(f"{e.pos}: {e.message}\n")
-        if as_json:
-            sys.stdout.write(json.dumps(e.to_json()) + "\n")
-        return 2
+        return _report_error(InputError(Pos(CMDLINE, 1, 1), "input nests too deeply to process"), as_json)
+    except OSError as e:  # an output file (--vcd, --dot, --svg, --junit, -o) that cannot be written
+        where = e.filename if isinstance(e.filename, str) else CMDLINE
+        return _report_error(InputError(Pos(where, 1, 1), f"cannot write '{where}': {e.strerror or e}"), as_json)
     except KeyboardInterrupt:
         sys.stderr.write("interrupted\n")
         return 130

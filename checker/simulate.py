@@ -55,6 +55,15 @@ def code_value(model: Model, code: Sequence[int], state: dict[str, int]) -> int:
     return v
 
 
+def state_of_code(model: Model, code: Sequence[int], value: int) -> dict[str, int]:
+    """The state whose bits ``code`` (most significant first) spell ``value``; other bits 0."""
+    state = {s: 0 for s in model.states}
+    w = len(code)
+    for k, i in enumerate(code):
+        state[model.states[i]] = (value >> (w - 1 - k)) & 1
+    return state
+
+
 def leaf_arrays(model: Model, code: Sequence[int], codes: np.ndarray,
                 inputs: Optional[dict[str, np.ndarray]] = None) -> dict[int, np.ndarray]:
     """Leaf values (bool arrays) for evaluating ``model`` at each of ``codes``.

@@ -51,3 +51,13 @@ def test_empty_file_has_no_claims(tmp_path):
     p.write_text("# nothing here yet\n")
     rc, out, _ = _run(["check", str(p), "--json"])
     assert rc == 0 and json.loads(out) == {"claims": []}
+
+
+def test_unwritable_output_files_are_exit_2(tmp_path):
+    bad = str(tmp_path / "no" / "such" / "dir" / "out")
+    for argv in (["sim", CASE, "sixpack_t", "--vcd", bad], ["check", CASE, "--junit", bad],
+                 ["map", CASE, "pack_t", "--dot", bad], ["cnf", CASE, "pack_t", "--claim", "50", "-o", bad]):
+        rc, out, err = _run(argv + ["--json"])
+        assert rc == 2, (argv, err)
+        assert json.loads(out)["error"]["file"] == bad
+        assert err.startswith(f"{bad}:1:1: cannot write")

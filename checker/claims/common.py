@@ -8,7 +8,7 @@ from typing import Optional, Sequence
 from ..elaborate import Check, Claim, Design
 from ..model import FALSE, TRUE
 from ..sat import DEFAULT_SOLVER
-from ..simulate import run
+from ..simulate import code_value, run, state_of_code
 from ..verdict import Result, TraceEntry
 
 
@@ -99,18 +99,10 @@ def replay(design: Design, check: Check, trace: Sequence[TraceEntry], code: Opti
     """
     model = design.model
     idx = list(check.code if code is None else code)
-    w = len(idx)
-    names = model.states
-    state = {names[i]: (trace[0].code >> (w - 1 - k)) & 1 for k, i in enumerate(idx)}
-    for s in names:
-        state.setdefault(s, 0)
+    state = state_of_code(model, idx, trace[0].code)
     for k in range(len(trace) - 1):
-        inp = trace[k].inputs or {}
-        steps = run(model, state, [inp], 1)
-        state = steps[1].state
-        got = 0
-        for i in idx:
-            got = (got << 1) | state[names[i]]
+        state = run(model, state, [trace[k].inputs or {}], 1)[1].state
+        got = code_value(model, idx, state)
         if got != trace[k + 1].code:
             raise ReplayError(f"trace does not replay in {design.name}: clock {k + 1} gives {got}, trace says {trace[k + 1].code}")
 
