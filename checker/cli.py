@@ -69,7 +69,18 @@ def cmd_check(args) -> int:
 
     opts = _options(args)
     files = expand_paths(args.paths)
-    programs = [load(f) for f in files]  # every file is read before any claim runs
+    # every file is read before any claim runs; each bad file is named, then exit 2
+    programs, errors = [], []
+    for f in files:
+        try:
+            programs.append(load(f))
+        except InputError as e:
+            errors.append(e)
+    if errors:
+        status = _report_error(errors[0], args.json)
+        for e in errors[1:]:
+            sys.stderr.write(f"{e.pos}: {e.message}\n")
+        return status
     results = []
     for prog in programs:
         for chk in prog.namespace.checks:

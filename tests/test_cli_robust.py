@@ -61,3 +61,15 @@ def test_unwritable_output_files_are_exit_2(tmp_path):
         assert rc == 2, (argv, err)
         assert json.loads(out)["error"]["file"] == bad
         assert err.startswith(f"{bad}:1:1: cannot write")
+
+
+def test_every_bad_file_of_a_folder_is_named(tmp_path):
+    (tmp_path / "a.cnl").write_text("design a\n  in x y\nend\n")
+    (tmp_path / "sub").mkdir()
+    (tmp_path / "sub" / "b.cnl").write_text("design b\n  out y = z\nend\n")
+    (tmp_path / "good.cnl").write_text("design g\n  in x\n  out y = x\nend\n")
+    rc, out, err = _run(["check", str(tmp_path), "--json"])
+    assert rc == 2
+    lines = err.strip().splitlines()
+    assert [l.split(":")[0] for l in lines] == [str(tmp_path / "a.cnl"), str(tmp_path / "sub" / "b.cnl")]
+    assert json.loads(out)["error"]["file"] == str(tmp_path / "a.cnl")
