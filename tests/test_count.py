@@ -18,7 +18,7 @@ from hypothesis import strategies as st
 
 from checker.budget import Budget
 from checker.claims import count
-from checker.claims.common import Options, replay
+from checker.claims.common import Options, inputs_text, replay
 from checker.elaborate import load_namespace
 from checker.model import evaluate
 from checker.verdict import PROVED, REFUTED
@@ -615,7 +615,7 @@ check s of scale
 end
 """
     chk = load(tmp_path, text).checks[0]
-    assert count.inputs_text(chk, {"w[3]": 1, "w[2]": 0, "w[1]": 1, "w[0]": 1, "tare": 0}) == "w=0b1011 tare=0"
+    assert inputs_text(chk, {"w[3]": 1, "w[2]": 0, "w[1]": 1, "w[0]": 1, "tare": 0}) == "w=0b1011 tare=0"
     assert prove_count(chk).status == PROVED
 
 

@@ -15,8 +15,7 @@ from ..elaborate import Check, Claim
 from ..model import evaluate
 from ..sat import Sat, Unrolling
 from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
-from .common import Options, ReplayError, make_result
-from .count import trace_lines
+from .common import Options, ReplayError, make_result, trace_lines
 
 
 @dataclass

@@ -107,6 +107,32 @@ def replay(design: Design, check: Check, trace: Sequence[TraceEntry], code: Opti
             raise ReplayError(f"trace does not replay in {design.name}: clock {k + 1} gives {got}, trace says {trace[k + 1].code}")
 
 
+def inputs_text(check: Check, inputs: dict[str, int]) -> str:
+    """Inputs for people: vectors as one binary number, bits as 0/1."""
+    design = check.design
+    done: set[str] = set()
+    parts = []
+    for name, bits in design.input_vectors.items():
+        if len(bits) == 1 and bits[0] == name:
+            parts.append(f"{name}={inputs.get(name, 0)}")
+        else:
+            parts.append(f"{name}=0b" + "".join(str(inputs.get(b, 0)) for b in bits))
+        done.update(bits)
+    parts += [f"{n}={v}" for n, v in inputs.items() if n not in done]
+    return " ".join(parts) if parts else "-"
+
+
+def trace_lines(check: Check, trace: list[TraceEntry]) -> list[str]:
+    """A trace as a small table: clock, code in binary and decimal, inputs."""
+    w = check.width
+    rows = [("clock", "code", "decimal", "inputs")]
+    for t in trace:
+        rows.append((str(t.clock), format(t.code, f"0{w}b"), str(t.code),
+                     "" if t.inputs is None else inputs_text(check, t.inputs)))
+    widths = [max(len(r[k]) for r in rows) for k in range(4)]
+    return ["  ".join(c.ljust(widths[k]) for k, c in enumerate(r)).rstrip() for r in rows]
+
+
 def make_result(check: Check, claim: Claim, status: str, summary: str = "", **kw) -> Result:
     """A :class:`Result` for ``claim`` of ``check`` (file, names and line filled in)."""
     return Result(file=claim.pos.file, check=check.name, claim=claim.kind, line=claim.pos.line,

@@ -22,7 +22,7 @@ from ..elaborate import Check, Claim
 from ..model import FALSE, TRUE, Aig, evaluate
 from ..sat import Sat, Unrolling
 from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
-from .common import Options, ReplayError, make_result, regions, replay, rule_spec
+from .common import Options, ReplayError, make_result, regions, replay, rule_spec, trace_lines
 
 # An SR fault in a code of the sequence refutes the claim under any input,
 # not only under inputs whose next code the rules decide (the lead's reading
@@ -203,32 +203,6 @@ def reference_next(check: Check, code: int, inputs: dict[str, int]) -> Optional[
     if any(r.kind == "step" for r in check.rules):
         return None
     return seq.next(code)
-
-
-def inputs_text(check: Check, inputs: dict[str, int]) -> str:
-    """Inputs for people: vectors as one binary number, bits as 0/1."""
-    design = check.design
-    done: set[str] = set()
-    parts = []
-    for name, bits in design.input_vectors.items():
-        if len(bits) == 1 and bits[0] == name:
-            parts.append(f"{name}={inputs.get(name, 0)}")
-        else:
-            parts.append(f"{name}=0b" + "".join(str(inputs.get(b, 0)) for b in bits))
-        done.update(bits)
-    parts += [f"{n}={v}" for n, v in inputs.items() if n not in done]
-    return " ".join(parts) if parts else "-"
-
-
-def trace_lines(check: Check, trace: list[TraceEntry]) -> list[str]:
-    """A trace as a small table: clock, code in binary and decimal, inputs."""
-    w = check.width
-    rows = [("clock", "code", "decimal", "inputs")]
-    for t in trace:
-        rows.append((str(t.clock), format(t.code, f"0{w}b"), str(t.code),
-                     "" if t.inputs is None else inputs_text(check, t.inputs)))
-    widths = [max(len(r[k]) for r in rows) for k in range(4)]
-    return ["  ".join(c.ljust(widths[k]) for k, c in enumerate(r)).rstrip() for r in rows]
 
 
 def _refute(check: Check, claim: Claim, p: CountProblem, q: Question, opts: Options) -> Result:
