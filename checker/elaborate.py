@@ -166,8 +166,50 @@ def select_bits(sym: Symbol, idx: Optional[P.Index], name: str) -> list[str]:
     return [sym.bits[k] for k in range(a, b + step, step)]
 
 
-def _bit_name(base: str, msb: Optional[int], i: int) -> str:
-    return base if msb is None else f"{base}[{i}]"
+def _decl_text(d: P.Decl) -> str:
+    if d.msb is None:
+        return d.name
+    return f"{d.name}[{d.msb}]" if d.bit else f"{d.name}[{d.msb}:{d.lsb}]"
+
+
+def _flop_symbol(group: list[P.FlopDecl], prefix: str) -> Symbol:
+    """The whole flop vector that the pieces in ``group`` declare; they must tile one range."""
+    first = group[0]
+    if len(group) == 1:
+        d = first.decl
+        return Symbol("flop", _decl_bits(d, prefix), d.pos, d.msb, d.lsb)
+    owner: dict[int, P.Decl] = {}
+    for s in group:
+        d = s.decl
+        if d.msb is None:
+            other = group[1].decl if s is first else first.decl
+            raise InputError(d.pos, f"'{d.name}' is declared whole here and in pieces elsewhere "
+                                    f"(line {other.pos.line}); declare it one way")
+        _decl_bits(d, prefix)  # the vector limit
+        for i in range(min(d.msb, d.lsb), max(d.msb, d.lsb) + 1):
+            if i in owner:
+                o = owner[i]
+                raise InputError(d.pos, f"{_decl_text(d)} overlaps {_decl_text(o)} "
+                                        f"(line {o.pos.line}, col {o.pos.col}): bit {d.name}[{i}] is declared twice")
+            owner[i] = d
+    lo, hi = min(owner), max(owner)
+    if hi - lo + 1 > MAX_VECTOR:
+        raise InputError(first.decl.pos, f"flop {first.decl.name}[{hi}:{lo}] has {hi - lo + 1} bits; "
+                                         f"the limit is {MAX_VECTOR} bits in one vector")
+    gaps = [i for i in range(lo, hi + 1) if i not in owner]
+    if gaps:
+        more = f" and {len(gaps) - 8} more" if len(gaps) > 8 else ""
+        raise InputError(first.decl.pos, f"the pieces of flop {first.decl.name} leave "
+                                         f"{', '.join(f'{first.decl.name}[{i}]' for i in gaps[:8])}{more} "
+                                         f"undeclared; together they must form one range")
+    ups = {d.msb < d.lsb for d in (s.decl for s in group) if d.msb != d.lsb}
+    if len(ups) > 1:
+        raise InputError(first.decl.pos, f"the pieces of flop {first.decl.name} mix ascending and "
+                                         f"descending ranges")
+    msb, lsb = (lo, hi) if ups == {True} else (hi, lo)
+    step = -1 if msb >= lsb else 1
+    bits = [f"{prefix}{first.decl.name}[{i}]" for i in range(msb, lsb + step, step)]
+    return Symbol("flop", bits, first.decl.pos, msb, lsb)
 
 
 def _decl_bits(d: P.Decl, prefix: str) -> list[str]:
@@ -220,18 +262,21 @@ class _Flattener:
             raise InputError(block.pos, f"recursive part: {chain}")
         self.stack.append(block.name)
         # pass 1: names and widths, so statements may come in any order
+        pieces: dict[str, list[P.FlopDecl]] = {}
         for s in block.stmts:
             if isinstance(s, P.InDecl):
                 for d in s.decls:
                     bits = _decl_bits(d, prefix)
                     self.count_bits(len(bits), d.pos)
                     self.declare(prefix, d.name, Symbol("in", bits, d.pos, d.msb, d.lsb))
-            elif isinstance(s, (P.OutDecl, P.NodeDecl, P.FlopDecl)):
+            elif isinstance(s, (P.OutDecl, P.NodeDecl)):
                 d = s.decl
-                kind = {P.OutDecl: "out", P.NodeDecl: "node", P.FlopDecl: "flop"}[type(s)]
+                kind = "out" if isinstance(s, P.OutDecl) else "node"
                 bits = _decl_bits(d, prefix)
                 self.count_bits(len(bits), d.pos)
                 self.declare(prefix, d.name, Symbol(kind, bits, d.pos, d.msb, d.lsb))
+            elif isinstance(s, P.FlopDecl):
+                pieces.setdefault(s.decl.name, []).append(s)
             elif isinstance(s, P.PartDecl):
                 sub = self.blocks.get(s.design)
                 if sub is None:
@@ -244,6 +289,10 @@ class _Flattener:
                 for d in outs:
                     pre = f"{prefix}{s.name}."
                     self.syms[pre + d.name] = Symbol("out", _decl_bits(d, pre), d.pos, d.msb, d.lsb)
+        for name, group in pieces.items():
+            sym = _flop_symbol(group, prefix)
+            self.count_bits(len(sym.bits), sym.pos)
+            self.declare(prefix, name, sym)
         # pass 2: definitions, in statement order (this fixes flop order)
         for s in block.stmts:
             if isinstance(s, (P.OutDecl, P.NodeDecl)):
@@ -254,20 +303,8 @@ class _Flattener:
                     self.comb[b] = (v, s.pos)
             elif isinstance(s, P.FlopDecl):
                 self.flop_decl(s, prefix)
-        for s in block.stmts:
-            if isinstance(s, P.PinDrive):
-                self.pin_drive(s, prefix)
-        # parts after pins so flop order follows statement order within this design
+        # parts after this design's flops, so flop order follows statement order
         self._parts_in_order(block, prefix)
-        for s in block.stmts:
-            if isinstance(s, P.FlopDecl):
-                sym = self.syms[prefix + s.decl.name]
-                for b in sym.bits:
-                    fb = self.flops[b]
-                    for pin in FLOP_PINS[fb.kind]:
-                        if pin not in fb.pins:
-                            local = b[len(prefix):]
-                            raise InputError(s.pos, f"pin {pin} of flop {local} is not driven")
         self.stack.pop()
 
     def _parts_in_order(self, block: P.DesignBlock, prefix: str) -> None:
@@ -276,61 +313,65 @@ class _Flattener:
         # Rebuild the order: walk statements, taking this design's flops and
         # each part's flops where they stand.
         own = {b: self.flops.pop(b) for s in block.stmts if isinstance(s, P.FlopDecl)
-               for b in self.syms[prefix + s.decl.name].bits}
+               for b in _decl_bits(s.decl, prefix)}
         for s in block.stmts:
             if isinstance(s, P.FlopDecl):
-                for b in self.syms[prefix + s.decl.name].bits:
+                for b in _decl_bits(s.decl, prefix):
                     self.flops[b] = own[b]
             elif isinstance(s, P.PartDecl):
                 self.part(s, prefix)
 
     def flop_decl(self, s: P.FlopDecl, prefix: str) -> None:
+        """One flop declaration (the whole vector or one piece): its pins, clear and preset."""
         kind = s.kind
         if kind not in FLOP_PINS:
             raise InputError(s.kind_pos, f"unknown flop kind '{kind}'; the kinds are D, T, JK, SR")
-        sym = self.syms[prefix + s.decl.name]
-        n = len(sym.bits)
-        clear = preset = None
-        if s.clear is not None:
-            clear = self.vec(s.clear, prefix, n)
-            clear = self.broadcast(clear, n, s.clear, "clear")
-        if s.preset is not None:
-            preset = self.vec(s.preset, prefix, n)
-            preset = self.broadcast(preset, n, s.preset, "preset")
-        for k, b in enumerate(sym.bits):
-            self.flops[b] = _FlopBit(kind, s.pos, {},
-                                     None if clear is None else clear[k],
-                                     None if preset is None else preset[k])
+        want = FLOP_PINS[kind]
+        local = _decl_text(s.decl)
+        if s.pins is None:
+            shown = ", ".join(f"{p} = ..." for p in want)
+            raise InputError(s.kind_pos, f"a {kind} flop names its pins in parentheses: flop {local} : {kind} ({shown})")
+        if s.clock is not None:
+            raise InputError(s.clock.pos, "flops clocked by another flop are not supported yet; "
+                                          "every flop samples on the system clock")
+        for what, is_async, e in (("clear", s.clear_async, s.clear), ("preset", s.preset_async, s.preset)):
+            if is_async:
+                raise InputError(e.pos, f"an asynchronous {what} is not supported yet; "
+                                        f"'{what} EXPR' without async acts at the clock edge")
+        bits = _decl_bits(s.decl, prefix)
+        n = len(bits)
+        pins: dict[str, list[BExpr]] = {}
+        pin_pos: dict[str, Pos] = {}
+        for pin in s.pins:
+            if pin.name not in want:
+                raise InputError(pin.pos, f"a {kind} flop has no pin '{pin.name}' (its pins: {', '.join(want)})")
+            if pin.name in pins:
+                first = pin_pos[pin.name]
+                raise InputError(pin.pos, f"pin {pin.name} is named twice (first at line {first.line}, col {first.col})")
+            vals = self.vec(pin.expr, prefix, n)
+            self.need_width(vals, n, pin.expr, f"pin {pin.name} of {local}")
+            pins[pin.name], pin_pos[pin.name] = vals, pin.pos
+        missing = [p for p in want if p not in pins]
+        if missing:
+            raise InputError(s.pos, f"pin {', '.join(missing)} of {local} is not given; "
+                                    f"a {kind} flop names {', '.join(want)}")
+        clear = None if s.clear is None else self.bit(s.clear, prefix, "clear")
+        preset = None if s.preset is None else self.bit(s.preset, prefix, "preset")
+        for k, b in enumerate(bits):
+            self.flops[b] = _FlopBit(kind, s.pos, {p: (v[k], pin_pos[p]) for p, v in pins.items()},
+                                     clear, preset)
 
-    def broadcast(self, vals: list[BExpr], n: int, e: P.Expr, what: str) -> list[BExpr]:
-        if len(vals) == 1:
-            return vals * n
-        self.need_width(vals, n, e, what)
-        return vals
+    def bit(self, e: P.Expr, prefix: str, what: str) -> BExpr:
+        """A single-bit EXPR: a number in it is a bit, never widened."""
+        vals = self.vec(e, prefix, 1)
+        if len(vals) != 1:
+            raise InputError(e.pos, f"{what} is one bit (it acts on every bit of the flop); "
+                                    f"this expression is {len(vals)} bits wide")
+        return vals[0]
 
     def need_width(self, vals: list, n: int, e: P.Expr, what: str) -> None:
         if len(vals) != n:
             raise InputError(e.pos, f"width mismatch: {what} is {n} bit{'s' if n != 1 else ''} wide, the expression gives {len(vals)}")
-
-    def pin_drive(self, s: P.PinDrive, prefix: str) -> None:
-        sym = self.syms.get(prefix + s.flop)
-        if sym is None:
-            raise InputError(s.pos, f"undefined name '{s.flop}'")
-        if sym.kind != "flop":
-            raise InputError(s.pos, f"'{s.flop}' is {kind_text(sym.kind)}, not a flop; only flop pins can be driven")
-        bits = select_bits(sym, s.index, s.flop)
-        kind = self.flops[bits[0]].kind
-        if s.pin not in FLOP_PINS[kind]:
-            pins = ", ".join(FLOP_PINS[kind])
-            raise InputError(s.pin_pos, f"a {kind} flop has no pin '{s.pin}' (its pins: {pins})")
-        vals = self.vec(s.expr, prefix, len(bits))
-        self.need_width(vals, len(bits), s.expr, f"{s.flop}.{s.pin}" if s.index is None else "the driven bits")
-        for b, v in zip(bits, vals):
-            fb = self.flops[b]
-            if s.pin in fb.pins:
-                first = fb.pins[s.pin][1]
-                raise InputError(s.pos, f"pin {s.pin} of {b[len(prefix):]} is driven twice (first at line {first.line}, col {first.col})")
-            fb.pins[s.pin] = (v, s.pos)
 
     def part(self, s: P.PartDecl, prefix: str) -> None:
         sub = self.blocks[s.design]

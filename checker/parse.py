@@ -20,7 +20,8 @@ from .errors import InputError, Pos
 
 RESERVED = frozenset(
     "use design end in out node flop part check of code count hold load back step "
-    "recover within when always equal on sequence after clear preset".split()
+    "recover within when always equal on sequence after clear preset clock async "
+    "settle glitchfree".split()
 )
 MAX_FILE_BYTES = 32 * 1024 * 1024
 MAX_NESTING = 200
@@ -100,10 +101,13 @@ Expr = Union[Num, Ref, Call, Not, Op, Cat, Cmp]
 # --- design statements ---------------------------------------------------
 @dataclass
 class Decl:
+    """``NAME``, ``NAME[msb:lsb]``, or ``NAME[i]`` (``bit``: one bit of a vector, msb = lsb = i)."""
+
     name: str
     msb: Optional[int]
     lsb: Optional[int]
     pos: Pos
+    bit: bool = False
 
 
 @dataclass
@@ -127,23 +131,41 @@ class NodeDecl:
 
 
 @dataclass
-class FlopDecl:
-    decl: Decl
-    kind: str
-    kind_pos: Pos
-    clear: Optional[Expr]
-    preset: Optional[Expr]
+class Pin:
+    """``PIN = EXPR`` inside a flop's parenthesis."""
+
+    name: str
+    expr: Expr
     pos: Pos
 
 
 @dataclass
-class PinDrive:
-    flop: str
-    index: Optional[Index]
-    pin: str
-    pin_pos: Pos
-    expr: Expr
+class Clock:
+    """``clock rise BIT`` / ``clock fall VEC``."""
+
+    edge: str
+    signal: Expr
     pos: Pos
+
+
+@dataclass
+class FlopDecl:
+    """``flop DECL : KIND (PIN = EXPR, ...) [clock ...] [clear [async] E] [preset [async] E]``.
+
+    ``pins`` is None when the parenthesis is missing (an error the elaborator
+    reports with the kind's pins).
+    """
+
+    decl: Decl
+    kind: str
+    kind_pos: Pos
+    pins: Optional[list[Pin]]
+    clock: Optional[Clock]
+    clear: Optional[Expr]
+    preset: Optional[Expr]
+    pos: Pos
+    clear_async: bool = False
+    preset_async: bool = False
 
 
 @dataclass
@@ -205,6 +227,19 @@ class AlwaysStmt:
 
 
 @dataclass
+class SettleStmt:
+    within: int
+    pos: Pos
+
+
+@dataclass
+class GlitchStmt:
+    signals: list[Expr]
+    cond: Optional[Expr]
+    pos: Pos
+
+
+@dataclass
 class EqualStmt:
     design: str
     design_pos: Pos
@@ -251,10 +286,54 @@ def grammar_path() -> Path:
     raise FileNotFoundError("grammar/cnl.lark is missing from the installation")
 
 
+_OPENERS = {"LPAR": ")", "LBRACE": "}", "LSQB": "]"}
+_CLOSERS = {"RPAR", "RBRACE", "RSQB"}
+
+
+class _Dangling(Exception):
+    """A line ended with a comma, and the next line starts a new statement."""
+
+    def __init__(self, comma: Token, word: Token) -> None:
+        self.comma, self.word = comma, word
+
+
+class _Continuation:
+    """Post-lexer: a line break inside an open ``( { [`` or after a trailing comma is not a break.
+
+    It also remembers the brackets still open, so that a syntax error met while
+    one is open can be reported at the bracket that was never closed.
+    """
+
+    always_accept = ("_NL",)
+
+    def __init__(self) -> None:
+        self.open: list[Token] = []
+
+    def process(self, stream):
+        self.open = []
+        prev = None
+        joined = None  # the comma whose line break was dropped
+        for tok in stream:
+            t = tok.type
+            if t == "_NL" and (self.open or (prev is not None and prev.type == "COMMA")):
+                if not self.open:
+                    joined = prev
+                continue
+            if joined is not None and str(tok) in RESERVED:
+                raise _Dangling(joined, tok)
+            joined = None
+            if t in _OPENERS:
+                self.open.append(tok)
+            elif t in _CLOSERS and self.open:
+                self.open.pop()
+            prev = tok
+            yield tok
+
+
 @functools.lru_cache(maxsize=1)
 def _parser() -> Lark:
     return Lark(grammar_path().read_text(encoding="utf-8"), parser="lalr", start=["start", "expr"],
-                propagate_positions=True, maybe_placeholders=True)
+                propagate_positions=True, maybe_placeholders=True, postlex=_Continuation())
 
 
 _READABLE = {"NAME": "a name", "INT": "a number", "STRING": "a quoted path",
@@ -346,7 +425,11 @@ def parse_text(path: str, text: str) -> File:
     try:
         tree = _parser().parse(text, start="start")
     except UnexpectedInput as e:
-        raise _syntax_error(path, text, e) from None
+        raise _unclosed(path, e) or _syntax_error(path, text, e) from None
+    except _Dangling as d:
+        raise InputError(Pos(path, d.comma.line, d.comma.column),
+                         f"the line ends with ',' so the statement goes on, but the next line starts "
+                         f"with '{d.word}'; remove the trailing comma") from None
     return _Builder(path).file(tree)
 
 
@@ -360,6 +443,20 @@ def parse_expr(where: str, text: str) -> Expr:
     except UnexpectedInput as e:
         raise _syntax_error(where, text, e) from None
     return _Builder(where).expr(tree)
+
+
+def _unclosed(path: str, e: UnexpectedInput) -> Optional[InputError]:
+    """The error at a bracket left open, when the parser failed on a later line because of it."""
+    still_open = _parser().options.postlex.open
+    if not still_open:
+        return None
+    br = still_open[-1]
+    line = getattr(e, "line", None)
+    if isinstance(line, int) and line > 0 and line <= br.line and not isinstance(e, UnexpectedEOF) \
+            and getattr(getattr(e, "token", None), "type", "") != "$END":
+        return None
+    return InputError(Pos(path, br.line, br.column),
+                      f"'{br}' is never closed (a statement continues across lines until its brackets close)")
 
 
 def _syntax_error(path: str, text: str, e: UnexpectedInput) -> InputError:
@@ -387,6 +484,10 @@ def _syntax_error(path: str, text: str, e: UnexpectedInput) -> InputError:
     if not isinstance(line, int) or line < 1:
         line, col = _line_col_at(text, len(text))
     return InputError(Pos(path, line, col if isinstance(col, int) and col > 0 else 1), msg)
+
+
+def _index_text(ix: Index) -> str:
+    return f"[{ix.first}]" if ix.last is None else f"[{ix.first}:{ix.last}]"
 
 
 class _Builder:
@@ -435,11 +536,14 @@ class _Builder:
         return DesignBlock(self.name(name_tok), out, self.pos(t))
 
     def decl(self, t: Tree) -> Decl:
-        name_tok, rng = t.children
-        if rng is None:
+        name_tok, idx = t.children
+        if idx is None:
             return Decl(self.name(name_tok), None, None, self.pos(t))
-        msb, lsb = (self.small_int(x) for x in rng.children)
-        return Decl(self.name(name_tok), msb, lsb, self.pos(t))
+        a, b = idx.children
+        msb = self.small_int(a)
+        if b is None:
+            return Decl(self.name(name_tok), msb, msb, self.pos(t), bit=True)
+        return Decl(self.name(name_tok), msb, self.small_int(b), self.pos(t))
 
     def index(self, t: Optional[Tree]) -> Optional[Index]:
         if t is None:
@@ -457,23 +561,39 @@ class _Builder:
         return NodeDecl(self.decl(t.children[0]), self.expr(t.children[1]), self.pos(t))
 
     def d_flop_decl(self, t: Tree) -> FlopDecl:
-        decl, kind, *opts = t.children
-        clear = preset = None
+        decl, kind, pins_t, *opts = t.children
+        pins = None
+        if pins_t is not None:
+            pins = [Pin(str(p.children[0]), self.expr(p.children[1]), self.pos(p))
+                    for p in pins_t.children if p is not None]
+        f = FlopDecl(self.decl(decl), str(kind), self.pos(kind), pins, None, None, None, self.pos(t))
         for o in opts:
-            key, e = o.children
+            key = o.children[0]
+            if key.type == "CLOCK":
+                if f.clock is not None:
+                    raise InputError(self.pos(key), "clock given twice")
+                edge = o.children[1]
+                if str(edge) not in ("rise", "fall"):
+                    raise InputError(self.pos(edge), f"a clock edge is rise or fall, not '{edge}'")
+                f.clock = Clock(str(edge), self.expr(o.children[2]), self.pos(key))
+                continue
+            is_async = o.children[1] is not None
+            e = self.expr(o.children[2])
             if key.type == "CLEAR":
-                if clear is not None:
+                if f.clear is not None:
                     raise InputError(self.pos(key), "clear given twice")
-                clear = self.expr(e)
+                f.clear, f.clear_async = e, is_async
             else:
-                if preset is not None:
+                if f.preset is not None:
                     raise InputError(self.pos(key), "preset given twice")
-                preset = self.expr(e)
-        return FlopDecl(self.decl(decl), str(kind), self.pos(kind), clear, preset, self.pos(t))
+                f.preset, f.preset_async = e, is_async
+        return f
 
-    def d_pin_drive(self, t: Tree) -> PinDrive:
+    def d_pin_drive(self, t: Tree):
         flop, idx, pin, e = t.children
-        return PinDrive(self.name(flop), self.index(idx), str(pin), self.pos(pin), self.expr(e), self.pos(t))
+        name = str(flop) + ("" if idx is None else _index_text(self.index(idx)))
+        raise InputError(self.pos(t), f"'{name}.{pin} = ...' is the old pin statement; pins are named in "
+                                      f"the flop's declaration: flop {name} : KIND ({pin} = ...)")
 
     def d_part_decl(self, t: Tree) -> PartDecl:
         name, design, *conns = t.children
@@ -517,6 +637,14 @@ class _Builder:
 
     def c_always_stmt(self, t: Tree) -> AlwaysStmt:
         return AlwaysStmt(self.expr(t.children[0]), self.pos(t))
+
+    def c_settle_stmt(self, t: Tree) -> SettleStmt:
+        return SettleStmt(int_value(str(t.children[0])), self.pos(t))
+
+    def c_glitch_stmt(self, t: Tree) -> GlitchStmt:
+        *sigs, when = t.children
+        cond = None if when is None else self.expr(when.children[0])
+        return GlitchStmt([self.expr(x) for x in sigs], cond, self.pos(t))
 
     def c_equal_stmt(self, t: Tree) -> EqualStmt:
         name, mode = t.children

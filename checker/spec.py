@@ -206,6 +206,10 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
     cond_scope = _Scope(design, "cond")
     claims: list[Claim] = []
     for s in c.stmts:
+        if isinstance(s, (P.SettleStmt, P.GlitchStmt)):
+            word = "settle" if isinstance(s, P.SettleStmt) else "glitchfree"
+            raise InputError(s.pos, f"'{word}' claims are not supported yet (they need the event model "
+                                    f"of asynchronous designs)")
         if isinstance(s, (P.RuleStmt, P.RecoverStmt, P.AlwaysStmt)) or (isinstance(s, P.EqualStmt) and s.mode == "sequence"):
             if chk.sequence is None:
                 what = s.kind if isinstance(s, P.RuleStmt) else {P.RecoverStmt: "recover", P.AlwaysStmt: "always", P.EqualStmt: "equal on sequence"}[type(s)]
@@ -214,7 +218,7 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
             r = Rule(s.kind, cond_scope.bit(s.cond, "a rule's condition"), s.pos)
             if s.kind == "load":
                 assert s.value is not None
-                if isinstance(s.value, P.Num) and s.value.binary_width is None:
+                if isinstance(s.value, P.Num):  # a literal is a number wherever a code is read
                     if s.value.value >> chk.width:
                         raise InputError(s.value.pos, f"load code {s.value.text} does not fit the {chk.width}-bit code")
                     r.load_const = s.value.value

@@ -70,7 +70,9 @@ def unparse_expr(e: P.Expr) -> str:
 
 # --- statements ----------------------------------------------------------
 def _decl(d: P.Decl) -> str:
-    return d.name if d.msb is None else f"{d.name}[{d.msb}:{d.lsb}]"
+    if d.msb is None:
+        return d.name
+    return f"{d.name}[{d.msb}]" if d.bit else f"{d.name}[{d.msb}:{d.lsb}]"
 
 
 def _in(s: P.InDecl) -> str:
@@ -87,15 +89,15 @@ def _node(s: P.NodeDecl) -> str:
 
 def _flop(s: P.FlopDecl) -> str:
     text = f"flop {_decl(s.decl)} : {s.kind}"
+    if s.pins is not None:
+        text += " (" + ", ".join(f"{p.name} = {unparse_expr(p.expr)}" for p in s.pins) + ")"
+    if s.clock is not None:
+        text += f" clock {s.clock.edge} {unparse_expr(s.clock.signal)}"
     if s.clear is not None:
-        text += f" clear {unparse_expr(s.clear)}"
+        text += f" clear {'async ' if s.clear_async else ''}{unparse_expr(s.clear)}"
     if s.preset is not None:
-        text += f" preset {unparse_expr(s.preset)}"
+        text += f" preset {'async ' if s.preset_async else ''}{unparse_expr(s.preset)}"
     return text
-
-
-def _pin(s: P.PinDrive) -> str:
-    return f"{s.flop}{_index(s.index)}.{s.pin} = {unparse_expr(s.expr)}"
 
 
 def _part(s: P.PartDecl) -> str:
@@ -131,6 +133,15 @@ def _always(s: P.AlwaysStmt) -> str:
     return f"always {unparse_expr(s.prop)}"
 
 
+def _settle(s: P.SettleStmt) -> str:
+    return f"settle within {s.within}"
+
+
+def _glitch(s: P.GlitchStmt) -> str:
+    text = "glitchfree " + ", ".join(unparse_expr(x) for x in s.signals)
+    return text if s.cond is None else f"{text} when {unparse_expr(s.cond)}"
+
+
 def _equal(s: P.EqualStmt) -> str:
     if s.mode is None:
         return f"equal {s.design}"
@@ -142,9 +153,9 @@ def _equal(s: P.EqualStmt) -> str:
 
 _STMT: dict[type, Callable] = {
     P.InDecl: _in, P.OutDecl: _out, P.NodeDecl: _node, P.FlopDecl: _flop,
-    P.PinDrive: _pin, P.PartDecl: _part,
+    P.PartDecl: _part,
     P.CodeStmt: _code, P.CountStmt: _count, P.RuleStmt: _rule, P.RecoverStmt: _recover,
-    P.AlwaysStmt: _always, P.EqualStmt: _equal,
+    P.AlwaysStmt: _always, P.EqualStmt: _equal, P.SettleStmt: _settle, P.GlitchStmt: _glitch,
 }
 
 
