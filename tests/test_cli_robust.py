@@ -56,7 +56,7 @@ def test_empty_file_has_no_claims(tmp_path):
 def test_unwritable_output_files_are_exit_2(tmp_path):
     bad = str(tmp_path / "no" / "such" / "dir" / "out")
     for argv in (["sim", CASE, "sixpack_t", "--vcd", bad], ["check", CASE, "--junit", bad],
-                 ["map", CASE, "pack_t", "--dot", bad], ["cnf", CASE, "pack_t", "--claim", "50", "-o", bad]):
+                 ["map", CASE, "pack_t", "--dot", bad], ["cnf", CASE, "pack_t", "--claim", "49", "-o", bad]):
         rc, out, err = _run(argv + ["--json"])
         assert rc == 2, (argv, err)
         assert json.loads(out)["error"]["file"] == bad
