@@ -15,10 +15,10 @@ from typing import Iterable, Optional
 
 from .claims import run_check
 from .claims.common import Options
-from .elaborate import Check, Design, Namespace, load_namespace
+from .elab import Check, Design, Namespace, load_namespace
 from .errors import InputError, Pos
-from .sat import DEFAULT_SOLVER
-from .verdict import Result
+from .engines.sat import DEFAULT_SOLVER
+from .claims.result import Result
 
 
 @dataclass

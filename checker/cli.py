@@ -17,7 +17,7 @@ from typing import Optional, Sequence
 
 from . import __version__
 from .errors import InputError, Pos
-from .verdict import OPEN, REFUTED
+from .claims.result import OPEN, REFUTED
 
 CMDLINE = "<command line>"
 
@@ -48,7 +48,7 @@ def _exit_for(results) -> int:
 
 def _options(args):
     from .claims.common import Options
-    from .sat import solver_names
+    from .engines.sat import solver_names
 
     if args.solver not in solver_names():
         raise _bad(f"unknown solver '{args.solver}'; python-sat offers: {', '.join(solver_names())}")
@@ -103,9 +103,9 @@ def _find_check(prog, name: str, where: str):
 
 def cmd_map(args) -> int:
     from .api import load
-    from .parse import parse_expr
-    from .recovery import map_lines, recovery_map
-    from .spec import condition_literal
+    from .lang.parse import parse_expr
+    from .tools.codemap import map_lines, recovery_map
+    from .elab.spec import condition_literal
 
     opts = _options(args)
     prog = load(args.file)
@@ -136,7 +136,7 @@ def cmd_map(args) -> int:
 
 
 def cmd_compare(args) -> int:
-    from .compare import compare_files, format_compare
+    from .tools.compare import compare_files, format_compare
 
     opts = _options(args)
     result = compare_files(args.old, args.new, opts)
@@ -179,10 +179,10 @@ def _input_settings(groups: list[str], design) -> dict[str, int]:
 
 def cmd_sim(args) -> int:
     from .api import load
-    from .parse import parse_expr
+    from .lang.parse import parse_expr
     from .report.text import bits, inputs_text
-    from .simulate import code_value, run, state_of_code
-    from .spec import flop_indices
+    from .model.simulate import code_value, run, state_of_code
+    from .elab.spec import flop_indices
     from tabulate import tabulate
 
     prog = load(args.file)
@@ -289,7 +289,7 @@ def cmd_demo(args) -> int:
 
 def cmd_cnf(args) -> int:
     from .api import load
-    from .claims.cnf import export_cnf
+    from .tools.export import export_cnf
 
     prog = load(args.file)
     chk = _find_check(prog, args.check, args.file)

@@ -9,12 +9,12 @@ import pytest
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
-from checker.budget import Budget
+from checker.engines.budget import Budget
 from checker.claims import always
 from checker.claims.common import Options
-from checker.elaborate import load_namespace
-from checker.simulate import eval_states, leaf_arrays
-from checker.verdict import PROVED, REFUTED
+from checker.elab import load_namespace
+from checker.model.simulate import eval_states, leaf_arrays
+from checker.claims.result import PROVED, REFUTED
 
 
 def load(tmp_path, text: str, name: str = "t.cnl"):

@@ -10,12 +10,12 @@ from hypothesis import strategies as st
 from pysat.formula import CNF
 from pysat.solvers import Solver
 
-from checker.budget import Budget
+from checker.engines.budget import Budget
 from checker.claims import always, count
-from checker.claims.cnf import export_cnf
+from checker.tools.export import export_cnf
 from checker.claims.common import Options
-from checker.elaborate import load_namespace
-from checker.verdict import PROVED, REFUTED
+from checker.elab import load_namespace
+from checker.claims.result import PROVED, REFUTED
 
 
 def load(tmp_path, text: str, name: str = "t.cnl"):

@@ -13,8 +13,8 @@ import random
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from checker.compare import compare_files, compare_lines
-from checker.elaborate import load_namespace
+from checker.tools.compare import compare_files, compare_lines
+from checker.elab import load_namespace
 from test_equal import bits, mutate, rand_net, reencode
 
 SETTINGS = settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])

@@ -16,12 +16,12 @@ import pytest
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
-from checker.budget import Budget
+from checker.engines.budget import Budget
 from checker.claims import count
 from checker.claims.common import Options, inputs_text, replay
-from checker.elaborate import load_namespace
+from checker.elab import load_namespace
 from checker.model import evaluate
-from checker.verdict import PROVED, REFUTED
+from checker.claims.result import PROVED, REFUTED
 
 SETTINGS = settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 

@@ -18,15 +18,15 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from checker.budget import Budget
+from checker.engines.budget import Budget
 from checker.claims import equal
 from checker.claims.common import Options
 from checker.claims.equal import after_engines
-from checker.correspond import explicit_search, product, signal_correspondence
-from checker.elaborate import load_namespace
+from checker.engines.correspond import explicit_search, product, signal_correspondence
+from checker.elab import load_namespace
 from checker.errors import InputError
-from checker.pdr import Pdr, check_invariant
-from checker.verdict import OPEN, PROVED, REFUTED
+from checker.engines.pdr import Pdr, check_invariant
+from checker.claims.result import OPEN, PROVED, REFUTED
 
 SETTINGS = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
 

@@ -19,12 +19,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from checker import explicit as X
-from checker.budget import Budget
+from checker.engines import explicit as X
+from checker.engines.budget import Budget
 from checker.claims.common import stepping
 from checker.claims.recover import sat_search
-from checker.elaborate import load_namespace
-from checker.simulate import next_codes
+from checker.elab import load_namespace
+from checker.model.simulate import next_codes
 
 SETTINGS = settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 

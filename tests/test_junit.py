@@ -13,9 +13,9 @@ import xml.etree.ElementTree as ET
 
 from checker.claims import run_check
 from checker.claims.common import Options
-from checker.elaborate import load_namespace
+from checker.elab import load_namespace
 from checker.report.junit import junit_text, write_junit
-from checker.verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
+from checker.claims.result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 
 def res(status, line, check="silo", file="a.cnl", claim="count", seconds=0.25, trace=None):

@@ -16,11 +16,11 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from checker import explicit as X
-from checker import repair as P
-from checker import recovery as R
+from checker.engines import explicit as X
+from checker.engines import repair as P
+from checker.tools import codemap as R
 from checker.claims.common import Options
-from checker.elaborate import load_namespace
+from checker.elab import load_namespace
 from checker.report import dot as D
 
 from test_explicit import load_text, reference_graph, vent_designs, condition
@@ -77,7 +77,7 @@ def test_map_wide_by_sat(write):
 
 
 def test_map_open_when_out_of_time(write):
-    from checker.budget import Budget
+    from checker.engines.budget import Budget
     import time
 
     check = load(write, tail_counter(8, 15))

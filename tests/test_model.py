@@ -8,10 +8,10 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from checker.elaborate import load_namespace
+from checker.elab import load_namespace
 from checker.errors import InputError
 from checker.model import FALSE, TRUE, Aig
-from checker.simulate import eval_states, leaf_arrays, run
+from checker.model.simulate import eval_states, leaf_arrays, run
 
 # Characteristic tables of the four flop kinds, written out row by row as
 # printed in digital design handbooks (from memory: M. Morris Mano, "Digital
@@ -93,7 +93,7 @@ def test_t_flop_ripple_counter_counts_in_binary(write):
 
 def test_decade_has_six_unused_codes():
     # Fact of the trade: a decade (BCD) counter uses 10 of the 16 codes of 4 bits.
-    from checker.sequence import make_sequence
+    from checker.elab.sequence import make_sequence
 
     seq = make_sequence("bcd", [], 4)
     assert seq.length() == 10

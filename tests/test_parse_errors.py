@@ -6,7 +6,7 @@ import json
 
 import pytest
 
-from checker.elaborate import load_namespace
+from checker.elab import load_namespace
 from checker.errors import InputError
 from conftest import run_cli
 

@@ -11,13 +11,13 @@ import time
 
 import pytest
 
-from checker.budget import Budget
+from checker.engines.budget import Budget
 from checker.claims import run_claim
 from checker.claims.common import Options, replay, stepping
 from checker.claims.recover import LOCKED_LIST_LIMIT, prove, sat_search
-from checker.elaborate import Check, load_namespace
+from checker.elab import Check, load_namespace
 from checker.errors import InputError
-from checker.verdict import OPEN, PROVED, REFUTED
+from checker.claims.result import OPEN, PROVED, REFUTED
 
 
 def load(write, text):

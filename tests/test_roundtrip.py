@@ -21,11 +21,11 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
-from checker import parse as P
-from checker.elaborate import load_namespace
+from checker.lang import parse as P
+from checker.elab import load_namespace
 from checker.errors import InputError, Pos
-from checker.simulate import eval_states
-from checker.unparse import unparse_expr, unparse_file
+from checker.model.simulate import eval_states
+from checker.lang.unparse import unparse_expr, unparse_file
 
 ROOT = Path(__file__).resolve().parent.parent
 CASES = sorted((ROOT / "cases").glob("*.cnl"))

@@ -14,10 +14,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from checker import gf2
-from checker import sequence as seqmod
+from checker.elab import gf2
+from checker.elab import sequence as seqmod
 from checker.model import Aig, evaluate
-from checker.sequence import (
+from checker.elab.sequence import (
     LIST_LIMIT,
     LfsrSequence,
     ListSequence,

@@ -9,9 +9,9 @@ from __future__ import annotations
 import importlib
 import time
 
-from ..budget import run_bounded
-from ..elaborate import Check, Claim
-from ..verdict import OPEN, Result
+from ..engines.budget import run_bounded
+from ..elab import Check, Claim
+from .result import OPEN, Result
 from .common import Options, make_result
 
 _MODULES = {"count": "count", "always": "always", "recover": "recover", "equal": "equal"}

@@ -10,11 +10,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from ..budget import Budget
-from ..elaborate import Check, Claim
+from ..engines.budget import Budget
+from ..elab import Check, Claim
 from ..model import evaluate
-from ..sat import Sat, Unrolling
-from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
+from ..engines.sat import Sat, Unrolling
+from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .common import Options, ReplayError, make_result, trace_lines
 
 

@@ -5,11 +5,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Optional, Sequence
 
-from ..elaborate import Check, Claim, Design
+from ..elab import Check, Claim, Design
 from ..model import FALSE, TRUE
-from ..sat import DEFAULT_SOLVER
-from ..simulate import code_value, run, state_of_code
-from ..verdict import Result, TraceEntry
+from ..engines.sat import DEFAULT_SOLVER
+from ..model.simulate import code_value, run, state_of_code
+from .result import Result, TraceEntry
 
 
 @dataclass

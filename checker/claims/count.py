@@ -17,11 +17,11 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Optional
 
-from ..budget import Budget
-from ..elaborate import Check, Claim
+from ..engines.budget import Budget
+from ..elab import Check, Claim
 from ..model import FALSE, TRUE, Aig, evaluate
-from ..sat import Sat, Unrolling
-from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
+from ..engines.sat import Sat, Unrolling
+from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .common import Options, ReplayError, make_result, regions, replay, rule_spec, trace_lines
 
 # An SR fault in a code of the sequence refutes the claim under any input,

@@ -23,16 +23,16 @@ from typing import Optional
 
 import numpy as np
 
-from ..budget import Budget
-from ..correspond import (Product, bmc, explicit_search, product, signal_correspondence,
+from ..engines.budget import Budget
+from ..engines.correspond import (Product, bmc, explicit_search, product, signal_correspondence,
                           simulate_inputs)
-from ..elaborate import Check, Claim, Design
+from ..elab import Check, Claim, Design
 from ..errors import InputError
 from ..model import FALSE, TRUE, Aig
-from ..simulate import eval_states, leaf_arrays
-from ..pdr import Pdr, check_invariant
-from ..sat import Encoder, Sat, any_lit, equal_lit
-from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
+from ..model.simulate import eval_states, leaf_arrays
+from ..engines.pdr import Pdr, check_invariant
+from ..engines.sat import Encoder, Sat, any_lit, equal_lit
+from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .common import Options, ReplayError, make_result, replay
 
 UNUSED_LIMIT = 256  # unused codes enumerated by blocking clauses

@@ -35,14 +35,14 @@ import time
 from dataclasses import dataclass, field
 from typing import Optional
 
-from .. import explicit as X
-from .. import repair
-from ..budget import Budget
-from ..elaborate import Check, Claim
+from ..engines import explicit as X
+from ..engines import repair
+from ..engines.budget import Budget
+from ..elab import Check, Claim
 from ..errors import InputError
-from ..sat import Encoder, Sat, Unrolling
-from ..simulate import run
-from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
+from ..engines.sat import Encoder, Sat, Unrolling
+from ..model.simulate import run
+from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .common import Options, make_result, replay, stepping
 
 PAIR_DEPTH = 64

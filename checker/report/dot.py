@@ -16,8 +16,8 @@ from typing import Optional, Union
 
 import numpy as np
 
-from ..elaborate import Check
-from ..explicit import Analysis, worst_key
+from ..elab import Check
+from ..engines.explicit import Analysis, worst_key
 
 MAX_NODES = 2048
 """Most codes drawn; past it the graph shows the locked sets and the slowest unused codes."""

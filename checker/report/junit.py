@@ -16,7 +16,7 @@ from typing import Iterable, Optional, Sequence
 
 from junit_xml import TestCase, TestSuite, to_xml_report_string
 
-from ..verdict import OPEN, REFUTED, Result
+from ..claims.result import OPEN, REFUTED, Result
 
 SUITE_PREFIX = "countersign"
 

@@ -7,7 +7,7 @@ from typing import Sequence
 
 from tabulate import tabulate
 
-from ..verdict import OPEN, PROVED, REFUTED, Result
+from ..claims.result import OPEN, PROVED, REFUTED, Result
 
 _MARK = {PROVED: "proved", REFUTED: "REFUTED", OPEN: "open"}
 

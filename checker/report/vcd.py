@@ -6,8 +6,8 @@ from typing import Sequence
 
 from vcd import VCDWriter
 
-from ..elaborate import Design
-from ..simulate import Step
+from ..elab import Design
+from ..model.simulate import Step
 
 
 def write_vcd(design: Design, steps: Sequence[Step], path: str, period_ns: int = 10) -> None:

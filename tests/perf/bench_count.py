@@ -27,13 +27,13 @@ sys.path.insert(0, str(ROOT))
 
 import numpy as np  # noqa: E402
 
-from checker.budget import Budget  # noqa: E402
+from checker.engines.budget import Budget  # noqa: E402
 from checker.claims import count  # noqa: E402
 from checker.claims.common import Options  # noqa: E402
-from checker.elaborate import load_namespace  # noqa: E402
+from checker.elab import load_namespace  # noqa: E402
 from checker.model import evaluate  # noqa: E402
-from checker.sat import Sat  # noqa: E402
-from checker.simulate import next_codes  # noqa: E402
+from checker.engines.sat import Sat  # noqa: E402
+from checker.model.simulate import next_codes  # noqa: E402
 
 SAT_WIDTHS = [8, 16, 32, 64, 128, 256]
 SIM_WIDTHS = [12, 16, 20, 24]

@@ -30,10 +30,10 @@ ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "tests"))
 
-from checker.budget import Budget  # noqa: E402
+from checker.engines.budget import Budget  # noqa: E402
 from checker.claims import equal  # noqa: E402
 from checker.claims.common import Options  # noqa: E402
-from checker.elaborate import load_namespace  # noqa: E402
+from checker.elab import load_namespace  # noqa: E402
 from test_equal import aig_to_bdds, ferry  # noqa: E402
 
 REPEAT = 3

@@ -29,7 +29,7 @@ sys.path.insert(0, ROOT)
 
 from checker.claims import run_claim  # noqa: E402
 from checker.claims.common import Options  # noqa: E402
-from checker.elaborate import load_namespace  # noqa: E402
+from checker.elab import load_namespace  # noqa: E402
 
 sys.path.insert(0, os.path.join(ROOT, "tests"))
 from test_recover import tail_counter as batch_counter  # noqa: E402  (the tests' own design)

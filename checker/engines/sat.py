@@ -15,7 +15,7 @@ from typing import Iterable, Optional, Sequence
 
 from pysat.solvers import Solver, SolverNames
 
-from .model import Aig, Model
+from ..model import Aig, Model
 
 DEFAULT_SOLVER = "cadical195"
 

@@ -9,10 +9,10 @@ from __future__ import annotations
 
 from typing import Optional
 
-from . import parse as P
-from .elaborate import (BExpr, Check, Claim, Design, Rule, bitwise, bnot, build, gate,
-                        kind_text, num_bits, select_bits)
-from .errors import InputError, Pos
+from ..errors import InputError, Pos
+from ..lang import parse as P
+from .bits import BExpr, bitwise, bnot, build, gate, kind_text, num_bits, select_bits
+from .design import Check, Claim, Design, Rule
 from .sequence import SequenceError, make_sequence
 
 FAMILIES = ("bcd", "gray", "johnson", "ring", "lfsr")

@@ -21,8 +21,8 @@ from typing import Iterable, Iterator
 
 import numpy as np
 
-from checker.gf2 import OutOfTime, primitive
-from checker.model import FALSE, TRUE, Aig
+from .gf2 import OutOfTime, primitive
+from ..model import FALSE, TRUE, Aig
 
 LIST_LIMIT = 65536
 """Most codes an explicit sequence may hold."""

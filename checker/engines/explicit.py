@@ -35,11 +35,11 @@ from typing import Optional
 import numpy as np
 
 from .budget import Budget
-from .elaborate import Check
-from .errors import InputError
-from .model import Aig, evaluate
+from ..elab import Check
+from ..errors import InputError
+from ..model import Aig, evaluate
 from .sat import Encoder, Sat
-from .simulate import eval_states
+from ..model.simulate import eval_states
 
 MAX_WIDTH = 25
 """Widest code the explicit engine takes."""

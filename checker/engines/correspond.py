@@ -28,7 +28,7 @@ from typing import Optional
 import numpy as np
 
 from .budget import Budget
-from .model import TRUE, Model, evaluate
+from ..model import TRUE, Model, evaluate
 from .sat import Sat, Unrolling, any_lit, equal_lit
 
 

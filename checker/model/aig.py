@@ -1,26 +1,19 @@
-"""One circuit model: a structurally hashed and-inverter graph (AIG).
+"""The and-inverter graph (AIG) every model is built of, and its bit-parallel evaluator.
 
 A literal is an int: ``2 * node + negated``. Node 0 is the constant, so
 literal 0 is false and literal 1 is true. Leaves (primary inputs and state
 bits) and and-nodes are numbered in creation order, so every and-node's
 children have smaller numbers: node order is a topological order.
 
-Every engine (simulator, bit-parallel evaluator, SAT encoder, explicit
-search) reads only this module's :class:`Model`.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
 from typing import Iterable, Sequence
 
 FALSE = 0
 TRUE = 1
 
-
-def neg(lit: int) -> int:
-    """The complement of a literal."""
-    return lit ^ 1
 
 
 class Aig:
@@ -119,11 +112,6 @@ class Aig:
             items = nxt
         return items[0]
 
-    def equal_vec(self, a: Sequence[int], b: Sequence[int]) -> int:
-        """1 when the two equal-width vectors are bitwise equal."""
-        assert len(a) == len(b)
-        return self.and_all(self.xnor(x, y) for x, y in zip(a, b))
-
     def equal_const(self, bits: Sequence[int], value: int) -> int:
         """1 when ``bits`` (least significant first) spell ``value``."""
         return self.and_all(b if (value >> i) & 1 else b ^ 1 for i, b in enumerate(bits))
@@ -204,50 +192,3 @@ def evaluate(aig: Aig, leaf_values: dict[int, object], roots: Sequence[int], one
         v = val[r >> 1]
         out.append(v ^ ones if r & 1 else v)
     return out
-
-
-@dataclass
-class Model:
-    """A synchronous circuit: state bits, inputs, next-state and output nodes.
-
-    ``states`` and ``inputs`` are bit names in declaration order after
-    flattening (most significant first within a vector). ``state_lits[i]`` is
-    the leaf literal of ``states[i]``; ``next_lits[i]`` its next value at the
-    clock edge. ``faults`` holds, per SR flop bit, the literal that is 1 when
-    s = r = 1 with clear and preset both 0. ``signals`` maps every named bit of
-    the design (inputs, flops, nodes, outputs) to its literal.
-    """
-
-    name: str
-    aig: Aig = field(default_factory=Aig)
-    states: list[str] = field(default_factory=list)
-    state_lits: list[int] = field(default_factory=list)
-    next_lits: list[int] = field(default_factory=list)
-    inputs: list[str] = field(default_factory=list)
-    input_lits: list[int] = field(default_factory=list)
-    outputs: list[str] = field(default_factory=list)
-    output_lits: list[int] = field(default_factory=list)
-    faults: list[tuple[str, int]] = field(default_factory=list)
-    signals: dict[str, int] = field(default_factory=dict)
-
-    def state_index(self, name: str) -> int:
-        return self.states.index(name)
-
-    def step(self, state: dict[str, int], inputs: dict[str, int]) -> tuple[dict[str, int], dict[str, int], list[str]]:
-        """One clock from concrete values: (next state, outputs, SR faults hit).
-
-        Outputs are those seen in ``state`` under ``inputs``, before the edge.
-        """
-        lv: dict[int, object] = {}
-        for n, l in zip(self.states, self.state_lits):
-            lv[l >> 1] = state[n] & 1
-        for n, l in zip(self.inputs, self.input_lits):
-            lv[l >> 1] = inputs.get(n, 0) & 1
-        roots = self.next_lits + self.output_lits + [l for _, l in self.faults]
-        vals = evaluate(self.aig, lv, roots, 1)
-        ns = len(self.states)
-        no = len(self.outputs)
-        nxt = dict(zip(self.states, vals[:ns]))
-        outs = dict(zip(self.outputs, vals[ns:ns + no]))
-        hit = [f for (f, _), v in zip(self.faults, vals[ns + no:]) if v]
-        return nxt, outs, hit

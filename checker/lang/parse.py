@@ -16,7 +16,7 @@ from typing import Optional, Union
 from lark import Lark, Token, Tree
 from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
 
-from .errors import InputError, Pos
+from ..errors import InputError, Pos
 
 RESERVED = frozenset(
     "use design end in out node flop part check of code count hold load back step "
@@ -279,8 +279,8 @@ def int_value(text: str) -> int:
 
 def grammar_path() -> Path:
     """The grammar file: ``grammar/cnl.lark`` beside the package, in a checkout or a wheel."""
-    here = Path(__file__).resolve().parent
-    for cand in (here.parent / "grammar" / "cnl.lark", here / "grammar" / "cnl.lark"):
+    package = Path(__file__).resolve().parent.parent  # checker/
+    for cand in (package.parent / "grammar" / "cnl.lark", package / "grammar" / "cnl.lark"):
         if cand.is_file():
             return cand
     raise FileNotFoundError("grammar/cnl.lark is missing from the installation")

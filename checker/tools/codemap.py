@@ -18,13 +18,13 @@ from typing import Optional
 
 import numpy as np
 
-from . import explicit as X
-from . import repair
-from .budget import Budget
-from .claims.common import Options, stepping
-from .claims.recover import choose_engine, locked_listing, sat_search, satisfiable, set_lines
-from .elaborate import Check
-from .errors import InputError
+from ..engines import explicit as X
+from ..engines import repair
+from ..engines.budget import Budget
+from ..claims.common import Options, stepping
+from ..claims.recover import choose_engine, locked_listing, sat_search, satisfiable, set_lines
+from ..elab import Check
+from ..errors import InputError
 
 PATH_LIMIT = 64
 """Most codes in one entry's ``path`` (then ``"path_truncated": true``)."""

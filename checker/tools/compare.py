@@ -19,12 +19,12 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Optional
 
-from .budget import Budget
-from .claims import run_check
-from .claims.common import Options
-from .claims.equal import PairedMiter, paired_miter
-from .elaborate import Check, Design, load_namespace
-from .verdict import PROVED, Result
+from ..engines.budget import Budget
+from ..claims import run_check
+from ..claims.common import Options
+from ..claims.equal import PairedMiter, paired_miter
+from ..elab import Check, Design, load_namespace
+from ..claims.result import PROVED, Result
 
 CUBE_LIMIT = 256  # cubes enumerated per question
 ESPRESSO_LIMIT = 256  # minimise covers of at most this many cubes

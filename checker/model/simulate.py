@@ -12,7 +12,8 @@ from typing import Optional, Sequence
 
 import numpy as np
 
-from .model import Model, evaluate
+from .aig import evaluate
+from .circuit import Model
 
 
 @dataclass

@@ -10,10 +10,10 @@ bit after the edge, ``!NAME@0`` a variable that is the complement of NAME.
 
 from __future__ import annotations
 
-from ..elaborate import Check, Claim
-from ..sat import Sat, Unrolling
-from .always import build_always
-from .count import build_count
+from ..elab import Check, Claim
+from ..engines.sat import Sat, Unrolling
+from ..claims.always import build_always
+from ..claims.count import build_count
 
 
 def _name_signals(check: Check, frame: Unrolling) -> None:

@@ -24,7 +24,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 from .budget import Budget
-from .model import TRUE, Model
+from ..model import TRUE, Model
 from .sat import Encoder, Sat
 
 Cube = tuple[int, ...]  # state-bit literals: +(i + 1) for bit i = 1, -(i + 1) for 0

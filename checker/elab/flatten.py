@@ -1,129 +1,27 @@
-"""Syntax tree to circuit model: resolve ``use``, flatten parts, expand vectors.
+"""Design blocks to circuit models: flatten parts, expand vectors, build the AIG.
 
-``load_namespace(path)`` reads a file and everything it uses, checks that the
-designs are well formed and builds one :class:`checker.model.Model` per design
-and one :class:`Check` per check block of the file itself. Every problem is an
-:class:`InputError` with a position.
+``elaborate_design(blocks, name)`` instantiates a design and its parts into
+bit-level tables, checks them (widths, pins, loops, limits), and builds one
+:class:`checker.model.Model`. Every problem is an :class:`InputError` with a
+position.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from pathlib import Path
-from typing import Optional, Union
+from typing import Optional
 
-from . import parse as P
-from .errors import InputError, Pos
-from .model import FALSE, TRUE, Aig, Model
-from typing import TYPE_CHECKING
+from ..errors import InputError, Pos
+from ..lang import parse as P
+from ..model import FALSE, TRUE, Aig, Model
+from .bits import (MAX_VECTOR, BExpr, bit_deps, bitwise, bnot, build, gate, kind_text, num_bits,
+                   select_bits)
+from .design import Design, Symbol
 
-if TYPE_CHECKING:
-    from .sequence import Sequence
-
-MAX_VECTOR = 4096
 MAX_BITS = 100_000
-MAX_USE_FILES = 1000
-
 FLOP_PINS = {"D": ("d",), "T": ("t",), "JK": ("j", "k"), "SR": ("s", "r")}
-GATES = {"and", "or", "nand", "nor", "xor", "xnor", "not", "buf", "mux"}
-
-# A bit expression: ('c', 0|1) | ('r', bit) | ('n', x) | ('&'|'|'|'^', [xs]) | ('m', s, a, b)
-BExpr = tuple
 
 
-# --- results -------------------------------------------------------------
-@dataclass
-class Design:
-    """A flattened design with its circuit model."""
-
-    name: str
-    pos: Pos
-    model: Model
-    input_vectors: dict[str, list[str]]
-    output_vectors: dict[str, list[str]]
-    flop_kinds: dict[str, str]
-    vectors: dict[str, "Symbol"]  # flattened name -> symbol (kind, bits msb first)
-
-    @property
-    def file(self) -> str:
-        return self.pos.file
-
-
-@dataclass
-class Rule:
-    """One rule of a check: ``kind`` in hold, load, back, step; ``cond`` a literal."""
-
-    kind: str
-    cond: int
-    pos: Pos
-    load_const: Optional[int] = None
-    load_bits: Optional[list[int]] = None  # literals, most significant first
-
-
-@dataclass
-class Claim:
-    """One claim of a check block."""
-
-    kind: str  # count, recover, always, equal
-    pos: Pos
-    within: Optional[int] = None  # recover within N
-    cond: Optional[int] = None  # recover when / equal after: a literal over inputs
-    cond_text: Optional[str] = None
-    prop: Optional[int] = None  # always
-    other: Optional[Design] = None  # equal
-    mode: Optional[str] = None  # equal: None, 'sequence', 'after'
-    other_cond: Optional[int] = None  # equal after: COND built in the other design too
-
-
-@dataclass
-class Check:
-    """An elaborated check block: its design, code bits, sequence, rules, claims."""
-
-    name: str
-    pos: Pos
-    design: Design
-    code: list[int] = field(default_factory=list)  # state indices, most significant first
-    code_pos: Optional[Pos] = None
-    sequence: Optional["Sequence"] = None
-    sequence_pos: Optional[Pos] = None
-    rules: list[Rule] = field(default_factory=list)
-    claims: list[Claim] = field(default_factory=list)
-
-    @property
-    def width(self) -> int:
-        return len(self.code)
-
-    def code_lits(self) -> list[int]:
-        """State literals of the code, least significant first (for arithmetic)."""
-        m = self.design.model
-        return [m.state_lits[i] for i in reversed(self.code)]
-
-    def code_of(self, state: dict[str, int]) -> int:
-        """The code value of a state given as bit name -> 0/1."""
-        names = self.design.model.states
-        v = 0
-        for i in self.code:
-            v = (v << 1) | (state[names[i]] & 1)
-        return v
-
-    def state_of(self, code: int) -> dict[str, int]:
-        """The state (bit name -> 0/1) whose code is ``code``."""
-        names = self.design.model.states
-        w = len(self.code)
-        return {names[i]: (code >> (w - 1 - k)) & 1 for k, i in enumerate(self.code)}
-
-
-@dataclass
-class Namespace:
-    """A command-line file and everything it uses."""
-
-    path: str
-    designs: dict[str, Design]
-    checks: list[Check]
-    files: list[str]
-
-
-# --- flattening ----------------------------------------------------------
 @dataclass
 class _FlopBit:
     kind: str
@@ -131,39 +29,6 @@ class _FlopBit:
     pins: dict[str, tuple[BExpr, Pos]] = field(default_factory=dict)
     clear: Optional[BExpr] = None
     preset: Optional[BExpr] = None
-
-
-@dataclass
-class Symbol:
-    """A declared name after flattening: its kind and its bits."""
-
-    kind: str  # in, out, node, flop, part
-    bits: list[str]  # flattened bit names, msb first
-    pos: Pos
-    msb: Optional[int] = None
-    lsb: Optional[int] = None
-    design: Optional[str] = None  # for parts
-
-
-def _index_pos(sym: Symbol, i: int, where: Pos, name: str) -> int:
-    """Position of index ``i`` in ``sym.bits``."""
-    if sym.msb is None:
-        raise InputError(where, f"'{name}' is a single bit, not a vector; it takes no index")
-    lo, hi = min(sym.msb, sym.lsb), max(sym.msb, sym.lsb)
-    if not lo <= i <= hi:
-        raise InputError(where, f"index {i} is outside {name}[{sym.msb}:{sym.lsb}]")
-    return sym.msb - i if sym.msb >= sym.lsb else i - sym.msb
-
-
-def select_bits(sym: Symbol, idx: Optional[P.Index], name: str) -> list[str]:
-    if idx is None:
-        return list(sym.bits)
-    if idx.last is None:
-        return [sym.bits[_index_pos(sym, idx.first, idx.pos, name)]]
-    a = _index_pos(sym, idx.first, idx.pos, name)
-    b = _index_pos(sym, idx.last, idx.pos, name)
-    step = 1 if b >= a else -1
-    return [sym.bits[k] for k in range(a, b + step, step)]
 
 
 def _decl_text(d: P.Decl) -> str:
@@ -454,106 +319,12 @@ class _Flattener:
         raise InputError(r.pos, f"'{name}': inside a design, read a part's output as PART.PORT")
 
 
-def kind_text(kind: str) -> str:
-    return {"in": "an input", "out": "an output", "node": "a node", "flop": "a flop", "part": "a part"}[kind]
-
-
-def num_bits(e: P.Num, want: Optional[int]) -> list[BExpr]:
-    bw = e.binary_width
-    if bw is not None:
-        if bw > MAX_VECTOR:
-            raise InputError(e.pos, f"binary literal has {bw} digits; the limit is {MAX_VECTOR} bits in one vector")
-        return [("c", int(ch)) for ch in e.text[2:]]
-    if want is None or want == 1:
-        if e.value in (0, 1):
-            return [("c", e.value)]
-        raise InputError(e.pos, f"the number {e.text} has no width here; a bit is 0 or 1, and a binary literal (0b...) gives one bit per digit")
-    if e.value >> want:
-        raise InputError(e.pos, f"{e.text} does not fit in {want} bits")
-    return [("c", (e.value >> (want - 1 - k)) & 1) for k in range(want)]
-
-
-def bnot(x: BExpr) -> BExpr:
-    if x[0] == "c":
-        return ("c", 1 - x[1])
-    if x[0] == "n":
-        return x[1]
-    return ("n", x)
-
-
-def bitwise(op: str, vecs: list[list[BExpr]], e: P.Expr) -> list[BExpr]:
-    widths = {len(v) for v in vecs}
-    wide = widths - {1}
-    if len(wide) > 1:
-        raise InputError(e.pos, f"width mismatch: operands of '{op}' are {', '.join(str(len(v)) for v in vecs)} bits wide (a single bit applies to every bit; otherwise widths must be equal)")
-    n = max(widths)
-    cols = [v * n if len(v) == 1 else v for v in vecs]
-    return [(op, [c[k] for c in cols]) for k in range(n)]
-
-
-def gate(e: P.Call, args: list[list[BExpr]]) -> list[BExpr]:
-    name = e.name
-    if name not in GATES:
-        raise InputError(e.pos, f"unknown gate '{name}'; the gates are {', '.join(sorted(GATES))}")
-    if name in ("not", "buf"):
-        if len(args) != 1:
-            raise InputError(e.pos, f"{name}() takes one argument, not {len(args)}")
-        return [bnot(x) for x in args[0]] if name == "not" else args[0]
-    if name == "mux":
-        if len(args) != 3:
-            raise InputError(e.pos, f"mux(S, A, B) takes three arguments, not {len(args)}")
-        s, a, b = args
-        cols = bitwise("mux", [s, a, b], e)
-        return [("m", c[1][0], c[1][1], c[1][2]) for c in cols]
-    if len(args) < 2:
-        raise InputError(e.pos, f"{name}() takes two or more arguments")
-    base = {"and": "&", "nand": "&", "or": "|", "nor": "|", "xor": "^", "xnor": "^"}[name]
-    out = bitwise(base, args, e)
-    if name in ("nand", "nor", "xnor"):
-        out = [bnot(x) for x in out]
-    return out
-
-
-# --- bit tables to and-inverter graph ------------------------------------
-def _deps(x: BExpr, out: list[str]) -> None:
-    stack = [x]
-    while stack:
-        y = stack.pop()
-        t = y[0]
-        if t == "r":
-            out.append(y[1])
-        elif t == "n":
-            stack.append(y[1])
-        elif t == "m":
-            stack.extend(y[1:])
-        elif t != "c":
-            stack.extend(y[1])
-
-
-def build(aig: Aig, x: BExpr, lit: dict[str, int]) -> int:
-    t = x[0]
-    if t == "c":
-        return TRUE if x[1] else FALSE
-    if t == "r":
-        return lit[x[1]]
-    if t == "n":
-        return build(aig, x[1], lit) ^ 1
-    if t == "m":
-        return aig.mux(build(aig, x[1], lit), build(aig, x[2], lit), build(aig, x[3], lit))
-    args = [build(aig, a, lit) for a in x[1]]
-    if t == "&":
-        return aig.and_all(args)
-    if t == "|":
-        return aig.or_all(args)
-    return aig.xor_all(args)
-
-
 def _comb_order(fl: _Flattener, leaves: set[str]) -> list[str]:
     """Combinational bits in dependency order; a cycle is an error naming it."""
     deps: dict[str, list[str]] = {}
     for b, (x, _) in fl.comb.items():
         d: list[str] = []
-        _deps(x, d)
+        bit_deps(x, d)
         deps[b] = [y for y in d if y not in leaves]
     order: list[str] = []
     state: dict[str, int] = {}  # 1 on stack, 2 done
@@ -642,82 +413,3 @@ def elaborate_design(blocks: dict[str, P.DesignBlock], name: str) -> Design:
     vectors = {k: s for k, s in fl.syms.items() if s.kind != "part"}
     kinds = {b: fb.kind for b, fb in fl.flops.items()}
     return Design(name, block.pos, model, in_vec, out_vec, kinds, vectors)
-
-
-# --- files and namespaces ------------------------------------------------
-def read_file(path: str, pos: Optional[Pos] = None) -> P.File:
-    """Read and parse one file; a missing or unreadable file is an InputError."""
-    where = pos or Pos(path, 1, 1)
-    p = Path(path)
-    try:
-        if p.is_dir():
-            raise InputError(where, f"'{path}' is a folder, not a file")
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError(where, f"no such file '{path}'") from None
-    except PermissionError:
-        raise InputError(where, f"cannot read '{path}': permission denied") from None
-    except OSError as e:
-        raise InputError(where, f"cannot read '{path}': {e.strerror or e}") from None
-    return P.parse_text(path, P.decode_source(path, data))
-
-
-def _gather(path: str) -> list[P.File]:
-    """The file and everything it uses, each read once; a cycle is an error."""
-    files: dict[str, P.File] = {}
-    order: list[P.File] = []
-    onstack: list[str] = []
-
-    def key(p: str) -> str:
-        return str(Path(p).resolve())
-
-    # iterative DFS over use edges
-    top = read_file(path)
-    files[key(path)] = top
-    stack: list[tuple[P.File, int]] = [(top, 0)]
-    onstack.append(key(path))
-    while stack:
-        f, i = stack.pop()
-        if i < len(f.uses):
-            stack.append((f, i + 1))
-            u = f.uses[i]
-            target = str(Path(f.path).parent / u.path) if not Path(u.path).is_absolute() else u.path
-            k = key(target)
-            if k in onstack:
-                raise InputError(u.pos, f"use cycle: '{u.path}' is already being read")
-            if k in files:
-                continue
-            if len(files) >= MAX_USE_FILES:
-                raise InputError(u.pos, f"more than {MAX_USE_FILES} files used (the limit)")
-            g = read_file(target, u.pos)
-            files[k] = g
-            onstack.append(k)
-            stack.append((g, 0))
-        else:
-            onstack.pop()
-            order.append(f)
-    return order
-
-
-def load_namespace(path: str) -> Namespace:
-    """Read ``path`` and its uses; elaborate every design and the file's own checks."""
-    from .spec import elaborate_check  # check blocks are elaborated in their own module
-
-    files = _gather(path)
-    blocks: dict[str, P.DesignBlock] = {}
-    for f in files:
-        for d in f.designs:
-            old = blocks.get(d.name)
-            if old is not None:
-                raise InputError(d.pos, f"design '{d.name}' is defined twice (first at {old.pos})")
-            blocks[d.name] = d
-    designs = {name: elaborate_design(blocks, name) for name in blocks}
-    top = files[-1]
-    seen: dict[str, Pos] = {}
-    checks = []
-    for c in top.checks:
-        if c.name in seen:
-            raise InputError(c.pos, f"check '{c.name}' is defined twice in this file (first at line {seen[c.name].line})")
-        seen[c.name] = c.pos
-        checks.append(elaborate_check(c, designs))
-    return Namespace(path, designs, checks, [f.path for f in files])

@@ -1,0 +1,94 @@
+"""Files and namespaces: read a file and everything it ``use``s, elaborate it all.
+
+``load_namespace(path)`` reads a file and its uses (each once; a cycle is an
+error), elaborates every design and the file's own check blocks.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Optional
+
+from ..errors import InputError, Pos
+from ..lang import parse as P
+from .design import Namespace
+from .flatten import elaborate_design
+from .spec import elaborate_check
+
+MAX_USE_FILES = 1000
+
+
+def read_file(path: str, pos: Optional[Pos] = None) -> P.File:
+    """Read and parse one file; a missing or unreadable file is an InputError."""
+    where = pos or Pos(path, 1, 1)
+    p = Path(path)
+    try:
+        if p.is_dir():
+            raise InputError(where, f"'{path}' is a folder, not a file")
+        data = p.read_bytes()
+    except FileNotFoundError:
+        raise InputError(where, f"no such file '{path}'") from None
+    except PermissionError:
+        raise InputError(where, f"cannot read '{path}': permission denied") from None
+    except OSError as e:
+        raise InputError(where, f"cannot read '{path}': {e.strerror or e}") from None
+    return P.parse_text(path, P.decode_source(path, data))
+
+
+def _gather(path: str) -> list[P.File]:
+    """The file and everything it uses, each read once; a cycle is an error."""
+    files: dict[str, P.File] = {}
+    order: list[P.File] = []
+    onstack: list[str] = []
+
+    def key(p: str) -> str:
+        return str(Path(p).resolve())
+
+    # iterative DFS over use edges
+    top = read_file(path)
+    files[key(path)] = top
+    stack: list[tuple[P.File, int]] = [(top, 0)]
+    onstack.append(key(path))
+    while stack:
+        f, i = stack.pop()
+        if i < len(f.uses):
+            stack.append((f, i + 1))
+            u = f.uses[i]
+            target = str(Path(f.path).parent / u.path) if not Path(u.path).is_absolute() else u.path
+            k = key(target)
+            if k in onstack:
+                raise InputError(u.pos, f"use cycle: '{u.path}' is already being read")
+            if k in files:
+                continue
+            if len(files) >= MAX_USE_FILES:
+                raise InputError(u.pos, f"more than {MAX_USE_FILES} files used (the limit)")
+            g = read_file(target, u.pos)
+            files[k] = g
+            onstack.append(k)
+            stack.append((g, 0))
+        else:
+            onstack.pop()
+            order.append(f)
+    return order
+
+
+def load_namespace(path: str) -> Namespace:
+    """Read ``path`` and its uses; elaborate every design and the file's own checks."""
+    files = _gather(path)
+    blocks: dict[str, P.DesignBlock] = {}
+    for f in files:
+        for d in f.designs:
+            old = blocks.get(d.name)
+            if old is not None:
+                raise InputError(d.pos, f"design '{d.name}' is defined twice (first at {old.pos})")
+            blocks[d.name] = d
+    designs = {name: elaborate_design(blocks, name) for name in blocks}
+    top = files[-1]
+    seen: dict[str, Pos] = {}
+    checks = []
+    for c in top.checks:
+        if c.name in seen:
+            raise InputError(c.pos, f"check '{c.name}' is defined twice in this file (first at line {seen[c.name].line})")
+        seen[c.name] = c.pos
+        checks.append(elaborate_check(c, designs))
+    return Namespace(path, designs, checks, [f.path for f in files])
