@@ -22,7 +22,8 @@ from checker.engines.budget import Budget
 from checker.claims import equal
 from checker.claims.common import Options
 from checker.claims.equal import after_engines
-from checker.engines.correspond import explicit_search, product, signal_correspondence
+from checker.engines.correspond import signal_correspondence
+from checker.engines.product import explicit_search, product
 from checker.elab import load_namespace
 from checker.errors import InputError
 from checker.engines.pdr import Pdr, check_invariant

@@ -22,7 +22,7 @@ from hypothesis import strategies as st
 from checker.engines import explicit as X
 from checker.engines.budget import Budget
 from checker.claims.common import stepping
-from checker.claims.recover import sat_search
+from checker.engines.unused_runs import sat_search
 from checker.elab import load_namespace
 from checker.model.simulate import next_codes
 
@@ -165,7 +165,7 @@ def reference_answers(g: nx.DiGraph, seq: set[int]):
 def test_explicit_matches_networkx(text):
     check = load_text(text)
     cond = condition(check)
-    a = X.explore(check, cond)
+    a = X.explore(check.space, cond)
     g, seq = reference_graph(check, cond)
     sets, steps = reference_answers(g, seq)
     assert a.locked_json() == sets
@@ -197,8 +197,8 @@ def test_engines_agree(text):
     """The SAT engine finds the same worst, or a locked cycle inside one of the explicit sets."""
     check = load_text(text)
     cond = condition(check)
-    a = X.explore(check, cond)
-    s = sat_search(check, cond, None, Budget())
+    a = X.explore(check.space, cond)
+    s = sat_search(check.space, cond, None, Budget())
     if a.locked:
         assert s.status == "locked"
         assert any(set(s.cycle) <= set(grp.tolist()) for grp in a.locked_sets)
@@ -217,11 +217,11 @@ def test_one_code_at_a_time_paths_agree(text):
     """The work-queue depth and Tarjan's SCCs (taken on long thin graphs) give the vector answers."""
     check = load_text(text)
     cond = condition(check)
-    a = X.explore(check, cond)
+    a = X.explore(check.space, cond)
     saved = X.VECTOR_ROUNDS, X.QUEUE_FRONTIER
     try:
         X.VECTOR_ROUNDS, X.QUEUE_FRONTIER = 0, 1 << 30
-        b = X.explore(check, cond)
+        b = X.explore(check.space, cond)
     finally:
         X.VECTOR_ROUNDS, X.QUEUE_FRONTIER = saved
     assert np.array_equal(a.steps, b.steps)
@@ -233,8 +233,8 @@ def test_one_code_at_a_time_paths_agree(text):
 def test_successor_table_matches_simulator(text):
     """The packed-word successor table equals checker.simulate.next_codes row by row."""
     check = load_text(text)
-    rows = X.admissible_rows(check, condition(check))
-    g = X.build_graph(check, rows)
+    rows = X.admissible_rows(check.space, condition(check))
+    g = X.build_graph(check.space, rows)
     codes = np.arange(1 << check.width, dtype=np.uint64)
     for r in range(g.succ.shape[0]):
         ins = {nm: np.bool_(v) for nm, v in zip(rows.names, rows.values[r])}
@@ -277,7 +277,7 @@ end
 def test_johnson_unused_count(n):
     # fact of the trade: a plain n-bit twisted-ring (Johnson) counter uses 2n of its 2^n codes
     check = load_text(johnson(n))
-    a = X.explore(check, stepping(check))
+    a = X.explore(check.space, stepping(check))
     assert a.unused_count == 2 ** n - 2 * n
     assert a.locked
 
@@ -285,7 +285,7 @@ def test_johnson_unused_count(n):
 def test_johnson_4_one_cycle_of_8():
     # fact of the trade: the 8 unused codes of a plain 4-bit Johnson counter form one cycle of 8
     check = load_text(johnson(4))
-    a = X.explore(check, stepping(check))
+    a = X.explore(check.space, stepping(check))
     assert [s.size for s in a.locked_sets] == [8]
     codes, _, complete = X.cycle_run(a, a.locked_sets[0], 100)
     assert complete and len(codes) == 9 and len(set(codes)) == 8
@@ -304,7 +304,7 @@ check heads of turret
   recover
 end
 """)
-    a = X.explore(check, stepping(check))
+    a = X.explore(check.space, stepping(check))
     sets = a.locked_json()
     assert [0] in sets and [31] in sets
 
@@ -325,7 +325,7 @@ check heads of turret
   recover
 end
 """)
-        a = X.explore(check, stepping(check))
+        a = X.explore(check.space, stepping(check))
         assert not a.locked and a.worst is not None and a.worst >= 1
 
 
@@ -346,7 +346,7 @@ end
 def test_xor_shift_register_locks_at_zero():
     # fact of the trade: an xor-fed shift-register noise source sticks in the all-zeros code
     check = load_text(_lfsr("xor", "lfsr 4 3"))
-    a = X.explore(check, stepping(check))
+    a = X.explore(check.space, stepping(check))
     assert a.locked_json() == [[0]]
 
 
@@ -358,7 +358,7 @@ def test_xnor_shift_register_locks_at_all_ones():
         xs.append(c)
         c = ((c << 1) | (((c >> 3) ^ (c >> 2)) & 1)) & 15
     check = load_text(_lfsr("xnor", " ".join(str(15 ^ x) for x in xs)))
-    a = X.explore(check, stepping(check))
+    a = X.explore(check.space, stepping(check))
     assert a.locked_json() == [[15]]
 
 
@@ -376,7 +376,7 @@ check all of wide
   recover
 end
 """)
-    ok, why = X.feasible(check, stepping(check))
+    ok, why = X.feasible(check.space, stepping(check))
     assert not ok and "30 bits" in why
 
 
@@ -395,7 +395,7 @@ check k of keyed
   recover
 end
 """)
-    ok, why = X.feasible(check, stepping(check))
+    ok, why = X.feasible(check.space, stepping(check))
     assert not ok and "14 input bits" in why
 
 
@@ -413,7 +413,7 @@ check v of vent
   recover when gust & sun
 end
 """)
-    rows = X.admissible_rows(check, check.claims[-1].cond)
+    rows = X.admissible_rows(check.space, check.claims[-1].cond)
     assert rows.names == ["gust", "frost"]
     assert sorted(map(tuple, rows.values)) == [(1, 0), (1, 1)]
     assert all(f["sun"] == 1 and f["gust"] == 1 for f in rows.full)

@@ -118,7 +118,7 @@ def _brute_smallest(g: nx.DiGraph, seq: set[int]) -> int:
 def test_repair_set_is_smallest_and_removes_every_lock(text):
     check = load_text(text)
     cond = condition(check)
-    a = X.explore(check, cond)
+    a = X.explore(check.space, cond)
     plan = P.repair_plan(a, check.sequence.first())
     g, seq = reference_graph(check, cond)
     if not a.locked:

@@ -14,7 +14,8 @@ import pytest
 from checker.engines.budget import Budget
 from checker.claims import run_claim
 from checker.claims.common import Options, replay, stepping
-from checker.claims.recover import LOCKED_LIST_LIMIT, prove, sat_search
+from checker.claims.recover import LOCKED_LIST_LIMIT, prove
+from checker.engines.unused_runs import sat_search
 from checker.elab import Check, load_namespace
 from checker.errors import InputError
 from checker.claims.result import OPEN, PROVED, REFUTED
@@ -128,7 +129,7 @@ def test_sat_proves_64_bit_short_tail(write):
 
 def test_sat_open_at_depth_limit(write):
     check = load(write, tail_counter(8, 15))
-    s = sat_search(check, stepping(check), None, Budget(), max_depth=5)
+    s = sat_search(check.space, stepping(check), None, Budget(), max_depth=5)
     assert s.status == "open" and s.depth == 5
 
 

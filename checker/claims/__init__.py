@@ -6,22 +6,25 @@
 
 from __future__ import annotations
 
-import importlib
 import time
+from typing import Callable
 
-from ..engines.budget import run_bounded
 from ..elab import Check, Claim
-from .result import OPEN, Result
+from ..engines.budget import Budget, run_bounded
+from . import always, count, equal, recover
 from .common import Options, make_result
+from .result import OPEN, Result
 
-_MODULES = {"count": "count", "always": "always", "recover": "recover", "equal": "equal"}
+PROVERS: dict[str, Callable[[Check, Claim, Options, Budget], Result]] = {
+    "count": count.prove, "always": always.prove, "recover": recover.prove, "equal": equal.prove,
+}
 
 
 def run_claim(check: Check, claim: Claim, opts: Options) -> Result:
     """Prove or refute one claim within ``opts.timeout`` seconds."""
-    mod = importlib.import_module(f".{_MODULES[claim.kind]}", __name__)
+    prove = PROVERS[claim.kind]
     t0 = time.perf_counter()
-    res, progress, finished = run_bounded(lambda b: mod.prove(check, claim, opts, b), opts.timeout)
+    res, progress, finished = run_bounded(lambda b: prove(check, claim, opts, b), opts.timeout)
     if not finished:
         res = make_result(check, claim, OPEN, f"ran out of time after {opts.timeout:g} s",
                           details={k: v for k, v in progress.items()})

@@ -23,17 +23,19 @@ from typing import Optional
 
 import numpy as np
 
-from ..engines.budget import Budget
-from ..engines.correspond import (Product, bmc, explicit_search, product, signal_correspondence,
-                          simulate_inputs)
 from ..elab import Check, Claim, Design
-from ..errors import InputError
-from ..model import FALSE, TRUE, Aig
-from ..model.simulate import eval_states, leaf_arrays
+from ..engines.bmc import bmc
+from ..engines.budget import Budget, OutOfBudget
+from ..engines.correspond import signal_correspondence
+from ..engines.miter import PairedMiter, paired_miter
 from ..engines.pdr import Pdr, check_invariant
+from ..engines.product import Product, explicit_search, product, simulate_inputs
 from ..engines.sat import Encoder, Sat, any_lit, equal_lit
-from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
+from ..errors import InputError
+from ..model import TRUE
+from ..model.simulate import eval_states, leaf_arrays
 from .common import Options, ReplayError, make_result, replay
+from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 UNUSED_LIMIT = 256  # unused codes enumerated by blocking clauses
 UNUSED_SHOWN = 16
@@ -41,68 +43,6 @@ EXHAUSTIVE_BITS = 22  # engine 'explicit' on paired forms: at most 2^22 (state, 
 BMC_FIRST = 16  # clocks of BMC before the proof engines run
 AUTO_EXPLICIT_STATES = 64  # engine 'auto' on `after`: explicit search up to this many product states
 AUTO_EXPLICIT_INPUTS = 8  # ... and this many input bits
-
-
-# --- flop-paired miter --------------------------------------------------------
-@dataclass
-class PairedMiter:
-    """Two designs over shared state and input variables (paired by name).
-
-    ``diffs`` lists (kind 'flop'|'output', name, solver literal that is 1 when
-    the two designs differ there); ``differ`` is their disjunction. ``restrict``
-    is the solver literal of an extra condition built in A's graph (1 when none).
-    """
-
-    sat: Sat
-    aig: Aig
-    state_vars: dict[str, int]
-    input_vars: dict[str, int]
-    diffs: list[tuple[str, str, int]]
-    differ: int
-    restrict: int
-    enc: Encoder = field(repr=False, default=None)  # type: ignore[assignment]
-    env: int = 0
-
-    def read(self) -> tuple[dict[str, int], dict[str, int]]:
-        """(state, inputs) of the last model."""
-        v = self.sat.value
-        return ({n: v(x) for n, x in self.state_vars.items()}, {n: v(x) for n, x in self.input_vars.items()})
-
-
-def paired_miter(a: Design, b: Design, solver: str, restrict: Optional[int] = None) -> PairedMiter:
-    """The miter of ``a`` and ``b`` with flops and inputs shared by name.
-
-    ``restrict`` is a literal of ``a``'s graph over its flops (for example the
-    sequence's membership); it becomes ``PairedMiter.restrict``.
-    """
-    ma, mb = a.model, b.model
-    aig = Aig()
-    leaves = {n: aig.leaf(n) for n in ma.inputs + [s for s in mb.inputs if s not in ma.inputs]}
-    for n in ma.states + [s for s in mb.states if s not in ma.states]:
-        leaves[n] = aig.leaf(n)
-
-    def copy(m, roots):
-        lm = {l >> 1: leaves[n] for n, l in zip(m.inputs + m.states, m.input_lits + m.state_lits)}
-        return m.aig.copy_into(aig, roots, lm)
-
-    extra = [] if restrict is None else [restrict]
-    ca = copy(ma, ma.next_lits + ma.output_lits + extra)
-    cb = copy(mb, mb.next_lits + mb.output_lits)
-    na, nb = len(ma.states), len(mb.states)
-    a_next, a_out = dict(zip(ma.states, ca[:na])), dict(zip(ma.outputs, ca[na:na + len(ma.outputs)]))
-    b_next, b_out = dict(zip(mb.states, cb[:nb])), dict(zip(mb.outputs, cb[nb:]))
-    xors = [("flop", n, aig.xor(a_next[n], b_next[n])) for n in ma.states if n in b_next]
-    xors += [("output", n, aig.xor(a_out[n], b_out[n])) for n in ma.outputs if n in b_out]
-    sat = Sat(solver)
-    enc = Encoder(aig, sat)
-    var = {n: sat.new_var(n) for n in leaves}
-    env = enc.new_env({l >> 1: var[n] for n, l in leaves.items()})
-    diffs = [(k, n, enc.lit(env, x)) for k, n, x in xors if x != FALSE]
-    differ = any_lit(sat, [d for _, _, d in diffs]) if diffs else -sat.true
-    rlit = enc.lit(env, ca[-1]) if restrict is not None else sat.true
-    svars = {n: var[n] for n in ma.states}
-    ivars = {n: var[n] for n in ma.inputs}
-    return PairedMiter(sat, aig, svars, ivars, diffs, differ, rlit, enc, env)
 
 
 def code_indices(check: Check) -> list[int]:
@@ -221,7 +161,7 @@ def _prove_paired(check: Check, claim: Claim, opts: Options, budget: Budget) -> 
         if done is not None:
             return done
     member = seq.member(a.model.aig, check.code_lits()) if seq is not None else None
-    m = paired_miter(a, b, opts.solver, member)
+    m = paired_miter(a.model, b.model, opts.solver, member)
     where = f"in every code of the sequence ({seq.describe()})" if on_seq else "in every state"
     try:
         details = {"engine": "sat miter", "solver": opts.solver, "compared": len(m.diffs)}
@@ -323,8 +263,7 @@ def reset_state(design: Design, cond: int, solver: str, budget: Budget) -> Optio
         seen: list[str] = []
         runs: list = []
         while True:
-            if budget.expired():
-                raise _OutOfTime
+            budget.check()
             left = [d for n, d in diff.items() if n not in seen]
             if not left or not sat.solve([any_lit(sat, left)]):
                 break
@@ -335,17 +274,13 @@ def reset_state(design: Design, cond: int, solver: str, budget: Budget) -> Optio
         return Reset(None if order else reset, order, runs, first_inputs)
 
 
-class _OutOfTime(Exception):
-    pass
-
-
 def _prove_after(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     a, b = check.design, claim.other
     assert b is not None and claim.cond is not None and claim.other_cond is not None
     try:
         ra = reset_state(a, claim.cond, opts.solver, budget)
         rb = reset_state(b, claim.other_cond, opts.solver, budget)
-    except _OutOfTime:
+    except OutOfBudget:
         return make_result(check, claim, OPEN, "ran out of time deciding whether the condition resets both designs",
                            details={"depth": 0})
     if ra is None or rb is None:

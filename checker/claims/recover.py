@@ -10,7 +10,7 @@ needs over every admissible run.
 Two engines. The explicit one (:mod:`checker.explicit`) decides every code
 of widths up to its limits exactly and lists every locked set (and
 :mod:`checker.repair` turns its answer into repair hints). The SAT one
-(:func:`sat_search`) unrolls runs of unused codes:
+(:mod:`checker.engines.unused_runs`) unrolls runs of unused codes:
 
 * a bounded path search (bounded model checking, Biere, Cimatti, Clarke and
   Zhu 1999) for an admissible run of k+1 unused codes; none at depth k
@@ -31,28 +31,17 @@ of widths up to its limits exactly and lists every locked set (and
 
 from __future__ import annotations
 
-import time
-from dataclasses import dataclass, field
 from typing import Optional
 
+from ..elab import Check, Claim
 from ..engines import explicit as X
 from ..engines import repair
-from ..engines.budget import Budget
-from ..elab import Check, Claim
+from ..engines.budget import Budget, OutOfBudget
+from ..engines.sat import satisfiable
+from ..engines.unused_runs import SatSearch, sat_search
 from ..errors import InputError
-from ..engines.sat import Encoder, Sat, Unrolling
-from ..model.simulate import run
-from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .common import Options, make_result, replay, stepping
-
-PAIR_DEPTH = 64
-"""Deepest frame that gets lasso and simple-path constraints (they grow with depth squared)."""
-
-MAX_SAT_DEPTH = 10_000
-"""Deepest frame the SAT engine unrolls before it says the claim is open."""
-
-EXTRA_DEPTH = 64
-"""After refuting `recover within N`, how far past N the SAT engine looks for the exact worst."""
+from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 TRACE_LIMIT = 4096
 """Longest locked cycle a trace walks around in full."""
@@ -72,197 +61,21 @@ LOCKED_LIST_LIMIT = 1 << 16
 
 # --- the condition ---------------------------------------------------------------
 
-def satisfiable(check: Check, lit: int) -> bool:
-    """Whether some input assignment makes the input-only literal ``lit`` 1."""
-    with Sat() as sat:
-        enc = Encoder(check.design.model.aig, sat)
-        env = enc.new_env({})
-        return sat.solve([enc.lit(env, lit)])
-
-
 def claim_condition(check: Check, claim: Claim) -> int:
     """The admissible inputs of a recover claim as a literal; an input error when none exist."""
     cond = claim.cond if claim.cond is not None else stepping(check)
-    if not satisfiable(check, cond):
+    if not satisfiable(check.design.model, cond):
         if claim.cond is not None:
             raise InputError(claim.pos, "no input meets this recover condition")
         raise InputError(claim.pos, "the rules never let the counter step, so recover has no inputs to assume; add 'when COND'")
     return cond
 
 
-# --- the SAT engine -------------------------------------------------------------
-
-@dataclass
-class SatSearch:
-    """What the SAT engine found.
-
-    ``status``: 'proved' (no lock; ``worst`` exact), 'locked' (``cycle`` holds
-    the codes of a locked cycle), 'slow' (a run of ``within``+1 unused codes;
-    ``worst`` exact or None with ``worst_at_least``) or 'open' (``depth`` frames
-    searched). ``codes`` and ``inputs`` are the run shown as evidence:
-    ``len(inputs) == len(codes) - 1``.
-    """
-
-    status: str
-    depth: int
-    worst: Optional[int] = None
-    worst_at_least: Optional[int] = None
-    codes: list[int] = field(default_factory=list)
-    inputs: list[dict[str, int]] = field(default_factory=list)
-    cycle: list[int] = field(default_factory=list)
-    worst_codes: list[int] = field(default_factory=list)
-    worst_inputs: list[dict[str, int]] = field(default_factory=list)
-
-
-class _Frames:
-    """Runs of unused codes over one solver, one frame at a time."""
-
-    def __init__(self, check: Check, cond: int, solver: str) -> None:
-        self.check = check
-        self.sat = Sat(solver)
-        self.un = Unrolling(check.design.model, self.sat)
-        assert check.sequence is not None
-        aig = check.design.model.aig
-        self.member = check.sequence.member(aig, check.code_lits())
-        self.cond = cond
-        self.act = self.sat.new_var()  # switches the simple-path constraints on
-        self.loops: list[int] = []
-        self.k = -1
-
-    def grow(self, pairs: bool) -> None:
-        """Add frame k+1: its code unused, its inputs admissible, and its pair constraints."""
-        self.k += 1
-        k, sat, un = self.k, self.sat, self.un
-        sat.add([-un.lit(k, self.member)])
-        sat.add([un.lit(k, self.cond)])
-        if not pairs or k == 0:
-            self.loops.append(0)
-            return
-        cur = un.state(k)
-        eqs = []
-        for j in range(k):
-            old = un.state(j)
-            e = sat.new_var()
-            diff = []
-            for a, b in zip(old, cur):
-                sat.add([-e, -a, b])
-                sat.add([-e, a, -b])
-                d = sat.new_var()
-                sat.add([-d, a, b])
-                sat.add([-d, -a, -b])
-                diff.append(d)
-            sat.add([-self.act, *diff])
-            eqs.append(e)
-        loop = sat.new_var()
-        sat.add([-loop, *eqs])
-        self.loops.append(loop)
-
-    def read(self, upto: int) -> tuple[list[int], list[dict[str, int]]]:
-        codes = [self.check.code_of(self.un.read_state(t)) for t in range(upto + 1)]
-        inputs = [self.un.read_inputs(t) for t in range(upto + 1)]
-        return codes, inputs
-
-    def close(self) -> None:
-        self.sat.close()
-
-
-def _first_repeat(codes: list[int]) -> Optional[int]:
-    seen: dict[int, int] = {}
-    for i, c in enumerate(codes):
-        if c in seen:
-            return i
-        seen[c] = i
-    return None
-
-
-def _finish_path(check: Check, codes: list[int], inputs: list[dict[str, int]]) -> tuple[list[int], list[dict[str, int]]]:
-    """Extend a run by one simulated clock (under its last inputs) to the code it reaches."""
-    model = check.design.model
-    steps = run(model, check.state_of(codes[-1]), [inputs[len(codes) - 1]], 1)
-    return codes + [check.code_of(steps[1].state)], inputs[:len(codes)]
-
-
-def sat_search(check: Check, cond: int, within: Optional[int], budget: Budget,
-               solver: str = "cadical195", max_depth: int = MAX_SAT_DEPTH) -> SatSearch:
-    """Decide lockout (and the worst, and ``within``) by unrolling runs of unused codes.
-
-    Proves only from UNSAT answers on complete questions (see the module
-    docstring); returns 'open' with the depth reached when the budget or
-    ``max_depth`` runs out.
-    """
-    f = _Frames(check, cond, solver)
-    budget.report(depth=0, engine="sat")
-    last_path: Optional[tuple[list[int], list[dict[str, int]]]] = None
-    slow: Optional[tuple[list[int], list[dict[str, int]]]] = None
-    stop_at: Optional[float] = None
-    extra_until: Optional[int] = None
-    try:
-        while True:
-            k = f.k + 1
-            if k > max_depth:
-                return _stopped(k - 1, slow, last_path)
-            if budget.expired() or (stop_at is not None and time.monotonic() > stop_at):
-                return _stopped(k - 1, slow, last_path)
-            if extra_until is not None and k > extra_until:
-                return _stopped(k - 1, slow, last_path)
-            pairs = k <= PAIR_DEPTH
-            f.grow(pairs)
-            t0 = time.monotonic()
-            found = f.sat.solve([f.act] if pairs else [])
-            if not found:
-                # no simple run of k+1 unused codes (no run at all, past PAIR_DEPTH):
-                # complete once no lasso ends at frame k either
-                if pairs and k > 0 and f.sat.solve([f.loops[k]]):
-                    return _locked(f, k, slow)
-                res = SatSearch("slow" if slow else "proved", k, worst=k)
-                if slow:
-                    res.codes, res.inputs = slow
-                if last_path is not None:
-                    res.worst_codes, res.worst_inputs = _finish_path(check, *last_path)
-                return res
-            codes, inputs = f.read(k)
-            last_path = (codes, inputs)
-            rep = _first_repeat(codes)
-            if rep is not None:  # only without pair constraints
-                return _locked_from(codes[:rep + 1], inputs, slow, k)
-            if within is not None and k == within and slow is None:
-                slow = (codes, inputs)
-                # keep looking for the exact worst, within half the time left and a few frames
-                left = budget.left()
-                stop_at = None if left is None else time.monotonic() + left / 2
-                extra_until = within + EXTRA_DEPTH
-            if pairs and k > 0 and f.sat.solve([f.loops[k]]):
-                return _locked(f, k, slow)
-            budget.report(depth=k, engine="sat")
-            if stop_at is not None and time.monotonic() - t0 > (stop_at - time.monotonic()) / 4:
-                return _stopped(k, slow, last_path)
-    finally:
-        f.close()
-
-
-def _stopped(depth: int, slow, last_path) -> SatSearch:
-    if slow is not None:
-        return SatSearch("slow", depth, worst=None, worst_at_least=depth + 1, codes=slow[0], inputs=slow[1])
-    return SatSearch("open", max(depth, 0), worst_at_least=None if depth < 0 else depth + 1)
-
-
-def _locked(f: _Frames, k: int, slow) -> SatSearch:
-    codes, inputs = f.read(k)
-    rep = _first_repeat(codes)
-    assert rep is not None, "a lasso model without a repeated code"
-    return _locked_from(codes[:rep + 1], inputs, slow, k)
-
-
-def _locked_from(codes: list[int], inputs: list[dict[str, int]], slow, k: int) -> SatSearch:
-    j = codes.index(codes[-1])
-    return SatSearch("locked", k, codes=codes, inputs=inputs[:len(codes) - 1], cycle=sorted(set(codes[j:-1])))
-
-
 # --- the claim -------------------------------------------------------------------
 
 def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
     """('explicit' | 'sat', why): the engine a recover question runs on."""
-    ok, why = X.feasible(check, cond)
+    ok, why = X.feasible(check.space, cond)
     if opts.engine == "explicit":
         if not ok:
             pos = check.sequence_pos or check.pos
@@ -275,12 +88,12 @@ def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
 
 def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     """Prove or refute a recover claim, with evidence and repair advice."""
-    X.require_whole_state(check)
+    X.require_whole_state(check.space)
     cond = claim_condition(check, claim)
     engine, why = choose_engine(check, cond, opts)
     if engine == "explicit" and opts.engine == "auto" and check.width > SAT_FIRST_WIDTH:
         # a short SAT search first: it settles short tails at any width in a few frames
-        s = sat_search(check, cond, claim.within, budget, opts.solver, max_depth=SAT_FIRST_DEPTH)
+        s = sat_search(check.space, cond, claim.within, budget, opts.solver, max_depth=SAT_FIRST_DEPTH)
         if s.status == "proved" or (s.status == "slow" and s.worst is not None):
             res = _sat(check, claim, cond, opts, budget, s)
             res.evidence.insert(0, f"a SAT search of {SAT_FIRST_DEPTH} frames settled it before the exhaustive one")
@@ -288,7 +101,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     if engine == "explicit":
         try:
             res = _explicit(check, claim, cond, budget)
-        except X.OutOfBudget as e:
+        except OutOfBudget as e:
             res = make_result(check, claim, OPEN, "ran out of time in the exhaustive search",
                               details={"engine": "explicit", "worst": None, "locked": None, "depth": e.depth})
     else:
@@ -340,7 +153,7 @@ def set_lines(sets: list[list[int]]) -> list[str]:
 
 
 def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
-    a = X.explore(check, cond, budget)
+    a = X.explore(check.space, cond, budget)
     g = a.graph
     seq = check.sequence
     assert seq is not None
@@ -393,7 +206,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
 def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
          s: Optional[SatSearch] = None) -> Result:
     if s is None:
-        s = sat_search(check, cond, claim.within, budget, opts.solver)
+        s = sat_search(check.space, cond, claim.within, budget, opts.solver)
     known = s.status == "proved" or (s.status == "slow" and s.worst is not None)
     details: dict = {"engine": "sat", "depth": s.depth, "worst": s.worst, "locked": [] if known else None}
     evidence: list[str] = []

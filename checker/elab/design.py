@@ -6,8 +6,9 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Optional
 
 from ..errors import Pos
-from ..lang import parse as P
 from ..model import Model
+from ..model.simulate import code_value, state_of_code
+from ..model.space import CodeSpace
 
 if TYPE_CHECKING:
     from .sequence import Sequence
@@ -87,6 +88,13 @@ class Check:
     def width(self) -> int:
         return len(self.code)
 
+    @property
+    def space(self) -> CodeSpace:
+        """The engines' view of this check: the model, the code and the sequence's membership."""
+        assert self.sequence is not None, "a code space needs the check's sequence"
+        return CodeSpace(self.design.model, list(self.code), self.sequence.member_array,
+                         self.sequence.member, self.code_pos or self.pos)
+
     def code_lits(self) -> list[int]:
         """State literals of the code, least significant first (for arithmetic)."""
         m = self.design.model
@@ -94,17 +102,11 @@ class Check:
 
     def code_of(self, state: dict[str, int]) -> int:
         """The code value of a state given as bit name -> 0/1."""
-        names = self.design.model.states
-        v = 0
-        for i in self.code:
-            v = (v << 1) | (state[names[i]] & 1)
-        return v
+        return code_value(self.design.model, self.code, state)
 
     def state_of(self, code: int) -> dict[str, int]:
         """The state (bit name -> 0/1) whose code is ``code``."""
-        names = self.design.model.states
-        w = len(self.code)
-        return {names[i]: (code >> (w - 1 - k)) & 1 for k, i in enumerate(self.code)}
+        return state_of_code(self.design.model, self.code, code)
 
 
 @dataclass

@@ -13,7 +13,7 @@ from typing import Optional
 
 from ..errors import InputError, Pos
 from ..lang import parse as P
-from ..model import FALSE, TRUE, Aig, Model
+from ..model import FALSE, Model
 from .bits import (MAX_VECTOR, BExpr, bit_deps, bitwise, bnot, build, gate, kind_text, num_bits,
                    select_bits)
 from .design import Design, Symbol

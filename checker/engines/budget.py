@@ -15,6 +15,14 @@ from dataclasses import dataclass, field
 from typing import Any, Callable, Optional
 
 
+class OutOfBudget(Exception):
+    """A budget ran out inside an engine; ``depth`` says how far it got (None: not measured)."""
+
+    def __init__(self, depth: Optional[int] = None) -> None:
+        super().__init__("out of time" if depth is None else f"out of time at depth {depth}")
+        self.depth = depth
+
+
 @dataclass
 class Budget:
     """A deadline (``time.monotonic()`` seconds, or None) and the progress reported so far."""
@@ -32,6 +40,11 @@ class Budget:
 
     def expired(self) -> bool:
         return self.deadline is not None and time.monotonic() >= self.deadline
+
+    def check(self, depth: Optional[int] = None) -> None:
+        """Raise :class:`OutOfBudget` (at ``depth``) when the deadline has passed."""
+        if self.expired():
+            raise OutOfBudget(depth)
 
     def report(self, **kv: Any) -> None:
         """Record progress (for example ``depth=k``); it survives a hard stop."""

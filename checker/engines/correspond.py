@@ -1,129 +1,23 @@
-"""Sequential equivalence on the product machine of two designs.
+"""Signal correspondence: sequential equivalence by an inductive set of equal signals.
 
-The product machine runs two designs side by side on the same inputs; its one
-property is ``bad``: some output differs. This module builds that machine and
-holds three engines over it:
-
-* ``bmc``: bounded model checking, unrolling the product machine from its
-  initial state (Biere, Cimatti, Clarke, Zhu 1999); finds shortest
-  counterexamples and proves nothing beyond its depth.
-* ``signal_correspondence``: candidate equivalences between signals of the
-  two designs, found by random simulation and pruned until they are an
-  inductive invariant (van Eijk 2000, "Sequential equivalence checking
-  based on structural similarities"). When the invariant implies that the
-  outputs agree, the designs are equivalent.
-* ``explicit_search``: breadth-first search over reachable product states
-  with every input combination, for machines small enough to enumerate.
-
-IC3/PDR (checker.pdr) takes the proved correspondences as a constraint when
-they alone are not enough.
+Candidate equivalences between signals of a machine (typically the product of
+two designs, :mod:`checker.engines.product`) are found by random simulation
+and pruned until they are an inductive invariant (van Eijk 2000, "Sequential
+equivalence checking based on structural similarities"). When the invariant
+implies that ``bad`` is 0, the property holds in every reachable state.
+IC3/PDR (:mod:`checker.engines.pdr`) takes the proved correspondences as a
+constraint when they alone are not enough.
 """
 
 from __future__ import annotations
 
 import random
 from dataclasses import dataclass, field
-from typing import Optional
-
-import numpy as np
-
-from .budget import Budget
 from ..model import TRUE, Model, evaluate
+from .budget import Budget
 from .sat import Sat, Unrolling, any_lit, equal_lit
 
 
-@dataclass
-class Product:
-    """Two designs on shared inputs: ``model`` holds A's flops, then B's.
-
-    ``bad`` is 1 when some output differs at the current clock. State names
-    are ``a:NAME`` and ``b:NAME``; ``na`` is the number of A's flops.
-    """
-
-    model: Model
-    bad: int
-    na: int
-    a_outputs: list[int]
-    b_outputs: list[int]
-
-
-def product(a: Model, b: Model) -> Product:
-    """The product machine of ``a`` and ``b``, inputs and outputs paired by name.
-
-    Both designs are copied into one and-inverter graph, so structurally equal
-    logic of the two designs becomes one node (structural hashing).
-    """
-    m = Model(f"{a.name}*{b.name}")
-    aig = m.aig
-    ins: dict[str, int] = {}
-    for n in a.inputs:
-        ins[n] = aig.leaf(n)
-        m.inputs.append(n)
-        m.input_lits.append(ins[n])
-    for n in b.inputs:
-        if n not in ins:  # the language requires equal names; tolerate extras
-            ins[n] = aig.leaf(n)
-            m.inputs.append(n)
-            m.input_lits.append(ins[n])
-    copies = []
-    for tag, d in (("a", a), ("b", b)):
-        leaf_map = {l >> 1: ins[n] for n, l in zip(d.inputs, d.input_lits)}
-        for n, l in zip(d.states, d.state_lits):
-            sl = aig.leaf(f"{tag}:{n}")
-            m.states.append(f"{tag}:{n}")
-            m.state_lits.append(sl)
-            leaf_map[l >> 1] = sl
-        copies.append(d.aig.copy_into(aig, d.next_lits + d.output_lits, leaf_map))
-    ca, cb = copies
-    m.next_lits = ca[:len(a.states)] + cb[:len(b.states)]
-    a_out = dict(zip(a.outputs, ca[len(a.states):]))
-    b_out = dict(zip(b.outputs, cb[len(b.states):]))
-    names = [n for n in a.outputs if n in b_out]
-    ao = [a_out[n] for n in names]
-    bo = [b_out[n] for n in names]
-    bad = aig.or_all(aig.xor(x, y) for x, y in zip(ao, bo))
-    m.outputs = ["bad"]
-    m.output_lits = [bad]
-    m.signals = {**{f"a:{n}": l for n, l in a_out.items()}, **{f"b:{n}": l for n, l in b_out.items()}}
-    return Product(m, bad, len(a.states), ao, bo)
-
-
-def simulate_inputs(model: Model, init: list[int], inputs: list[dict[str, int]]) -> list[list[int]]:
-    """States (bit lists in ``model.states`` order) at clocks 0..len(inputs)."""
-    states = [list(init)]
-    for inp in inputs:
-        nxt, _, _ = model.step(dict(zip(model.states, states[-1])), inp)
-        states.append([nxt[s] for s in model.states])
-    return states
-
-
-# --- bounded model checking --------------------------------------------------
-@dataclass
-class BmcResult:
-    """``inputs`` per clock of the shortest run reaching ``bad`` (None: none found);
-    ``depth``: every run of that many clocks was checked."""
-
-    inputs: Optional[list[dict[str, int]]]
-    depth: int
-
-
-def bmc(model: Model, init: list[int], bad: int, max_depth: int, budget: Budget,
-        solver: str, on_depth=None) -> BmcResult:
-    """Bounded model checking (Biere et al. 1999): is ``bad`` reachable within
-    ``max_depth`` clocks from ``init``? Frame by frame, one incremental solver."""
-    with Sat(solver) as sat:
-        u = Unrolling(model, sat, init=[sat.true if v else -sat.true for v in init])
-        for t in range(max_depth):
-            if budget.expired():
-                return BmcResult(None, t)
-            if sat.solve([u.lit(t, bad)]):
-                return BmcResult([u.read_inputs(k) for k in range(t + 1)], t)
-            if on_depth is not None:
-                on_depth(t + 1)
-        return BmcResult(None, max_depth)
-
-
-# --- signal correspondence ---------------------------------------------------
 @dataclass
 class Correspondence:
     """The outcome of signal correspondence.
@@ -286,81 +180,3 @@ def _refine_step(model: Model, fr: _Frames, classes, rng: random.Random):
     vals = dict(zip(members, evaluate(model.aig, leaves, [2 * n for n in members], ones)))
     # one key per node: the solver's value as bit 64, then 64 random inputs
     return _split(classes, lambda n, p: ((sat.value(fr.lit("step", n)) << width) | vals[n]) ^ (p * ((ones << 1) | 1)))
-
-
-# --- explicit product-machine search ----------------------------------------
-@dataclass
-class ExplicitResult:
-    """``inputs`` of a shortest run reaching ``bad`` (None when unreachable),
-    ``states`` the number of reachable product states seen, ``depth`` the BFS depth."""
-
-    inputs: Optional[list[dict[str, int]]]
-    states: int
-    depth: int
-
-
-def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1 << 20,
-                    max_inputs: int = 12, budget: Optional[Budget] = None) -> Optional[ExplicitResult]:
-    """Breadth-first search of the reachable states of ``model`` from ``init``
-    under every input combination; None when it does not fit the limits.
-
-    Exhaustive: when it returns ``inputs=None``, ``bad`` is 0 in every
-    reachable state under every input.
-    """
-    ns, ni = len(model.states), len(model.inputs)
-    if ns > 63 or ni > max_inputs:
-        return None
-    combos = np.arange(1 << ni, dtype=np.uint64)
-    in_bits = {n: ((combos >> np.uint64(ni - 1 - k)) & np.uint64(1)).astype(bool)
-               for k, n in enumerate(model.inputs)}
-    start = 0
-    for v in init:
-        start = (start << 1) | v
-    parent: dict[int, tuple[int, int]] = {start: (-1, -1)}
-    frontier = np.array([start], dtype=np.uint64)
-    depth = 0
-    roots = [bad] + model.next_lits
-    while len(frontier):
-        if budget is not None and budget.expired():
-            return None
-        nf = len(frontier)
-        st = np.repeat(frontier, 1 << ni)
-        leaves: dict[int, object] = {}
-        for k, l in enumerate(model.state_lits):
-            leaves[l >> 1] = ((st >> np.uint64(ns - 1 - k)) & np.uint64(1)).astype(bool)
-        for n, l in zip(model.inputs, model.input_lits):
-            leaves[l >> 1] = np.tile(in_bits[n], nf)
-        ones = np.ones(len(st), dtype=bool)
-        vals = [np.broadcast_to(v, st.shape) for v in evaluate(model.aig, leaves, roots, ones)]
-        hit = np.flatnonzero(vals[0])
-        if len(hit):
-            j = int(hit[0])
-            return ExplicitResult(_path(parent, int(st[j]), j % (1 << ni), model.inputs), len(parent), depth)
-        nxt = np.zeros(len(st), dtype=np.uint64)
-        for v in vals[1:]:
-            nxt = (nxt << np.uint64(1)) | v.astype(np.uint64)
-        new = []
-        for j, (s, t) in enumerate(zip(st.tolist(), nxt.tolist())):
-            if t not in parent:
-                parent[t] = (s, j % (1 << ni))
-                new.append(t)
-        if len(parent) > max_states:
-            return None
-        frontier = np.array(new, dtype=np.uint64)
-        depth += 1
-    return ExplicitResult(None, len(parent), depth)
-
-
-def _path(parent: dict[int, tuple[int, int]], state: int, last_input: int, names: list[str]) -> list[dict[str, int]]:
-    ni = len(names)
-
-    def spell(c: int) -> dict[str, int]:
-        return {n: (c >> (ni - 1 - k)) & 1 for k, n in enumerate(names)}
-
-    seq = [spell(last_input)]
-    s = state
-    while parent[s][0] >= 0:
-        p, c = parent[s]
-        seq.append(spell(c))
-        s = p
-    return list(reversed(seq))

@@ -34,12 +34,12 @@ from typing import Optional
 
 import numpy as np
 
-from .budget import Budget
-from ..elab import Check
+from .budget import Budget, OutOfBudget
 from ..errors import InputError
 from ..model import Aig, evaluate
 from .sat import Encoder, Sat
 from ..model.simulate import eval_states
+from ..model.space import CodeSpace
 
 MAX_WIDTH = 25
 """Widest code the explicit engine takes."""
@@ -65,18 +65,10 @@ QUEUE_FRONTIER = 256
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
 
 
-class OutOfBudget(Exception):
-    """The budget ran out during the exhaustive search; ``depth`` says how far it got."""
-
-    def __init__(self, depth: int) -> None:
-        super().__init__(f"out of time at depth {depth}")
-        self.depth = depth
-
-
 def _tick(budget: Optional[Budget], depth: int) -> None:
     """Raise :class:`OutOfBudget` at ``depth`` when the budget has run out."""
-    if budget is not None and budget.expired():
-        raise OutOfBudget(depth)
+    if budget is not None:
+        budget.check(depth)
 
 
 @dataclass
@@ -151,72 +143,71 @@ class Analysis:
 
 # --- feasibility and admissible inputs -----------------------------------
 
-def _input_nodes(check: Check, roots: list[int]) -> list[int]:
-    m = check.design.model
+def _input_nodes(space: CodeSpace, roots: list[int]) -> list[int]:
+    m = space.model
     leaves = {l >> 1 for l in m.input_lits}
     return [n for n in m.aig.cone(roots) if n in leaves]
 
 
-def _names_of(check: Check, nodes: list[int]) -> list[str]:
-    m = check.design.model
+def _names_of(space: CodeSpace, nodes: list[int]) -> list[str]:
+    m = space.model
     by_node = {l >> 1: n for n, l in zip(m.inputs, m.input_lits)}
     order = {n: i for i, n in enumerate(m.inputs)}
     return sorted((by_node[n] for n in nodes), key=order.__getitem__)
 
 
-def _next_input_nodes(check: Check) -> list[int]:
+def _next_input_nodes(space: CodeSpace) -> list[int]:
     """The input nodes that reach the next code."""
-    m = check.design.model
-    return _input_nodes(check, [m.next_lits[i] for i in check.code])
+    m = space.model
+    return _input_nodes(space, [m.next_lits[i] for i in space.code])
 
 
-def feasible(check: Check, cond: int) -> tuple[bool, str]:
+def feasible(space: CodeSpace, cond: int) -> tuple[bool, str]:
     """Whether the explicit engine can take this check under ``cond``, and why not."""
-    require_whole_state(check)
-    w = check.width
+    require_whole_state(space)
+    w = space.width
     if w > MAX_WIDTH:
         return False, f"the code is {w} bits wide (the explicit engine takes up to {MAX_WIDTH})"
-    nxt = _next_input_nodes(check)
+    nxt = _next_input_nodes(space)
     if len(nxt) > INPUT_BITS_LIMIT:
         return False, f"{len(nxt)} input bits reach the next code (the explicit engine enumerates up to {INPUT_BITS_LIMIT})"
     bound = (1 << w) << len(nxt)
     if bound > EDGE_LIMIT:
         # the exact row count may be smaller: the condition can fix some inputs
-        rows = len(admissible_rows(check, cond))
+        rows = len(admissible_rows(space, cond))
         if (1 << w) * rows > EDGE_LIMIT:
             return False, f"2^{w} codes times {rows} input rows exceed the explicit engine's {EDGE_LIMIT:,} edges"
     return True, ""
 
 
-def require_whole_state(check: Check) -> None:
+def require_whole_state(space: CodeSpace) -> None:
     """v1: the code names every flop, so a code is the whole state; refuse otherwise."""
-    n = len(check.design.model.states)
-    if sorted(check.code) != list(range(n)):
-        pos = check.code_pos or check.pos
-        raise InputError(pos, "recovery needs a code that names every flop of the design (v1)")
+    n = len(space.model.states)
+    if sorted(space.code) != list(range(n)):
+        raise InputError(space.where, "recovery needs a code that names every flop of the design (v1)")
 
 
-def admissible_rows(check: Check, cond: int) -> Rows:
+def admissible_rows(space: CodeSpace, cond: int) -> Rows:
     """Every combination of the inputs that reach the next code allowed by ``cond``.
 
     A combination is admissible when some assignment of the other inputs
     meets ``cond``. Raises :class:`ValueError` when ``cond`` holds for no input
     at all (the caller turns that into an input error at the claim).
     """
-    nxt_nodes = _next_input_nodes(check)
-    names = _names_of(check, nxt_nodes)
-    every = _names_of(check, sorted(set(nxt_nodes) | set(_input_nodes(check, [cond]))))
+    nxt_nodes = _next_input_nodes(space)
+    names = _names_of(space, nxt_nodes)
+    every = _names_of(space, sorted(set(nxt_nodes) | set(_input_nodes(space, [cond]))))
     find = _rows_by_enumeration if len(every) <= ENUMERATE_LIMIT else _rows_by_sat
-    values, full = find(check, cond, names, every)
+    values, full = find(space, cond, names, every)
     if not values:
         raise ValueError("no input meets the condition")
     return Rows(names, values, full)
 
 
-def _rows_by_enumeration(check: Check, cond: int, names: list[str],
+def _rows_by_enumeration(space: CodeSpace, cond: int, names: list[str],
                          every: list[str]) -> tuple[list[list[int]], list[dict[str, int]]]:
     """Rows by evaluating ``cond`` on every combination of the inputs in ``every`` at once."""
-    m = check.design.model
+    m = space.model
     lit_of = dict(zip(m.inputs, m.input_lits))
     n = 1 << len(every)
     idx = np.arange(n, dtype=np.uint32)
@@ -235,10 +226,10 @@ def _rows_by_enumeration(check: Check, cond: int, names: list[str],
     return values, full
 
 
-def _rows_by_sat(check: Check, cond: int, names: list[str],
+def _rows_by_sat(space: CodeSpace, cond: int, names: list[str],
                  every: list[str]) -> tuple[list[list[int]], list[dict[str, int]]]:
     """Rows by one SAT call per combination of ``names`` (too many condition inputs to enumerate)."""
-    m = check.design.model
+    m = space.model
     lit_of = dict(zip(m.inputs, m.input_lits))
     values, full = [], []
     with Sat() as sat:
@@ -279,17 +270,17 @@ def _pack(bits: np.ndarray) -> np.ndarray:
     return np.packbits(bits, bitorder="little").view(np.uint64)
 
 
-def build_graph(check: Check, rows: Rows, budget: Optional[Budget] = None) -> Graph:
+def build_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] = None) -> Graph:
     """The next code of every code under every admissible row, bit-parallel in chunks."""
-    m = check.design.model
-    w = check.width
+    m = space.model
+    w = space.width
     n = 1 << w
     total = n * len(rows)
     if w > MAX_WIDTH or total > EDGE_LIMIT:
         raise ValueError(f"{total} edges exceed the explicit engine's limits")
     aig: Aig = m.aig
-    roots = [m.next_lits[i] for i in check.code]  # msb first
-    code_nodes = [m.state_lits[i] >> 1 for i in check.code]
+    roots = [m.next_lits[i] for i in space.code]  # msb first
+    code_nodes = [m.state_lits[i] >> 1 for i in space.code]
     lit_of = dict(zip(m.inputs, m.input_lits))
     row_bits = np.asarray(rows.values, dtype=bool).reshape(len(rows), len(rows.names))
     padded = -(-total // 64) * 64
@@ -311,8 +302,7 @@ def build_graph(check: Check, rows: Rows, budget: Optional[Budget] = None) -> Gr
             bits = np.unpackbits(np.ascontiguousarray(v).view(np.uint8), bitorder="little")
             acc |= bits.astype(np.uint32) << np.uint32(w - 1 - pos)
         out[base:base + size] = acc
-    assert check.sequence is not None
-    member = check.sequence.member_array(np.arange(n, dtype=np.uint64))
+    member = space.member_array(np.arange(n, dtype=np.uint64))
     return Graph.of(w, out[:total].reshape(len(rows), n), rows, member)
 
 
@@ -610,9 +600,9 @@ def analyse(g: Graph, budget: Optional[Budget] = None) -> Analysis:
     return Analysis(g, steps, int(steps[worst_code]), worst_code, sets, count, rounds)
 
 
-def explore(check: Check, cond: int, budget: Optional[Budget] = None) -> Analysis:
+def explore(space: CodeSpace, cond: int, budget: Optional[Budget] = None) -> Analysis:
     """Build the successor graph of ``check`` under ``cond`` and analyse it."""
-    return analyse(build_graph(check, admissible_rows(check, cond), budget), budget)
+    return analyse(build_graph(space, admissible_rows(space, cond), budget), budget)
 
 
 # --- runs ------------------------------------------------------------------------

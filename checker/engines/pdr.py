@@ -23,7 +23,7 @@ import itertools
 from dataclasses import dataclass, field
 from typing import Optional
 
-from .budget import Budget
+from .budget import Budget, OutOfBudget
 from ..model import TRUE, Model
 from .sat import Encoder, Sat
 
@@ -216,8 +216,7 @@ class Pdr:
         top = _Obligation(cube, k, ins, None)
         heap = [(k, next(self.counter), top)]
         while heap:
-            if self.budget.expired():
-                raise _OutOfTime
+            self.budget.check()
             i, _, ob = heapq.heappop(heap)
             if self._meets_init(ob.cube):
                 return self._trace(None, ob)
@@ -246,8 +245,7 @@ class Pdr:
         """Push cubes forward; returns i when F_i = F_{i+1} (a fixpoint)."""
         for i in range(1, k + 1):
             for c in list(self.levels[i]):
-                if self.budget.expired():
-                    raise _OutOfTime
+                self.budget.check()
                 if not self._solve(self._frame(i) + [self.t.then(l) for l in c]):
                     self.levels[i].remove(c)
                     self._block_at(c, i + 1)
@@ -259,7 +257,7 @@ class Pdr:
         """Prove, refute, or (budget or ``max_frames`` exhausted) leave open."""
         try:
             return self._run(max_frames, on_depth)
-        except _OutOfTime:
+        except OutOfBudget:
             return self._result("open")
         finally:
             self.t.sat.close()
@@ -278,8 +276,7 @@ class Pdr:
         k = 1
         while True:
             while True:
-                if self.budget.expired():
-                    raise _OutOfTime
+                self.budget.check()
                 got = self._bad_cube(k)
                 if got is None:
                     break
@@ -299,8 +296,6 @@ class Pdr:
                 return self._result("open")
 
 
-class _OutOfTime(Exception):
-    pass
 
 
 def check_invariant(model: Model, init: list[int], bad: int, cubes: list[Cube],

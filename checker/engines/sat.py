@@ -244,3 +244,11 @@ def any_lit(sat: Sat, lits: Sequence[int]) -> int:
     for l in lits:
         sat.add([v, -l])
     return v
+
+
+def satisfiable(model: Model, lit: int, solver: str = DEFAULT_SOLVER) -> bool:
+    """Whether some assignment of the model's leaves makes ``lit`` 1 (one SAT call)."""
+    with Sat(solver) as sat:
+        enc = Encoder(model.aig, sat)
+        env = enc.new_env({})
+        return sat.solve([enc.lit(env, lit)])

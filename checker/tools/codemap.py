@@ -18,12 +18,14 @@ from typing import Optional
 
 import numpy as np
 
+from ..claims.common import Options, stepping
+from ..claims.recover import choose_engine, locked_listing, set_lines
+from ..elab import Check
 from ..engines import explicit as X
 from ..engines import repair
-from ..engines.budget import Budget
-from ..claims.common import Options, stepping
-from ..claims.recover import choose_engine, locked_listing, sat_search, satisfiable, set_lines
-from ..elab import Check
+from ..engines.budget import Budget, OutOfBudget
+from ..engines.sat import satisfiable
+from ..engines.unused_runs import sat_search
 from ..errors import InputError
 
 PATH_LIMIT = 64
@@ -47,7 +49,7 @@ def map_condition(check: Check) -> int:
 
 def _condition(check: Check, cond: Optional[int]) -> int:
     lit = map_condition(check) if cond is None else cond
-    if not satisfiable(check, lit):
+    if not satisfiable(check.design.model, lit):
         raise InputError(check.pos, f"check {check.name}: no input meets the map's condition")
     return lit
 
@@ -57,12 +59,12 @@ def analyse(check: Check, cond: Optional[int] = None, opts: Optional[Options] = 
     """The explicit analysis the map and the state graph draw on, or None when the
     explicit engine cannot take the check (or the options ask for SAT)."""
     opts = opts or Options()
-    X.require_whole_state(check)
+    X.require_whole_state(check.space)
     lit = _condition(check, cond)
     engine, _ = choose_engine(check, lit, opts)
     if engine != "explicit":
         return None
-    return X.explore(check, lit, budget)
+    return X.explore(check.space, lit, budget)
 
 
 def _order(a: X.Analysis, limit: int) -> np.ndarray:
@@ -141,14 +143,14 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
     w = check.width
     doc = MapDoc({"check": check.name, "width": w, "sequence_length": seq.length(),
                   "unused_count": (1 << w) - seq.length(), "worst": None, "locked": None, "unused": []})
-    X.require_whole_state(check)
+    X.require_whole_state(check.space)
     lit = _condition(check, cond)
     if analysis is None:
         engine, _ = choose_engine(check, lit, opts)
         if engine == "explicit":
             try:
-                analysis = X.explore(check, lit, budget)
-            except X.OutOfBudget:
+                analysis = X.explore(check.space, lit, budget)
+            except OutOfBudget:
                 doc["status"] = "open"
                 return doc
     if analysis is not None:
@@ -157,7 +159,7 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
         doc["locked"] = locked_listing(analysis.locked_json())[0]
         doc["unused"] = _entries(analysis, _order(analysis, limit))
         return doc
-    s = sat_search(check, lit, None, budget, opts.solver)
+    s = sat_search(check.space, lit, None, budget, opts.solver)
     if s.status == "open":
         doc["status"] = "open"
         return doc

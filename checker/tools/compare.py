@@ -19,12 +19,12 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Optional
 
-from ..engines.budget import Budget
 from ..claims import run_check
 from ..claims.common import Options
-from ..claims.equal import PairedMiter, paired_miter
-from ..elab import Check, Design, load_namespace
 from ..claims.result import PROVED, Result
+from ..elab import Check, Design, load_namespace
+from ..engines.budget import Budget
+from ..engines.miter import PairedMiter, paired_miter
 
 CUBE_LIMIT = 256  # cubes enumerated per question
 ESPRESSO_LIMIT = 256  # minimise covers of at most this many cubes
@@ -148,7 +148,7 @@ def compare_designs(old: Design, new: Design, checks: list[Check], opts: Options
         out.update(status="flops differ", differs=True, flops=flops)
         return out
     budget = Budget.seconds(opts.timeout)
-    m = paired_miter(old, new, opts.solver)
+    m = paired_miter(old.model, new.model, opts.solver)
     try:
         equal = not m.sat.solve([m.differ])
         out["everywhere"] = equal
@@ -163,7 +163,7 @@ def compare_designs(old: Design, new: Design, checks: list[Check], opts: Options
         if c.sequence is None:
             continue
         other = new if c.design is old else old
-        mm = paired_miter(c.design, other, opts.solver, c.sequence.member(c.design.model.aig, c.code_lits()))
+        mm = paired_miter(c.design.model, other.model, opts.solver, c.sequence.member(c.design.model.aig, c.code_lits()))
         try:
             eq = not mm.sat.solve([mm.differ, mm.restrict])
             entry = {"file": c.pos.file, "check": c.name, "sequence": c.sequence.describe(), "equal": eq}
