@@ -1,25 +1,60 @@
-"""The Python API: load files, run their checks, get results shaped like the JSON.
+"""The Python API: every command of the command line is one function here.
 
     >>> import checker
     >>> prog = checker.load("cases/demo.cnl")
     >>> for chk in prog.checks:
     ...     for r in chk.run(timeout=30):
     ...         print(r.check, r.claim, r.status)
+
+``check_files``, ``map_check``, ``compare_files``, ``simulate`` and
+``export_claim`` do what ``countersign check``, ``map``, ``compare``, ``sim``
+and ``export`` do, and return records (``Result``, map and compare documents,
+``SimRun``) that the ``render_*`` and ``write_*`` functions turn into the
+command line's text, JSON and files. Bad input raises :class:`InputError`.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import json
+import os
+from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Iterable, Optional
+from typing import Iterable, Optional, Sequence
 
+from . import report
+from .about import __version__
 from .claims import run_check
 from .claims.common import Options
+from .claims.result import OPEN, PROVED, REFUTED, Result
 from .elab import Check, Design, Namespace, load_namespace
+from .elab.spec import condition_literal, flop_indices
+from .engines.budget import run_bounded
+from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
-from .engines.sat import DEFAULT_SOLVER
-from .claims.result import Result
+from .lang.parse import parse_expr
+from .model.simulate import Step, code_value, run, state_of_code
+from .tools import compare as _compare
+from .tools.codemap import MapDoc, recovery_map
+from .tools.export import export_cnf
+from .tools.stategraph import StateGraph, state_graph
 
+__all__ = [
+    "__version__", "DEFAULT_SOLVER", "OPEN", "PROVED", "REFUTED", "CheckHandle", "CheckRun", "InputError",
+    "MapRun", "Options", "Pos", "Program", "Result", "SimRun", "check_files", "compare_files", "demo_path",
+    "exit_status", "expand_paths", "export_claim", "load", "map_check", "options", "simulate", "solver_names",
+]
+
+MAX_TIMEOUT = 1e6
+"""Largest --timeout accepted, in seconds (about 11.5 days)."""
+
+MAX_CYCLES = 1_000_000
+"""Most clocks ``simulate`` runs."""
+
+SKIPPED_FOLDERS = frozenset({"node_modules", "site-packages", "__pycache__"})
+"""Folder names a folder scan never enters (besides hidden folders and virtual environments)."""
+
+
+# --- programs and checks --------------------------------------------------------
 
 @dataclass
 class CheckHandle:
@@ -60,22 +95,390 @@ class Program:
                 return CheckHandle(c)
         raise KeyError(name)
 
+    def find_check(self, name: str) -> Check:
+        """The elaborated check ``name``; an InputError listing the checks when there is none."""
+        for c in self.namespace.checks:
+            if c.name == name:
+                return c
+        names = ", ".join(c.name for c in self.namespace.checks) or "none"
+        raise InputError(Pos(self.path, 1, 1), f"no check named '{name}' in {self.path} (checks: {names})")
+
+    def find_design(self, name: str) -> Design:
+        """The elaborated design ``name``; an InputError listing the designs when there is none."""
+        design = self.designs.get(name)
+        if design is None:
+            names = ", ".join(self.designs) or "none"
+            raise InputError(Pos(self.path, 1, 1), f"no design named '{name}' (designs: {names})")
+        return design
+
 
 def load(path: str) -> Program:
     """Read and elaborate ``path`` and its ``use`` files; raises InputError on bad input."""
     return Program(load_namespace(str(path)))
 
 
+def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engine: str = "auto") -> Options:
+    """Validated run options; an InputError (at ``<command line>``) for a bad solver or timeout."""
+    where = Pos("<command line>", 1, 1)
+    if solver not in solver_names():
+        raise InputError(where, f"unknown solver '{solver}'; python-sat offers: {', '.join(solver_names())}")
+    if timeout is not None and not (0 < timeout <= MAX_TIMEOUT):  # also refuses nan and inf
+        raise InputError(where, f"--timeout takes a number of seconds above 0 and at most {MAX_TIMEOUT:g}")
+    if engine not in ("auto", "sat", "explicit"):
+        raise InputError(where, f"unknown engine '{engine}'; the engines are auto, sat, explicit")
+    return Options(solver=solver, timeout=timeout, engine=engine)
+
+
+def _skipped(folder: Path) -> bool:
+    name = folder.name
+    return name.startswith(".") or name in SKIPPED_FOLDERS or (folder / "pyvenv.cfg").is_file()
+
+
+def _cnl_files(folder: Path) -> list[str]:
+    found: list[str] = []
+    for root, dirs, files in os.walk(folder):
+        dirs[:] = sorted(d for d in dirs if not _skipped(Path(root) / d))
+        found += [str(Path(root) / f) for f in files if f.endswith(".cnl")]
+    return sorted(found)
+
+
 def expand_paths(paths: Iterable[str]) -> list[str]:
-    """Files named on the command line: a folder stands for its .cnl files, recursively, sorted."""
+    """Files named on the command line: a folder stands for its .cnl files, recursively, sorted.
+
+    Hidden folders, virtual environments (a folder holding ``pyvenv.cfg``) and
+    :data:`SKIPPED_FOLDERS` are not searched.
+    """
     out: list[str] = []
     for p in paths:
         q = Path(p)
         if q.is_dir():
-            found = sorted(str(f) for f in q.rglob("*.cnl") if f.is_file())
-            out.extend(found)
+            out.extend(_cnl_files(q))
         elif not q.exists():
             raise InputError(Pos(p, 1, 1), f"no such file or folder '{p}'")
         else:
             out.append(p)
     return out
+
+
+# --- check ----------------------------------------------------------------------
+
+@dataclass
+class CheckRun:
+    """What ``check`` found: every claim's result in order, and the files that could not be read."""
+
+    results: list[Result] = field(default_factory=list)
+    errors: list[InputError] = field(default_factory=list)
+    widths: dict[tuple[str, str], int] = field(default_factory=dict)  # (file, check) -> code width
+    files: list[str] = field(default_factory=list)
+
+
+def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRun:
+    """Read every file (folders searched for .cnl files), then prove or refute every claim.
+
+    Every file is read before any claim runs; when some cannot be read, no
+    claim runs and ``errors`` names each. A run whose files hold no claim at
+    all is an InputError (``no claims in ...``), so a CI job pointed at the
+    wrong place fails.
+    """
+    opts = opts or Options()
+    files = expand_paths(paths)
+    out = CheckRun(files=files)
+    programs = []
+    for f in files:
+        try:
+            programs.append(load(f))
+        except InputError as e:
+            out.errors.append(e)
+    if out.errors:
+        return out
+    checks = [c for p in programs for c in p.namespace.checks]
+    if not any(c.claims for c in checks):
+        where = ", ".join(paths) if paths else "the command line"
+        raise InputError(Pos(files[0] if files else "<command line>", 1, 1), f"no claims in {where}")
+    for c in checks:
+        out.widths[(c.pos.file, c.name)] = c.width
+        out.results.extend(run_check(c, opts))
+    return out
+
+
+def exit_status(results: Iterable[Result]) -> int:
+    """0 every claim proved, 1 some refuted, 3 some open and none refuted."""
+    statuses = {r.status for r in results}
+    return 1 if REFUTED in statuses else 3 if OPEN in statuses else 0
+
+
+# --- map ------------------------------------------------------------------------
+
+@dataclass
+class MapRun:
+    """A map document (the contract's ``map --json``) and, when asked for, the state graph."""
+
+    doc: dict
+    graph: Optional[StateGraph] = None
+
+    @property
+    def status(self) -> int:
+        """Exit status: 1 a lock, 3 undecided, else 0."""
+        if self.doc.get("locked"):
+            return 1
+        return 3 if self.doc.get("status") == "open" else 0
+
+
+def _map_work(chk: Check, cond: Optional[int], limit: int, opts: Options, want_graph: bool):
+    def work(budget):
+        doc = recovery_map(chk, cond=cond, limit=limit, opts=opts, budget=budget)
+        graph = state_graph(chk, doc) if want_graph else None
+        return dict(doc), graph  # the analysis stays here: it can be large
+    return work
+
+
+def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 256,
+              opts: Optional[Options] = None, graph: bool = False) -> MapRun:
+    """Every unused code of ``check`` in ``path``: where it goes and how soon it recovers.
+
+    ``when`` is a condition over the inputs (default: the check's first
+    recover claim's, else the stepping inputs). ``opts.timeout`` bounds the
+    whole map through the same hard stop claims use; a map that runs out is
+    ``"status": "open"``.
+    """
+    opts = opts or Options()
+    if limit < 0:
+        raise InputError(Pos("<command line>", 1, 1), "--limit takes a count of 0 or more")
+    chk = load(path).find_check(check)
+    if chk.sequence is None:
+        raise InputError(chk.pos, f"check {chk.name} has no count line, so it has no unused codes to map")
+    cond = None if when is None else condition_literal(chk.design, parse_expr("--when", when))
+    value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout)
+    if not finished:
+        doc = MapDoc({"check": chk.name, "width": chk.width, "sequence_length": chk.sequence.length(),
+                      "unused_count": (1 << chk.width) - chk.sequence.length(), "worst": None,
+                      "locked": None, "unused": [], "status": "open"})
+        return MapRun(dict(doc), None)
+    doc, g = value
+    return MapRun(doc, g)
+
+
+# --- compare --------------------------------------------------------------------
+
+def compare_files(old: str, new: str, opts: Optional[Options] = None) -> dict:
+    """Designs of the same name in two files: equal or not, and where; claims whose verdict changed.
+
+    ``opts.timeout`` bounds each design's comparison and each claim; what runs
+    out is reported open (``"open": true``), never equal.
+    """
+    return _compare.compare_files(old, new, opts or Options())
+
+
+# --- sim ------------------------------------------------------------------------
+
+@dataclass
+class SimRun:
+    """A simulated run: the design, the code's state indices (msb first), the steps."""
+
+    design: Design
+    code: list[int]
+    steps: list[Step]
+
+    def entries(self) -> list[dict]:
+        """The contract's ``sim --json`` trace entries."""
+        m = self.design.model
+        return [{"clock": s.clock, "code": code_value(m, self.code, s.state), "inputs": s.inputs,
+                 "outputs": s.outputs} for s in self.steps]
+
+
+def _cmdline(message: str) -> InputError:
+    return InputError(Pos("<command line>", 1, 1), message)
+
+
+def parse_number(text: str, what: str) -> int:
+    """A number as the command line takes it: decimal, 0b binary or 0x hex."""
+    try:
+        return int(text, 0)
+    except ValueError:
+        raise _cmdline(f"{what}: '{text}' is not a number (decimal, 0b binary or 0x hex)") from None
+
+
+def input_settings(settings: Iterable[str], design: Design) -> dict[str, int]:
+    """Input bit values from ``NAME=VALUE`` items (each may hold several, comma-separated)."""
+    fixed: dict[str, int] = {}
+    for item in (it for group in settings for it in group.split(",") if it):
+        name, eq, value = item.partition("=")
+        if not eq:
+            raise _cmdline(f"--set takes NAME=VALUE, not '{item}'")
+        v = parse_number(value, f"--set {name}")
+        if name in design.input_vectors:
+            bitsn = design.input_vectors[name]
+            if v < 0 or v >> len(bitsn):
+                raise _cmdline(f"--set {name}: {value} does not fit its {len(bitsn)} bits")
+            for k, b in enumerate(bitsn):
+                fixed[b] = (v >> (len(bitsn) - 1 - k)) & 1
+        elif name in design.model.inputs:
+            if v not in (0, 1):
+                raise _cmdline(f"--set {name}: a single bit is 0 or 1")
+            fixed[name] = v
+        else:
+            known = ", ".join(design.input_vectors) or "none"
+            raise _cmdline(f"--set {name}: design {design.name} has no input '{name}' (inputs: {known})")
+    return fixed
+
+
+def read_trace(path: str, design: Design, want_code: bool) -> tuple[list[dict], Optional[list[int]]]:
+    """The trace list of a trace file, and the code order of its check where it names one."""
+    where = Pos(path, 1, 1)
+    try:
+        data = json.loads(Path(path).read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise InputError(where, f"no such file '{path}'") from None
+    except (OSError, UnicodeDecodeError) as e:
+        raise InputError(where, f"cannot read '{path}': {e}") from None
+    except json.JSONDecodeError as e:
+        raise InputError(Pos(path, e.lineno, e.colno), f"not JSON: {e.msg}") from None
+    code = None
+    if isinstance(data, dict) and isinstance(data.get("claims"), list) and len(data["claims"]) == 1:
+        data = data["claims"][0]
+    if isinstance(data, dict):
+        if want_code and isinstance(data.get("file"), str) and isinstance(data.get("check"), str):
+            try:
+                for c in load(data["file"]).namespace.checks:
+                    if c.name == data["check"] and c.design.name == design.name:
+                        code = list(c.code)
+            except InputError:
+                code = None
+        data = data.get("trace")
+    if not isinstance(data, list) or not data or not all(isinstance(e, dict) for e in data):
+        raise InputError(where, "a trace file holds a trace list, or a claim object with a 'trace'")
+    for e in data:
+        if not isinstance(e.get("code", 0), int) or not isinstance(e.get("inputs") or {}, dict):
+            raise InputError(where, "each trace entry has an integer 'code' and an 'inputs' object")
+        for k, v in (e.get("inputs") or {}).items():
+            if k not in design.model.inputs or v not in (0, 1):
+                raise InputError(where, f"trace input '{k}'={v!r} is not an input bit of {design.name} set to 0 or 1")
+    return data, code
+
+
+def simulate(path: str, design: str, start: Optional[str] = None, code: Optional[str] = None,
+             settings: Sequence[str] = (), cycles: Optional[int] = None, trace: Optional[str] = None) -> SimRun:
+    """Clock design ``design`` of ``path``: from code ``start`` with inputs held at ``settings``
+    for ``cycles`` clocks (default 16), or replaying the start and inputs of a JSON ``trace``."""
+    d = load(path).find_design(design)
+    model = d.model
+    idx = list(range(len(model.states))) if code is None else flop_indices(d, parse_expr("--code", code))
+    fixed = input_settings(settings, d)
+    if trace is not None:
+        entries, code_from_trace = read_trace(trace, d, code is None)
+        if code_from_trace is not None:
+            idx = code_from_trace
+        start_code = entries[0].get("code", 0)
+        per_clock = [{**fixed, **{k: int(v) for k, v in (e.get("inputs") or {}).items()}} for e in entries]
+        n = len(entries) - 1 if cycles is None else cycles
+    else:
+        start_code = 0 if start is None else parse_number(start, "--from")
+        per_clock = [fixed]
+        n = 16 if cycles is None else cycles
+    if n < 0 or n > MAX_CYCLES:
+        raise _cmdline(f"--cycles takes a number from 0 to {MAX_CYCLES}")
+    if start_code < 0 or start_code >> len(idx):
+        raise _cmdline(f"--from {start_code} does not fit the {len(idx)}-bit code")
+    return SimRun(d, idx, run(model, state_of_code(model, idx, start_code), per_clock, n))
+
+
+# --- export ---------------------------------------------------------------------
+
+def export_claim(path: str, check: str, line: int, output: str) -> dict:
+    """Write the claim of check ``check`` on line ``line`` to ``output`` (DIMACS ``.cnf``).
+
+    Satisfiable exactly when the claim is refuted. Returns the counts written.
+    """
+    chk = load(path).find_check(check)
+    claims = [c for c in chk.claims if c.pos.line == line]
+    if not claims:
+        lines = ", ".join(str(c.pos.line) for c in chk.claims) or "none"
+        raise InputError(Pos(path, line, 1), f"check {chk.name} has no claim on line {line} (claims on lines: {lines})")
+    if not output.endswith(".cnf"):
+        raise _cmdline(f"a claim is written as DIMACS CNF: give -o a name ending in .cnf, not '{output}'")
+    try:
+        return export_cnf(chk, claims[0], output)
+    except ValueError as e:
+        raise InputError(claims[0].pos, str(e)) from None
+
+
+def demo_path() -> Path:
+    """The shipped example, in a checkout or an installed wheel."""
+    here = Path(__file__).resolve().parent
+    for cand in (here.parent / "cases" / "demo.cnl", here / "cases" / "demo.cnl"):
+        if cand.is_file():
+            return cand
+    raise FileNotFoundError("the shipped example cases/demo.cnl is missing from this installation")
+
+
+# --- reports --------------------------------------------------------------------
+
+def render_check(run: CheckRun) -> str:
+    """The readable report of a check run."""
+    return report.text.format_results(run.results, run.widths)
+
+
+def render_map(m: MapRun) -> str:
+    """The readable map table."""
+    return report.text.map_text(m.doc)
+
+
+def render_compare(doc: dict) -> str:
+    """The readable report of a comparison."""
+    return _compare.format_compare(doc)
+
+
+def render_sim(s: SimRun) -> str:
+    """The readable table of a simulated run."""
+    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps])
+
+
+def json_check(run: CheckRun) -> str:
+    """``check --json``."""
+    return report.json.dumps(report.json.claims(run.results))
+
+
+def json_map(m: MapRun) -> str:
+    """``map --json``."""
+    return report.json.dumps(m.doc)
+
+
+def json_compare(doc: dict) -> str:
+    """``compare --json``."""
+    return report.json.dumps(doc)
+
+
+def json_sim(s: SimRun) -> str:
+    """``sim --json``."""
+    return report.json.dumps(report.json.sim(s.entries()))
+
+
+def json_error(e: InputError) -> str:
+    """The error document of bad input."""
+    return report.json.dumps(report.json.error(e))
+
+
+def write_junit(run: CheckRun, path: str) -> None:
+    """A JUnit XML report of a check run: one test per claim, one error case per unreadable file."""
+    errors = [(str(e.pos.file), f"{e.pos}: {e.message}") for e in run.errors]
+    report.junit.write_junit(run.results, path, errors)
+
+
+def write_vcd(s: SimRun, path: str) -> None:
+    """The run as an IEEE 1364 value change dump."""
+    report.vcd.write_vcd(s.design, s.steps, path)
+
+
+def write_dot(m: MapRun, path: str) -> None:
+    """The map's state graph in Graphviz DOT."""
+    assert m.graph is not None, "map_check(graph=True) draws the graph"
+    Path(path).write_text(report.dot.state_graph_dot(m.graph), encoding="utf-8")
+
+
+def write_svg(m: MapRun, path: str) -> None:
+    """The map's state graph rendered to SVG with Graphviz's dot; an InputError when it cannot be."""
+    assert m.graph is not None, "map_check(graph=True) draws the graph"
+    try:
+        report.dot.render_svg(report.dot.state_graph_dot(m.graph), path)
+    except report.dot.RenderError as e:
+        raise _cmdline(str(e)) from None

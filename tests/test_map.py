@@ -22,6 +22,8 @@ from checker.tools import codemap as R
 from checker.claims.common import Options
 from checker.elab import load_namespace
 from checker.report import dot as D
+from checker.report.text import map_lines
+from checker.tools.stategraph import state_graph
 
 from test_explicit import load_text, reference_graph, vent_designs, condition
 from test_recover import GATE, tail_counter
@@ -94,7 +96,7 @@ def test_map_condition_is_first_recover_claims(write):
 
 
 def test_map_text_lines(write):
-    lines = R.map_lines(R.recovery_map(load(write, tail_counter(6, 7)), limit=3))
+    lines = map_lines(R.recovery_map(load(write, tail_counter(6, 7)), limit=3))
     assert "worst: 8" in lines[1]
     assert any(l.split()[:2] == ["8", "8"] for l in lines)
 
@@ -154,7 +156,7 @@ def test_wide_design_has_no_explicit_hints(write):
 def test_dot_graph(write):
     check = load(write, GATE)
     a = R.analyse(check)
-    text = D.state_graph_dot(check, a)
+    text = D.state_graph_dot(state_graph(check, a))
     assert text.startswith("digraph ") and text.rstrip().endswith("}")
     nodes = set(re.findall(r"^\s*c(\d+) \[", text, re.M))
     assert nodes == {str(c) for c in range(16)}
@@ -168,7 +170,7 @@ def test_dot_graph(write):
 def test_dot_partial_for_large_graph(write):
     check = load(write, tail_counter(12, 255))
     a = R.analyse(check)
-    text = D.state_graph_dot(check, a, max_nodes=100)
+    text = D.state_graph_dot(state_graph(check, a, max_nodes=100))
     assert "partial graph" in text
     nodes = set(re.findall(r"^\s*c(\d+) \[", text, re.M))
     assert 0 < len(nodes) <= 100
@@ -190,11 +192,11 @@ def test_render_svg_failing_program(tmp_path):
 def test_dot_from_map_document(write):
     check = load(write, GATE)
     doc = R.recovery_map(check)
-    assert D.state_graph_dot(check, doc) == D.state_graph_dot(check, doc.analysis)
+    assert D.state_graph_dot(state_graph(check, doc)) == D.state_graph_dot(state_graph(check, doc.analysis))
     wide = load(write, tail_counter(40, (0b11 << 38) | 0b11))
     m = R.recovery_map(wide)
     assert m.analysis is None
-    text = D.state_graph_dot(wide, m)
+    text = D.state_graph_dot(state_graph(wide, m))
     path = m["unused"][0]["path"]
     for x, y in zip(path, path[1:]):
         assert f"c{x} -> c{y};" in text

@@ -1,1 +1,5 @@
-"""Reports: readable text, JSON, IEEE 1364 VCD, Graphviz DOT, JUnit XML."""
+"""Reports: results and documents to text, JSON, VCD, DOT and JUnit XML."""
+
+from . import dot, json, junit, text, vcd
+
+__all__ = ["dot", "json", "junit", "text", "vcd"]

@@ -1,4 +1,4 @@
-"""The readable report of ``countersign check``: one line per claim, then evidence."""
+"""Readable reports: the claims of ``check`` (a line each, then evidence), the map, a run."""
 
 from __future__ import annotations
 
@@ -7,6 +7,7 @@ from typing import Sequence
 
 from tabulate import tabulate
 
+from ..claims.recover import set_lines
 from ..claims.result import OPEN, PROVED, REFUTED, Result
 
 _MARK = {PROVED: "proved", REFUTED: "REFUTED", OPEN: "open"}
@@ -79,3 +80,41 @@ def format_results(results: Sequence[Result], widths: dict[tuple[str, str], int]
     out.append("")
     out.append(f"{len(results)} claim{'s' if len(results) != 1 else ''}: {c[PROVED]} proved, {c[REFUTED]} refuted, {c[OPEN]} open")
     return "\n".join(out)
+
+
+def map_lines(doc: dict) -> list[str]:
+    """The map as a readable table (text report of the `map` command)."""
+    lines = [f"check {doc['check']}: {doc['width']}-bit code, {doc['sequence_length']} codes in the sequence, "
+             f"{doc['unused_count']} unused"]
+    if doc.get("status") == "open":
+        lines.append("undecided in the time given: worst unknown")
+    elif doc["locked"]:
+        lines.append(f"locked: {len(doc['locked'])} set(s) of unused codes hold a cycle")
+        lines.extend(set_lines(doc["locked"]))
+    else:
+        lines.append(f"worst: {doc['worst']} clock(s)")
+    if doc["unused"]:
+        lines.append(f"{'code':>10}  {'steps':>7}  {'next':>10}  run")
+        for e in doc["unused"]:
+            steps = "locked" if e["steps"] is None else str(e["steps"])
+            run = " -> ".join(map(str, e["path"][:12]))
+            if len(e["path"]) > 12 or e.get("path_truncated"):
+                run += " -> ..."
+            nxt = "" if e["next"] is None else str(e["next"])
+            lines.append(f"{e['code']:>10}  {steps:>7}  {nxt:>10}  {run}")
+        if len(doc["unused"]) < doc["unused_count"]:
+            lines.append(f"({len(doc['unused'])} of {doc['unused_count']} unused codes listed)")
+    return lines
+
+
+def map_text(doc: dict) -> str:
+    """The map as one string."""
+    return "\n".join(map_lines(doc))
+
+
+def sim_table(entries: list[dict], width: int, faults: Sequence[list[str]]) -> str:
+    """A simulated run as a table: clock, code (binary and decimal), inputs, outputs, SR faults."""
+    rows = [[e["clock"], f"{bits(e['code'], width)} ({e['code']})", inputs_text(e["inputs"]),
+             inputs_text(e["outputs"])] + (["SR fault: " + ", ".join(f)] if f else [])
+            for e, f in zip(entries, faults)]
+    return tabulate(rows, headers=["clock", "code", "inputs", "outputs"], tablefmt="simple")

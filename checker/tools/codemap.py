@@ -19,7 +19,7 @@ from typing import Optional
 import numpy as np
 
 from ..claims.common import Options, stepping
-from ..claims.recover import choose_engine, locked_listing, set_lines
+from ..claims.recover import choose_engine, locked_listing
 from ..elab import Check
 from ..engines import explicit as X
 from ..engines import repair
@@ -172,31 +172,6 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
     if s.worst_codes:
         doc["unused"] = [_run_entry(s.worst_codes, s.worst)][:limit]
     return doc
-
-
-def map_lines(doc: dict) -> list[str]:
-    """The map as a readable table (text report of the `map` command)."""
-    lines = [f"check {doc['check']}: {doc['width']}-bit code, {doc['sequence_length']} codes in the sequence, "
-             f"{doc['unused_count']} unused"]
-    if doc.get("status") == "open":
-        lines.append("undecided in the time given: worst unknown")
-    elif doc["locked"]:
-        lines.append(f"locked: {len(doc['locked'])} set(s) of unused codes hold a cycle")
-        lines.extend(set_lines(doc["locked"]))
-    else:
-        lines.append(f"worst: {doc['worst']} clock(s)")
-    if doc["unused"]:
-        lines.append(f"{'code':>10}  {'steps':>7}  {'next':>10}  run")
-        for e in doc["unused"]:
-            steps = "locked" if e["steps"] is None else str(e["steps"])
-            run = " -> ".join(map(str, e["path"][:12]))
-            if len(e["path"]) > 12 or e.get("path_truncated"):
-                run += " -> ..."
-            nxt = "" if e["next"] is None else str(e["next"])
-            lines.append(f"{e['code']:>10}  {steps:>7}  {nxt:>10}  {run}")
-        if len(doc["unused"]) < doc["unused_count"]:
-            lines.append(f"({len(doc['unused'])} of {doc['unused_count']} unused codes listed)")
-    return lines
 
 
 def repair_hints(check: Check, cond: Optional[int] = None, within: Optional[int] = None,

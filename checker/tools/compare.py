@@ -23,7 +23,7 @@ from ..claims import run_check
 from ..claims.common import Options
 from ..claims.result import PROVED, Result
 from ..elab import Check, Design, load_namespace
-from ..engines.budget import Budget
+from ..engines.budget import Budget, run_bounded
 from ..engines.miter import PairedMiter, paired_miter
 
 CUBE_LIMIT = 256  # cubes enumerated per question
@@ -135,8 +135,13 @@ def _names_diff(a: list[str], b: list[str]) -> Optional[dict]:
     return {"only_old": [n for n in a if n not in sb], "only_new": [n for n in b if n not in sa]}
 
 
-def compare_designs(old: Design, new: Design, checks: list[Check], opts: Options) -> dict:
-    """Compare two versions of one design: everywhere, and on each check's sequence."""
+def compare_designs(old: Design, new: Design, checks: list[Check], opts: Options,
+                    budget: Optional[Budget] = None) -> dict:
+    """Compare two versions of one design: everywhere, and on each check's sequence.
+
+    The SAT questions run to the end; ``budget`` only bounds the listing of
+    differing cubes (:func:`bounded_compare` puts a hard stop around it all).
+    """
     out: dict = {"name": new.name}
     iface = {k: d for k, d in (("inputs", _names_diff(old.model.inputs, new.model.inputs)),
                                 ("outputs", _names_diff(old.model.outputs, new.model.outputs))) if d}
@@ -147,7 +152,7 @@ def compare_designs(old: Design, new: Design, checks: list[Check], opts: Options
     if flops:
         out.update(status="flops differ", differs=True, flops=flops)
         return out
-    budget = Budget.seconds(opts.timeout)
+    budget = budget or Budget()
     m = paired_miter(old.model, new.model, opts.solver)
     try:
         equal = not m.sat.solve([m.differ])
@@ -176,6 +181,15 @@ def compare_designs(old: Design, new: Design, checks: list[Check], opts: Options
     out["status"] = "equal" if equal else "differs"
     out["differs"] = not equal
     return out
+
+
+def bounded_compare(old: Design, new: Design, checks: list[Check], opts: Options) -> dict:
+    """:func:`compare_designs` under ``opts.timeout`` with a hard stop; out of time is open, never equal."""
+    res, _, finished = run_bounded(lambda b: compare_designs(old, new, checks, opts, b), opts.timeout)
+    if finished:
+        return res
+    return {"name": new.name, "status": f"open (ran out of time after {opts.timeout:g} s)",
+            "differs": False, "open": True}
 
 
 def _claim_keys(checks: list[Check], results: dict[int, list[Result]]) -> dict[tuple, Result]:
@@ -231,14 +245,14 @@ def compare_files(old_path: str, new_path: str, opts: Optional[Options] = None) 
         uses = [c for c in old.checks if c.design.name == n]
         same_file = {(str(Path(c.pos.file).resolve()), c.name) for c in uses}
         uses += [c for c in new.checks if c.design.name == n and (str(Path(c.pos.file).resolve()), c.name) not in same_file]
-        designs.append(compare_designs(old.designs[n], new.designs[n], uses, opts))
+        designs.append(bounded_compare(old.designs[n], new.designs[n], uses, opts))
     claims = compare_claims(old.checks, new.checks, opts)
     only_old = [n for n in old.designs if n not in new.designs]
     only_new = [n for n in new.designs if n not in old.designs]
     reasons = [f"design {d['name']}: {d['status']}" for d in designs if d["differs"]]
     reasons += [f"claim {c['claim']} of check {c['check']} held in OLD and is {c['new']} in NEW" for c in claims["now_failing"]]
     reasons += [f"design {n} only in OLD" for n in only_old] + [f"design {n} only in NEW" for n in only_new]
-    open_claims = [r for r in claims["results_new"] if r["status"] == "open"]
+    open_claims = [r for r in claims["results_new"] if r["status"] == "open"] + [d for d in designs if d.get("open")]
     return {"old": old_path, "new": new_path, "designs": designs, "only_old": only_old, "only_new": only_new,
             "claims": claims, "differs": bool(reasons), "reasons": reasons, "open": bool(open_claims)}
 
