@@ -55,8 +55,7 @@ def assert_agrees(check, claim):
 GREENHOUSE = """
 design lamps
   in sun, night
-  flop q[2:0] : D clear night
-  q.d = mux(sun, q, {q[1] & !q[2] | q[2] & !q[1] & !q[0], q[0] ^ q[1] & !q[2] | q[1] & !q[0], !q[0] & !(q[2] & q[0])})
+  flop q[2:0] : D (d = mux(sun, q, {q[1] & !q[2] | q[2] & !q[1] & !q[0], q[0] ^ q[1] & !q[2] | q[1] & !q[0], !q[0] & !(q[2] & q[0])})) clear night
   out lamp = q[2] & q[0]
   out shade = q[1] | q[2]
 end
@@ -110,9 +109,8 @@ def test_wide_always_is_symbolic(tmp_path, n):
     text = f"""
 design silo{n}
   in fill
-  flop q[{n - 1}:0] : T
+  flop q[{n - 1}:0] : T (t = c)
   node c[{n - 1}:0] = {{c[{n - 2}:0] & q[{n - 2}:0], fill}}
-  q.t = c
   out brim = and(q[{n - 1}], q[{n - 2}], q[0])
 end
 check level of silo{n}
@@ -153,7 +151,7 @@ def always_cases(draw):
     atoms = flops + inputs
     node = draw(exprs(atoms, 2))
     lines = ["design bed", *(["  in " + ", ".join(inputs)] if inputs else []),
-             f"  flop q[{width - 1}:0] : D", f"  q.d = {{{', '.join(draw(exprs(atoms, 1)) for _ in range(width))}}}",
+             f"  flop q[{width - 1}:0] : D (d = {{{', '.join(draw(exprs(atoms, 1)) for _ in range(width))}}})",
              f"  node wet = {node}", f"  out dry = !wet & {draw(st.sampled_from(atoms))}", "end"]
     codes = draw(st.lists(st.integers(0, (1 << width) - 1), min_size=1, max_size=min(14, 1 << width), unique=True))
     props = []

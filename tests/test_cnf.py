@@ -56,11 +56,10 @@ def decode(path: str, model: list[int], check) -> tuple[int, dict[str, int]]:
 CELLAR = """
 design rack
   in en
-  flop q[3:0] : T
-  q[0].t = en
-  q[1].t = en & q[0] & !q[3]
-  q[2].t = en & q[0] & q[1]
-  q[3].t = en & q[0] & (q[1] & q[2] | q[3])
+  flop q[3] : T (t = en & q[0] & (q[1] & q[2] | q[3]))
+  flop q[2] : T (t = en & q[0] & q[1])
+  flop q[1] : T (t = en & q[0] & !q[3])
+  flop q[0] : T (t = en)
   out last = q[3] & q[0]
 end
 check bottles of rack
@@ -150,10 +149,8 @@ def designs(draw):
         return f"({e(d - 1)} {op} {'!' if draw(st.booleans()) else ''}{e(d - 1)})"
     kind = draw(st.sampled_from(["D", "T", "JK", "SR"]))
     pins = {"D": ["d"], "T": ["t"], "JK": ["j", "k"], "SR": ["s", "r"]}[kind]
-    lines = ["design jar", "  in lid", f"  flop q[{width - 1}:0] : {kind}"]
-    for p in pins:
-        lines.append(f"  q.{p} = {{{', '.join(e() for _ in range(width))}}}")
-    lines.append("end")
+    drives = ", ".join(f"{p} = {{{', '.join(e() for _ in range(width))}}}" for p in pins)
+    lines = ["design jar", "  in lid", f"  flop q[{width - 1}:0] : {kind} ({drives})", "end"]
     codes = draw(st.lists(st.integers(0, (1 << width) - 1), min_size=1, max_size=8, unique=True))
     rule = draw(st.sampled_from(["", "  hold when !lid\n", "  load 0 when lid\n", "  step when lid\n"]))
     return "\n".join(lines) + f"\ncheck j of jar\n  code q\n  count {' '.join(map(str, codes))}\n{rule}" \

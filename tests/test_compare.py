@@ -102,8 +102,7 @@ def test_identical_copy_and_designs_in_one_file_only(tmp_path):
     body = """
 design trough
   in pour
-  flop f[1:0] : D
-  f.d = {f[0], pour}
+  flop f[1:0] : D (d = {f[0], pour})
   out wet = f[1] | f[0]
 end
 """
@@ -121,13 +120,12 @@ def test_flops_and_interface_differ(tmp_path):
     body = """
 design trough
   in pour
-  flop f[1:0] : D
-  f.d = {f[0], pour}
+  flop f[1:0] : D (d = {f[0], pour})
   out wet = f[1] | f[0]
 end
 """
     po = write(tmp_path, "old.cnl", body)
-    flops = body.replace("f[", "g[").replace("f.d", "g.d").replace("flop f", "flop g")
+    flops = body.replace("f[", "g[").replace("flop f", "flop g")
     res = compare_files(po, write(tmp_path, "flops.cnl", flops))
     d = res["designs"][0]
     assert d["status"] == "flops differ" and res["differs"]
@@ -141,11 +139,10 @@ BREW = """
 # mash-tun step timer: 0 .. 5 then back to 0, holds while `pause`
 design mash
   in pause, clr
-  flop t[2:0] : D clear clr
+  flop t[2] : D (d = mux(pause, t[2] & !t[0] | t[1] & t[0], t[2])) clear clr
+  flop t[1] : D (d = mux(pause, (t[1] ^ t[0]) & !t[2], t[1])) clear clr
+  flop t[0] : D (d = mux(pause, !t[0] & !wrap, t[0])) clear clr
   node wrap = t[2] & t[0]
-  t[0].d = mux(pause, !t[0] & !wrap, t[0])
-  t[1].d = mux(pause, (t[1] ^ t[0]) & !t[2], t[1])
-  t[2].d = mux(pause, t[2] & !t[0] | t[1] & t[0], t[2])
   out done = wrap
 end
 check mash_steps of mash

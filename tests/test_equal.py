@@ -97,8 +97,8 @@ class Net:
     def cnl(self) -> str:
         lines = [f"design {self.name}", f"  in {', '.join(self.inputs)}"]
         for q, kind, pins, clear in self.flops:
-            lines.append(f"  flop {q} : {kind}" + (f" clear {clear}" if clear else ""))
-            lines += [f"  {q}.{p} = {text(x)}" for p, x in pins.items()]
+            drives = ", ".join(f"{p} = {text(x)}" for p, x in pins.items())
+            lines.append(f"  flop {q} : {kind} ({drives})" + (f" clear {clear}" if clear else ""))
         lines += [f"  out {o} = {text(x)}" for o, x in self.outputs]
         return "\n".join(lines + ["end"]) + "\n"
 
@@ -410,13 +410,15 @@ def ferry(n: int, encoded: bool, edit: str | None = None) -> str:
     (``encoded``) or one line per position (decoded).
     """
     k = n.bit_length() - 1
-    L = ["design gate_bin", "  in rst, go", f"  flop b[{k - 1}:0] : T clear rst"]
+    L = ["design gate_bin", "  in rst, go"]
+    bits = []
     for i in range(k):
         terms = ["go"] + [f"b[{j}]" for j in range(i)]
         if edit == "dropped term" and i == k - 1 and len(terms) > 2:
             terms = terms[:-1]
         op = " | " if edit == "and made or" and i == k - 1 else " & "
-        L.append(f"  b[{i}].t = {op.join(terms)}")
+        bits.append(f"  flop b[{i}] : T (t = {op.join(terms)}) clear rst")
+    L += bits[::-1]  # one piece per bit, most significant first
     L.append("  out dock = " + " & ".join(f"!b[{j}]" for j in range(k)))
     hn = lambda i: "h0" if i == 0 else f"h[{i}]"  # noqa: E731
     if encoded:
@@ -424,13 +426,12 @@ def ferry(n: int, encoded: bool, edit: str | None = None) -> str:
     else:
         for i in range(n):
             L.append(f"  out at{i} = " + " & ".join((f"b[{j}]" if (i >> j) & 1 else f"!b[{j}]") for j in range(k)))
-    L += ["end", "design gate_hot", "  in rst, go", "  flop h0 : D preset rst", f"  flop h[{n - 1}:1] : D clear rst",
-          f"  h0.d = mux(go, h0, h[{n - 1}])"]
-    for i in range(1, n):
+    L += ["end", "design gate_hot", "  in rst, go", f"  flop h0 : D (d = mux(go, h0, h[{n - 1}])) preset rst"]
+    for i in reversed(range(1, n)):
         a, b = f"h[{i}]", hn(i - 1)
         if edit == "swapped input" and i == n // 2:
             a, b = b, a
-        L.append(f"  h[{i}].d = mux(go, {a}, {b})")
+        L.append(f"  flop h[{i}] : D (d = mux(go, {a}, {b})) clear rst")
     L.append("  out dock = h0")
     if encoded:
         items = ["or(" + ", ".join(hn(i) for i in range(n) if (i >> j) & 1) + ")" for j in reversed(range(k))]
@@ -471,16 +472,14 @@ MIST = """
 # greenhouse misting: a 4-stage shift register of mist pulses
 design mist_q
   in rst, mist
-  flop q[3:0] : D clear rst
-  q.d = {q[2:0], mist}
+  flop q[3:0] : D (d = {q[2:0], mist}) clear rst
   out o[3:0] = q
   out any = or(q[3], q[2], q[1], q[0])
 end
 # the same register built with its bits in the other order
 design mist_r
   in rst, mist
-  flop r[3:0] : D clear rst
-  r.d = {mist, r[3:1]}
+  flop r[3:0] : D (d = {mist, r[3:1]}) clear rst
   out o[3:0] = {r[0], r[1], r[2], EDIT}
   out any = or(r[0], r[1], r[2], r[3])
 end
@@ -515,24 +514,18 @@ TJK = """
 # brewery tally of kegs filled: T flops against the JK-flop realisation (j = k = t)
 design kegs_t
   in fill, clr
-  flop n[3:0] : T clear clr
-  n[0].t = fill
-  n[1].t = fill & n[0]
-  n[2].t = fill & n[0] & n[1]
-  n[3].t = fill & n[0] & n[1] & n[2]
+  flop n[3] : T (t = fill & n[0] & n[1] & n[2]) clear clr
+  flop n[2] : T (t = fill & n[0] & n[1]) clear clr
+  flop n[1] : T (t = fill & n[0]) clear clr
+  flop n[0] : T (t = fill) clear clr
   out full = n[3] & n[2] & n[1] & n[0]
 end
 design kegs_jk
   in fill, clr
-  flop n[3:0] : JK clear clr
-  n[0].j = fill
-  n[0].k = fill
-  n[1].j = fill & n[0]
-  n[1].k = fill & n[0]
-  n[2].j = J2
-  n[2].k = fill & n[0] & n[1]
-  n[3].j = fill & n[0] & n[1] & n[2]
-  n[3].k = fill & n[0] & n[1] & n[2]
+  flop n[3] : JK (j = fill & n[0] & n[1] & n[2], k = fill & n[0] & n[1] & n[2]) clear clr
+  flop n[2] : JK (j = J2, k = fill & n[0] & n[1]) clear clr
+  flop n[1] : JK (j = fill & n[0], k = fill & n[0]) clear clr
+  flop n[0] : JK (j = fill, k = fill) clear clr
   out full = FULL
 end
 check kegs of kegs_t
@@ -573,19 +566,17 @@ def test_t_against_jk(tmp_path, j2, full, want):
 SIXPACK = """
 design pack_t
   in en
-  flop q[2:0] : T
-  q[0].t = en
-  q[1].t = en & q[0] & !q[2]
-  q[2].t = en & q[0] & (q[1] | q[2])
+  flop q[2] : T (t = en & q[0] & (q[1] | q[2]))
+  flop q[1] : T (t = en & q[0] & !q[2])
+  flop q[0] : T (t = en)
   out full = q[2] & q[0]
 end
 design pack_d
   in en
-  flop q[2:0] : D
+  flop q[2] : D (d = mux(en, q[2], q[1] & q[0] | q[2] & !q[0]))
+  flop q[1] : D (d = mux(en, q[1], q[1] ^ q[0] & !q[2]))
+  flop q[0] : D (d = mux(en, q[0], !q[0]))
   node wrap = q[2] & q[0]
-  q[0].d = mux(en, q[0], !q[0])
-  q[1].d = mux(en, q[1], q[1] ^ q[0] & !q[2])
-  q[2].d = mux(en, q[2], q[1] & q[0] | q[2] & !q[0])
   out full = wrap
 end
 check pack of pack_t
@@ -621,7 +612,7 @@ def test_name_mismatches_are_listed_both_ways(tmp_path):
     assert "only in pack_d: spare" in msg and "only in pack_d: low" in msg
     head, rest = SIXPACK.split("design pack_d\n")
     block, tail = rest.split("end\n", 1)
-    renamed = head + "design pack_d\n" + block.replace("q[", "p[").replace("q.d", "p.d") + "end\n" + tail
+    renamed = head + "design pack_d\n" + block.replace("q[", "p[") + "end\n" + tail
     with pytest.raises(InputError) as e:
         load(tmp_path, renamed)
     assert "flops differ" in e.value.message and "only in pack_t: q[2], q[1], q[0]" in e.value.message
@@ -631,16 +622,13 @@ def test_after_names_the_undetermined_flops(tmp_path):
     body = """
 design hopper
   in rst, tick
-  flop a : D clear rst
-  flop b : D
-  a.d = tick
-  b.d = b ^ tick
+  flop a : D (d = tick) clear rst
+  flop b : D (d = b ^ tick)
   out o = a
 end
 design hopper2
   in rst, tick
-  flop c : T clear rst
-  c.t = c ^ tick
+  flop c : T (t = c ^ tick) clear rst
   out o = c
 end
 check h of hopper

@@ -63,9 +63,8 @@ def vent_designs(draw, max_flops: int = 8):
     lines = ["design vent"]
     if inputs:
         lines.append("  in " + ", ".join(inputs))
-    lines.append(f"  flop q[{n - 1}:0] : D{clear}")
-    for i, e in enumerate(exprs):
-        lines.append(f"  q[{i}].d = {e}")
+    for i in reversed(range(n)):  # one piece per bit, most significant first
+        lines.append(f"  flop q[{i}] : D (d = {exprs[i]}){clear}")
     lines += ["end", "check stepper of vent", "  code q", "  count " + " ".join(map(str, seq)), f"  recover{when}", "end"]
     return "\n".join(lines) + "\n"
 
@@ -86,10 +85,9 @@ def dosing_designs(draw, max_n: int = 7):
     return f"""
 design pump
   in gust, frost
-  flop q[{n - 1}:0] : T
+  flop q[{n - 1}:0] : T (t = (c1 & !(gust ^ frost)) | (c2 & (gust ^ frost)))
   node c1[{n - 1}:0] = {{c1[{n - 2}:0] & q[{n - 2}:0], 1}}
   node c2[{n - 1}:0] = {two}
-  q.t = (c1 & !(gust ^ frost)) | (c2 & (gust ^ frost))
 end
 check dose of pump
   code q
@@ -262,8 +260,7 @@ def test_scc_cycles_matches_networkx(graph):
 def johnson(n: int) -> str:
     return f"""
 design spray
-  flop q[{n - 1}:0] : D
-  q.d = {{q[{n - 2}:0], !q[{n - 1}]}}
+  flop q[{n - 1}:0] : D (d = {{q[{n - 2}:0], !q[{n - 1}]}})
 end
 check bars of spray
   code q
@@ -295,8 +292,7 @@ def test_ring_locks_all_zeros_and_all_ones():
     # fact of the trade: a plain one-hot ring keeps all-zeros and all-ones for ever
     check = load_text("""
 design turret
-  flop h[4:0] : D
-  h.d = {h[3:0], h[4]}
+  flop h[4:0] : D (d = {h[3:0], h[4]})
 end
 check heads of turret
   code h
@@ -316,8 +312,7 @@ def test_self_correcting_ring_recovers():
         nor = "nor(" + ", ".join(f"h[{i}]" for i in range(n - 1)) + ")" if n > 2 else "!h[0]"
         check = load_text(f"""
 design turret
-  flop h[{n - 1}:0] : D
-  h.d = {{h[{n - 2}:0], {nor}}}
+  flop h[{n - 1}:0] : D (d = {{h[{n - 2}:0], {nor}}})
 end
 check heads of turret
   code h
@@ -332,8 +327,7 @@ end
 def _lfsr(fb: str, seq: str) -> str:
     return f"""
 design noise
-  flop s[3:0] : D
-  s.d = {{s[2:0], {fb}(s[3], s[2])}}
+  flop s[3:0] : D (d = {{s[2:0], {fb}(s[3], s[2])}})
 end
 check dither of noise
   code s
@@ -367,8 +361,7 @@ def test_xnor_shift_register_locks_at_all_ones():
 def test_feasible_says_why_not():
     check = load_text("""
 design wide
-  flop q[29:0] : D
-  q.d = q
+  flop q[29:0] : D (d = q)
 end
 check all of wide
   code q
@@ -386,8 +379,7 @@ def test_too_many_inputs_for_rows():
     check = load_text(f"""
 design keyed
   in {ins}
-  flop q[1:0] : D
-  q.d = {{q[0], {xor}}}
+  flop q[1:0] : D (d = {{q[0], {xor}}})
 end
 check k of keyed
   code q
@@ -404,8 +396,7 @@ def test_condition_fixes_inputs_before_enumeration():
     check = load_text("""
 design vent
   in gust, frost, sun
-  flop q[1:0] : D
-  q.d = {q[0] ^ gust, frost}
+  flop q[1:0] : D (d = {q[0] ^ gust, frost})
 end
 check v of vent
   code q

@@ -52,15 +52,13 @@ def test_real_claims_round_trip(tmp_path):
 # greenhouse shade motor: counts 0 .. 3 while `roll`
 design shade
   in roll
-  flop s[1:0] : T
-  s[0].t = roll
-  s[1].t = roll & s[0]
+  flop s[1] : T (t = roll & s[0])
+  flop s[0] : T (t = roll)
   out shut = s[1] & s[0]
 end
 design shade_d
   in roll
-  flop s[1:0] : D
-  s.d = {s[1] ^ (roll & s[0]), s[0] ^ roll}
+  flop s[1:0] : D (d = {s[1] ^ (roll & s[0]), s[0] ^ roll})
   out shut = s[1] | s[0]
 end
 check shade_steps of shade
@@ -80,5 +78,5 @@ end
     got = {c.get("name"): ("failure" if c.find("failure") is not None else "pass") for c in cases}
     want = {f"{r.claim} line {r.line}": ("failure" if r.status == REFUTED else "pass") for r in results}
     assert got == want
-    assert got["equal line 21"] == "failure"  # the outputs differ: and against or
-    assert got["count line 18"] == "pass"
+    assert got["equal line 19"] == "failure"  # the outputs differ: and against or
+    assert got["count line 16"] == "pass"

@@ -24,16 +24,10 @@ D_TABLE = {(0,): 0, (1,): 1}
 FLOPS = """\
 design bench
   in a, b, c, p
-  flop fd : D clear c preset p
-  flop ft : T clear c preset p
-  flop fjk : JK clear c preset p
-  flop fsr : SR clear c preset p
-  fd.d = a
-  ft.t = a
-  fjk.j = a
-  fjk.k = b
-  fsr.s = a
-  fsr.r = b
+  flop fd : D (d = a) clear c preset p
+  flop ft : T (t = a) clear c preset p
+  flop fjk : JK (j = a, k = b) clear c preset p
+  flop fsr : SR (s = a, r = b) clear c preset p
 end
 """
 
@@ -83,8 +77,9 @@ def test_t_flop_ripple_counter_counts_in_binary(write):
     # Fact of the trade (common practice): a synchronous binary counter made of
     # T flops toggles bit i exactly when all lower bits are 1.
     n = 5
-    pins = "\n".join(f"  q[{i}].t = " + (" & ".join(f"q[{j}]" for j in range(i)) or "1") for i in range(n))
-    text = f"design tally\n  flop q[{n - 1}:0] : T\n{pins}\nend\n"
+    flops = "\n".join(f"  flop q[{i}] : T (t = " + (" & ".join(f"q[{j}]" for j in range(i)) or "1") + ")"
+                      for i in reversed(range(n)))
+    text = f"design tally\n{flops}\nend\n"
     m = load_namespace(write(text)).designs["tally"].model
     steps = run(m, {s: 0 for s in m.states}, [{}], 2 ** n + 1)
     codes = [int("".join(str(s.state[b]) for b in m.states), 2) for s in steps]
@@ -162,10 +157,12 @@ def test_three_evaluators_agree(tmp_path_factory, expr):
 
 # --- random designs never crash the parser ------------------------------------
 STATEMENTS = st.sampled_from([
-    "  in x, y[3:0]", "  flop q[2:0] : D", "  flop r : JK clear x", "  q.d = {q[1:0], x}",
-    "  q[2].d = x", "  r.j = q[0]", "  r.k = !x", "  out o = q[2] & r", "  node n[1:0] = y[3:2] ^ y[1:0]",
-    "  part u : helper (a = x)", "  out v = u.z", "  out w = mux(x, q[0], 1)", "  q.d = 0b101",
-    "  out o = (x | ", "  flop q : SR", "  in q", "  node n = n", "}", "end", "design", "  out y[0] = x",
+    "  in x, y[3:0]", "  flop q[2:0] : D (d = {q[1:0], x})", "  flop r : JK (j = q[0], k = !x) clear x",
+    "  flop q[2] : D (d = x)", "  flop q[1:0] : T (t = 0b01)", "  r.j = q[0]", "  flop r : JK (j = q[0],",
+    "  k = !x)", "  out o = q[2] & r", "  node n[1:0] = y[3:2] ^ y[1:0]",
+    "  part u : helper (a = x)", "  out v = u.z", "  out w = mux(x, q[0], 1)", "  flop q[2:0] : D (d = 0b101)",
+    "  out o = (x | ", "  flop q : SR", "  flop q : SR (s = x, s = x)", "  in q", "  node n = n", "}", "end",
+    "design", "  out y[0] = x",
 ])
 
 

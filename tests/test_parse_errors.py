@@ -13,8 +13,7 @@ from conftest import run_cli
 GOOD = """\
 design tally
   in en
-  flop q[1:0] : D
-  q.d = {q[1] ^ (q[0] & en), q[0] ^ en}
+  flop q[1:0] : D (d = {q[1] ^ (q[0] & en), q[0] ^ en})
   out top = q[1] & q[0]
 end
 """
@@ -33,24 +32,27 @@ CASES = [
     ("design a\n  in x\n  out y = x &\nend\n", 3, 14, ["end of line"]),
     ("design a\n  in x\n  out y = z\nend\n", 3, 11, ["undefined name 'z'"]),
     ("design a\n  in x\n  in x\n  out y = x\nend\n", 3, 6, ["defined twice"]),
-    ("design a\n  in x\n  flop q : D\n  q.d = x\n  q.d = !x\nend\n", 5, 3, ["driven twice"]),
-    ("design a\n  in x\n  flop q : JK\n  q.j = x\nend\n", 3, 3, ["pin k", "not driven"]),
-    ("design a\n  in x\n  flop q : T\n  q.d = x\nend\n", 4, 5, ["no pin 'd'"]),
+    ("design a\n  in x\n  flop q : D (d = x, d = !x)\nend\n", 3, 22, ["pin d", "twice"]),
+    ("design a\n  in x\n  flop q : JK (j = x)\nend\n", 3, 3, ["pin k", "not given"]),
+    ("design a\n  in x\n  flop q : T (d = x)\nend\n", 3, 15, ["no pin 'd'"]),
+    ("design a\n  in x\n  flop q : D\nend\n", 3, 12, ["(d ="]),
+    ("design a\n  in x\n  flop q[1:0] : D (d = {x, x})\n  flop q[0] : D (d = x)\nend\n", 4, 8, ["overlaps", "q[0]"]),
+    ("design a\n  in x\n  flop q[3] : D (d = x)\n  flop q[1:0] : D (d = {x, x})\nend\n", 3, 8, ["q[2]", "range"]),
     ("design a\n  in x[1:0]\n  out y[2:0] = x\nend\n", 3, 16, ["width mismatch"]),
     ("design a\n  in x\n  part u : nothing (x = x)\nend\n", 3, 12, ["unknown design 'nothing'"]),
     ("design a\n  in x\n  part u : a (x = x)\n  out y = x\nend\n", 3, 3, ["recursive part"]),
     ("design a\n  in x\n  node n = m & x\n  node m = n\n  out y = m\nend\n", 3, 3, ["combinational loop", "n", "m"]),
-    ("design a\n  in x\n  flop q : D\n  q.d = x\nend\ncheck c of a\n  code x\n  count 0 1\nend\n", 7, 8, ["flop bits only"]),
-    ("design a\n  in x\n  flop q[1:0] : D\n  q.d = {x, x}\nend\ncheck c of a\n  code q\n  count 0 1 2 1\nend\n", 8, 15, ["repeat"]),
-    ("design a\n  in x\n  flop q[1:0] : D\n  q.d = {x, x}\nend\ncheck c of a\n  code q\n  count 0 1 7\nend\n", 8, 13, ["7"]),
-    ("design a\n  in x\n  flop q : D\n  q.d = and(x)\nend\n", 4, 9, ["two or more"]),
-    ("design a\n  in x\n  flop q : D\n  q.d = frob(x, x)\nend\n", 4, 9, ["unknown gate 'frob'"]),
-    ("design a\n  in x\n  flop q : Q\n  q.d = x\nend\n", 3, 12, ["unknown flop kind"]),
+    ("design a\n  in x\n  flop q : D (d = x)\nend\ncheck c of a\n  code x\n  count 0 1\nend\n", 6, 8, ["flop bits only"]),
+    ("design a\n  in x\n  flop q[1:0] : D (d = {x, x})\nend\ncheck c of a\n  code q\n  count 0 1 2 1\nend\n", 7, 15, ["repeat"]),
+    ("design a\n  in x\n  flop q[1:0] : D (d = {x, x})\nend\ncheck c of a\n  code q\n  count 0 1 7\nend\n", 7, 13, ["7"]),
+    ("design a\n  in x\n  flop q : D (d = and(x))\nend\n", 3, 19, ["two or more"]),
+    ("design a\n  in x\n  flop q : D (d = frob(x, x))\nend\n", 3, 19, ["unknown gate 'frob'"]),
+    ("design a\n  in x\n  flop q : Q (d = x)\nend\n", 3, 12, ["unknown flop kind"]),
     ("design a\n  in x\n  out y = x\nend\ncheck c of b\n  code q\nend\n", 5, 12, ["unknown design 'b'"]),
     ("design a\n  in count\nend\n", 2, 6, ["reserved"]),
     ("design a\n  in x[3:0]\n  out y = x[4]\nend\n", 3, 12, ["outside"]),
     ("design a\n  in x\n  out y = x\n", 4, 1, ["end of file"]),
-    ("design a\n  in x\n  flop q : D\n  q.d = x\nend\ncheck c of a\n  code q\n  count 0 1\n  hold when q\nend\n", 9, 13, ["inputs only"]),
+    ("design a\n  in x\n  flop q : D (d = x)\nend\ncheck c of a\n  code q\n  count 0 1\n  hold when q\nend\n", 8, 13, ["inputs only"]),
 ]
 
 
@@ -60,6 +62,13 @@ def test_error_position_and_message(write, text, line, col, words):
     assert (e.pos.line, e.pos.col) == (line, col), str(e)
     for w in words:
         assert w in e.message, e.message
+
+
+def test_v1_pin_statement_is_refused_with_the_v2_form(write):
+    # v1 drove a pin by its own statement; v2 names pins in the declaration only
+    e = error_of(write, "design a\n  in x\n  flop q : T (t = x)\n  q.t = x\nend\n")
+    assert (e.pos.line, e.pos.col) == (4, 3), str(e)
+    assert "flop q" in e.message and "(t =" in e.message, e.message
 
 
 def test_good_file_loads(write):
@@ -109,7 +118,7 @@ def test_limits_are_stated(write):
 
 def test_flattened_bit_limit(write):
     # 30 parts of 4096 flops: past the 100,000-bit limit
-    text = "design wide\n  in x\n  flop q[4095:0] : D\n  q.d = {q[4094:0], x}\n  out y = q[0]\nend\n"
+    text = "design wide\n  in x\n  flop q[4095:0] : D (d = {q[4094:0], x})\n  out y = q[0]\nend\n"
     text += "design many\n  in x\n" + "".join(f"  part u{i} : wide (x = x)\n" for i in range(30)) + "  out y = u0.y\nend\n"
     assert "100000" in error_of(write, text).message
 
@@ -139,7 +148,7 @@ def test_missing_file_and_bad_command_line(tmp_path):
 
 
 def test_decimal_numbers_may_have_leading_zeros(write):
-    ns = load_namespace(write("design a\n  in x\n  flop q[1:0] : D\n  q.d = {x & 01, x}\nend\n"
+    ns = load_namespace(write("design a\n  in x\n  flop q[1:0] : D (d = {x & 01, x})\nend\n"
                               "check c of a\n  code q\n  count 00 01 02\n  recover within 007\nend\n"))
     chk = ns.checks[0]
     assert [c for c in chk.sequence.codes()] == [0, 1, 2]

@@ -12,10 +12,9 @@ README = Path(__file__).resolve().parent.parent / "README.md"
 D_BUILD = """
 design crate_tally_d
   in bottle, reset
-  flop q[3:0] : D
+  flop q[3:0] : D (d = mux(reset, mux(bottle, q, mux(at11, inc, 0b0000)), 0b0000))
   node at11 = q[3] & q[1] & q[0]
   node inc[3:0] = {q[3] ^ (q[2] & q[1] & q[0]), q[2] ^ (q[1] & q[0]), q[1] ^ q[0], !q[0]}
-  q.d = mux(reset, mux(bottle, q, mux(at11, inc, 0b0000)), 0b0000)
   out full = at11 & bottle
 end
 """

@@ -32,10 +32,9 @@ def tail_counter(w: int, last: int, claim: str = "recover") -> str:
     return f"""
 design batch
   in run
-  flop q[{w - 1}:0] : T clear last & run
+  flop q[{w - 1}:0] : T (t = c) clear last & run
   node c[{w - 1}:0] = {{c[{w - 2}:0] & q[{w - 2}:0], run}}
   node last = {dec}
-  q.t = c
 end
 check batches of batch
   code q
@@ -49,8 +48,7 @@ end
 GATE = """
 design gate
   in run, drop
-  flop p[3:0] : D
-  p.d = mux(run, p, {p[2:0], !p[3]})
+  flop p[3:0] : D (d = mux(run, p, {p[2:0], !p[3]}))
 end
 check phases of gate
   code p
@@ -144,8 +142,7 @@ def test_expired_budget_is_open_never_proved(write):
 def test_no_unused_codes_worst_zero(write):
     check = load(write, """
 design hop
-  flop q[2:0] : D
-  q.d = {q[1:0], !q[2]}
+  flop q[2:0] : D (d = {q[1:0], !q[2]})
 end
 check all of hop
   code q
@@ -170,8 +167,7 @@ def test_counter_that_never_steps_is_an_error(write):
     check = load(write, """
 design stuck
   in run
-  flop q[1:0] : D
-  q.d = q
+  flop q[1:0] : D (d = q)
 end
 check s of stuck
   code q
@@ -188,10 +184,8 @@ def test_flops_outside_code_are_refused(write):
     # v1: code names every flop, so a code is the whole state; elaboration refuses less
     text = """
 design gate2
-  flop p[1:0] : D
-  flop spare : D
-  p.d = {p[0], !p[1]}
-  spare.d = spare
+  flop p[1:0] : D (d = {p[0], !p[1]})
+  flop spare : D (d = spare)
 end
 check phases of gate2
   code p
@@ -274,8 +268,7 @@ def test_auto_tries_a_short_sat_search_on_wide_explicit_codes(write):
     # a lock is left to the exhaustive engine, which lists every locked set
     locked = load(write, """
 design spray
-  flop q[17:0] : D
-  q.d = {q[16:0], !q[17]}
+  flop q[17:0] : D (d = {q[16:0], !q[17]})
 end
 check bars of spray
   code q

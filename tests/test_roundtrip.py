@@ -29,7 +29,7 @@ from checker.lang.unparse import unparse_expr, unparse_file
 
 ROOT = Path(__file__).resolve().parent.parent
 CASES = sorted((ROOT / "cases").glob("*.cnl"))
-POS_FIELDS = frozenset({"pos", "kind_pos", "pin_pos", "design_pos"})
+POS_FIELDS = frozenset({"pos", "kind_pos", "design_pos"})
 EXHAUSTIVE_BITS = 16  # state + input bits up to which the model comparison is exhaustive
 
 
@@ -98,14 +98,14 @@ def test_expression_text(src, want):
 
 
 def test_file_layout():
-    src = ('design vat\n in heat,  lvl[1:0]\n flop f[1:0] : JK clear !heat preset lvl[0]\n'
-           ' f.j = lvl\n f[1:0].k = {heat, 0}\n part p : vat (heat = heat, lvl[1:0] = 0b10)\nend\n'
+    src = ('design vat\n in heat,  lvl[1:0]\n flop f[1:0] : JK (j = lvl,\n    k = {heat,\n 0}) clear !heat preset lvl[0]\n'
+           ' flop g[2] : T (t=heat)\n part p : vat (heat = heat, lvl[1:0] = 0b10)\nend\n'
            'use "lib/x.cnl"\n'
            'check warm of vat\n code f\n count lfsr 2 1 from 0x3\n load lvl when heat\n'
            ' recover within 4 when !heat\n equal vat after heat\n equal vat on sequence\nend\n')
     want = ('use "lib/x.cnl"\n\n'
-            'design vat\n  in heat, lvl[1:0]\n  flop f[1:0] : JK clear !heat preset lvl[0]\n'
-            '  f.j = lvl\n  f[1:0].k = {heat, 0}\n  part p : vat (heat = heat, lvl[1:0] = 0b10)\nend\n\n'
+            'design vat\n  in heat, lvl[1:0]\n  flop f[1:0] : JK (j = lvl, k = {heat, 0}) clear !heat preset lvl[0]\n'
+            '  flop g[2] : T (t = heat)\n  part p : vat (heat = heat, lvl[1:0] = 0b10)\nend\n\n'
             'check warm of vat\n  code f\n  count lfsr 2 1 from 3\n  load lvl when heat\n'
             '  recover within 4 when !heat\n  equal vat after heat\n  equal vat on sequence\nend\n')
     assert unparse_file(P.parse_text("f.cnl", src)) == want
@@ -258,14 +258,28 @@ exprs = st.recursive(st.one_of(nums(), refs), _extend, max_leaves=14)
 props = st.builds(P.Cmp, st.sampled_from(["==", "!="]), exprs, exprs, st.just(G)) | exprs
 opt_exprs = st.one_of(st.none(), exprs)
 decls = st.one_of(st.builds(P.Decl, names, st.none(), st.none(), st.just(G)),
-                  st.builds(P.Decl, names, small, small, st.just(G)))
+                  st.builds(P.Decl, names, small, small, st.just(G)),
+                  small.flatmap(lambda i: st.builds(P.Decl, names, st.just(i), st.just(i), st.just(G), st.just(True))))
+# A flop's parenthesis: None when it is left out (an elaboration error, but a tree all the same).
+pin_lists = st.one_of(st.none(), st.lists(st.builds(P.Pin, st.sampled_from(["d", "t", "j", "k", "s", "r", "x"]),
+                                                    exprs, st.just(G)), max_size=3))
+clocks = st.one_of(st.none(), st.builds(P.Clock, st.sampled_from(["rise", "fall"]), exprs, st.just(G)))
+
+
+@st.composite
+def flop_decls(draw):
+    clear, preset = draw(opt_exprs), draw(opt_exprs)
+    # `async` is written only with its clear or preset
+    return P.FlopDecl(draw(decls), draw(st.sampled_from(["D", "T", "JK", "SR", "q"])), G, draw(pin_lists),
+                      draw(clocks), clear, preset, G, clear is not None and draw(st.booleans()),
+                      preset is not None and draw(st.booleans()))
+
 
 design_stmts = st.one_of(
     st.builds(P.InDecl, st.lists(decls, min_size=1, max_size=4), st.just(G)),
     st.builds(P.OutDecl, decls, exprs, st.just(G)),
     st.builds(P.NodeDecl, decls, exprs, st.just(G)),
-    st.builds(P.FlopDecl, decls, st.sampled_from(["D", "T", "JK", "SR", "q"]), st.just(G), opt_exprs, opt_exprs, st.just(G)),
-    st.builds(P.PinDrive, names, indexes, st.sampled_from(["d", "t", "j", "k", "s", "r", "x"]), st.just(G), exprs, st.just(G)),
+    flop_decls(),
     st.builds(P.PartDecl, names, names, st.just(G),
               st.lists(st.builds(P.Conn, names, indexes, exprs, st.just(G)), max_size=4), st.just(G)),
 )

@@ -12,9 +12,8 @@ STAGE = """\
 # Greenhouse shutter stepper: one step up per clock while go, else it holds.
 design shutter
   in go, dir
-  flop p[2:0] : D
+  flop p[2:0] : D (d = mux(go, p, up))
   node up[2:0] = {p[2] ^ (p[1] & p[0]), p[1] ^ p[0], !p[0]}
-  p.d = mux(go, p, up)
   out open = p[2]
 end
 """
@@ -39,7 +38,7 @@ def test_sim_json_shape_and_values(write, capsys):
 
 
 def test_sim_set_vector_and_code_order(write, capsys):
-    path = write("design latch\n  in v[2:0]\n  flop r[2:0] : D\n  r.d = v\nend\n")
+    path = write("design latch\n  in v[2:0]\n  flop r[2:0] : D (d = v)\nend\n")
     rc, doc = _json(capsys, "sim", path, "latch", "--set", "v=0b110", "--cycles", "1", "--code", "{r[0], r[1], r[2]}")
     assert rc == 0
     assert [e["code"] for e in doc["trace"]] == [0, 0b011]  # r = 110 read lsb first

@@ -46,9 +46,8 @@ def counter_text(n: int) -> str:
     return f"""# bottling line counter, {n} bits
 design filler{n}
   in en, clr
-  flop q[{n - 1}:0] : T clear clr
+  flop q[{n - 1}:0] : T (t = c) clear clr
   node c[{n - 1}:0] = {{c[{n - 2}:0] & q[{n - 2}:0], en}}
-  q.t = c
 end
 check bottles of filler{n}
   code q
@@ -62,13 +61,14 @@ end
 def lookahead_text(n: int) -> str:
     """The same counter with group carries (4-bit groups): the design's and-gates
     associate differently from the reference incrementer, so the solver has work."""
-    lines = [f"# capping line counter, {n} bits, group carries", f"design capper{n}", "  in en, clr",
-             f"  flop q[{n - 1}:0] : T clear clr"]
+    lines = [f"# capping line counter, {n} bits, group carries", f"design capper{n}", "  in en, clr"]
+    toggles = {}
     for g in range(n // 4):
         lines.append(f"  node p{g} = and(q[{4 * g + 3}], q[{4 * g + 2}], q[{4 * g + 1}], q[{4 * g}])")
         lines.append(f"  node gc{g} = " + ("en" if g == 0 else f"gc{g - 1} & p{g - 1}"))
         for k in range(4):
-            lines.append(f"  q[{4 * g + k}].t = " + " & ".join([f"gc{g}"] + [f"q[{4 * g + j}]" for j in range(k)]))
+            toggles[4 * g + k] = " & ".join([f"gc{g}"] + [f"q[{4 * g + j}]" for j in range(k)])
+    lines += [f"  flop q[{i}] : T (t = {toggles[i]}) clear clr" for i in reversed(range(n))]
     lines += ["end", f"check caps of capper{n}", "  code q", f"  count 0 .. {hex((1 << n) - 1)}",
               "  load 0 when clr", "  hold when !en", "end"]
     return "\n".join(lines) + "\n"

@@ -42,13 +42,13 @@ EXPLICIT_SECONDS = 60.0
 
 def tally(w: int) -> str:
     """A brewery tally of ``w`` bits: T flops with and-chains, and D flops with a ripple adder."""
-    t = ["design tally_t", "  in run, zero", f"  flop n[{w - 1}:0] : T clear zero"]
-    for i in range(w):
-        t.append(f"  n[{i}].t = " + " & ".join(["run"] + [f"n[{j}]" for j in range(i)]))
+    t = ["design tally_t", "  in run, zero"]
+    for i in reversed(range(w)):
+        t.append(f"  flop n[{i}] : T (t = " + " & ".join(["run"] + [f"n[{j}]" for j in range(i)]) + ") clear zero")
     allq = ", ".join(f"n[{j}]" for j in range(w))
     t += [f"  out full = and({allq})", "end"]
-    d = ["design tally_d", "  in run, zero", f"  flop n[{w - 1}:0] : D clear zero",
-         f"  node c[{w}:0] = {{c[{w - 1}:0] & n[{w - 1}:0], run}}", f"  n.d = n ^ c[{w - 1}:0]",
+    d = ["design tally_d", "  in run, zero", f"  flop n[{w - 1}:0] : D (d = n ^ c[{w - 1}:0]) clear zero",
+         f"  node c[{w}:0] = {{c[{w - 1}:0] & n[{w - 1}:0], run}}",
          f"  out full = c[{w}] | !run & and({allq})", "end"]
     chk = ["check bottles of tally_t", "  code n", f"  count 0 .. {hex((1 << w) - 1)}", "  load 0 when zero",
            "  step when run", "  hold when !run", "  equal tally_d", "  equal tally_d on sequence", "  equal tally_d after zero", "end"]

@@ -41,10 +41,9 @@ def dosing_pump(n: int) -> str:
     return f"""
 design pump
   in gust, frost
-  flop q[{n - 1}:0] : T
+  flop q[{n - 1}:0] : T (t = (c1 & !(gust ^ frost)) | (c2 & (gust ^ frost)))
   node c1[{n - 1}:0] = {{c1[{n - 2}:0] & q[{n - 2}:0], 1}}
   node c2[{n - 1}:0] = {{c2[{n - 2}:1] & q[{n - 2}:1], 1, 0}}
-  q.t = (c1 & !(gust ^ frost)) | (c2 & (gust ^ frost))
 end
 check dose of pump
   code q
