@@ -12,7 +12,7 @@ from hypothesis import given, settings, strategies as st
 from checker.cli import main
 
 CASE = str(Path(__file__).resolve().parent.parent / "cases" / "sixpack_t.cnl")
-WORDS = ["check", "map", "compare", "sim", "cnf", CASE, "sixpack_t", "pack_t", "--json", "--timeout",
+WORDS = ["check", "map", "compare", "sim", "export", CASE, "sixpack_t", "pack_t", "--json", "--timeout",
          "0", "-3", "abc", "--from", "--set", "en=1", "en", "=", "--cycles", "99999999999", "--code", "q[9]",
          "--when", "&&", "--limit", "--engine", "warp", "--solver", "nosuch", "/nonexistent", "--trace",
          "--claim", "-o", "/dev/null/x", "--vcd", "", "\x00", "q", "--dot", "{"]
@@ -46,17 +46,33 @@ def test_errors_carry_positions(tmp_path):
     assert err.strip() == f"{e['file']}:{e['line']}:{e['col']}: {e['message']}"
 
 
-def test_empty_file_has_no_claims(tmp_path):
+def test_a_run_without_claims_is_exit_2(tmp_path):
+    # contract v2: a check that finds no claim at all exits 2, so a CI job pointed at the wrong place fails
     p = tmp_path / "empty.cnl"
     p.write_text("# nothing here yet\n")
-    rc, out, _ = _run(["check", str(p), "--json"])
-    assert rc == 0 and json.loads(out) == {"claims": []}
+    rc, out, err = _run(["check", str(p), "--json"])
+    assert rc == 2 and "no claims in" in json.loads(out)["error"]["message"]
+    (tmp_path / "sub").mkdir()
+    rc, _, err = _run(["check", str(tmp_path / "sub")])
+    assert rc == 2 and "no claims in" in err
+
+
+def test_folder_scan_skips_hidden_folders_and_virtual_environments(tmp_path):
+    src = ("design flip\n  in go\n  flop q : T (t = go)\nend\n"
+           "check flips of flip\n  code q\n  count 0 1\n  hold when !go\nend\n")
+    for folder in (".git", "venv", "ok"):
+        (tmp_path / folder).mkdir()
+        (tmp_path / folder / "c.cnl").write_text(src)
+    (tmp_path / "venv" / "pyvenv.cfg").write_text("home = /usr\n")
+    rc, out, _ = _run(["check", str(tmp_path), "--json"])
+    files = {c["file"] for c in json.loads(out)["claims"]}
+    assert files == {str(tmp_path / "ok" / "c.cnl")}
 
 
 def test_unwritable_output_files_are_exit_2(tmp_path):
-    bad = str(tmp_path / "no" / "such" / "dir" / "out")
+    bad = str(tmp_path / "no" / "such" / "dir" / "out.cnf")
     for argv in (["sim", CASE, "sixpack_t", "--vcd", bad], ["check", CASE, "--junit", bad],
-                 ["map", CASE, "pack_t", "--dot", bad], ["cnf", CASE, "pack_t", "--claim", "49", "-o", bad]):
+                 ["map", CASE, "pack_t", "--dot", bad], ["export", CASE, "pack_t", "--claim", "49", "-o", bad]):
         rc, out, err = _run(argv + ["--json"])
         assert rc == 2, (argv, err)
         assert json.loads(out)["error"]["file"] == bad
