@@ -107,12 +107,15 @@ def replay(design: Design, check: Check, trace: Sequence[TraceEntry], code: Opti
             raise ReplayError(f"trace does not replay in {design.name}: clock {k + 1} gives {got}, trace says {trace[k + 1].code}")
 
 
-def inputs_text(check: Check, inputs: dict[str, int]) -> str:
-    """Inputs for people: vectors as one binary number, bits as 0/1."""
-    design = check.design
+def inputs_text(check: Optional[Check], inputs: Optional[dict[str, int]]) -> str:
+    """Inputs (or outputs) for people: with a check, its input vectors as one binary
+    number each; every other bit as NAME=0|1; ``-`` when there are none."""
+    if not inputs:
+        return "-"
     done: set[str] = set()
     parts = []
-    for name, bits in design.input_vectors.items():
+    vectors = {} if check is None else check.design.input_vectors
+    for name, bits in vectors.items():
         if len(bits) == 1 and bits[0] == name:
             parts.append(f"{name}={inputs.get(name, 0)}")
         else:
@@ -122,14 +125,17 @@ def inputs_text(check: Check, inputs: dict[str, int]) -> str:
     return " ".join(parts) if parts else "-"
 
 
-def trace_lines(check: Check, trace: list[TraceEntry]) -> list[str]:
-    """A trace as a small table: clock, code in binary and decimal, inputs."""
-    w = check.width
-    rows = [("clock", "code", "decimal", "inputs")]
+def trace_lines(check: Optional[Check], trace: list[TraceEntry], width: Optional[int] = None) -> list[str]:
+    """A trace as a small table: clock, code in binary and decimal, the other design's
+    code (equal claims), inputs. ``width`` defaults to the check's code width."""
+    w = width if width is not None else check.width if check is not None else 1
+    other = any(t.other_code is not None for t in trace)
+    rows = [("clock", "code", "decimal") + (("other",) if other else ()) + ("inputs",)]
     for t in trace:
-        rows.append((str(t.clock), format(t.code, f"0{w}b"), str(t.code),
-                     "" if t.inputs is None else inputs_text(check, t.inputs)))
-    widths = [max(len(r[k]) for r in rows) for k in range(4)]
+        rows.append((str(t.clock), format(t.code, f"0{w}b"), str(t.code))
+                    + (("" if t.other_code is None else str(t.other_code),) if other else ())
+                    + ("" if t.inputs is None else inputs_text(check, t.inputs),))
+    widths = [max(len(r[k]) for r in rows) for k in range(len(rows[0]))]
     return ["  ".join(c.ljust(widths[k]) for k, c in enumerate(r)).rstrip() for r in rows]
 
 
@@ -137,7 +143,3 @@ def make_result(check: Check, claim: Claim, status: str, summary: str = "", **kw
     """A :class:`Result` for ``claim`` of ``check`` (file, names and line filled in)."""
     return Result(file=claim.pos.file, check=check.name, claim=claim.kind, line=claim.pos.line,
                   status=status, summary=summary, **kw)
-
-
-def input_dict(names: Sequence[str], values: Sequence[int]) -> dict[str, int]:
-    return {n: int(v) for n, v in zip(names, values)}

@@ -33,8 +33,8 @@ from ..engines.product import Product, explicit_search, product, simulate_inputs
 from ..engines.sat import Encoder, Sat, any_lit, equal_lit
 from ..errors import InputError
 from ..model import TRUE
-from ..model.simulate import eval_states, leaf_arrays
-from .common import Options, ReplayError, make_result, replay
+from ..model.simulate import code_value, eval_states, leaf_arrays
+from .common import Options, ReplayError, inputs_text, make_result, replay
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 UNUSED_LIMIT = 256  # unused codes enumerated by blocking clauses
@@ -48,13 +48,6 @@ AUTO_EXPLICIT_INPUTS = 8  # ... and this many input bits
 def code_indices(check: Check) -> list[int]:
     """State indices of the check's code; all flops in declaration order without a code line."""
     return list(check.code) if check.code else list(range(len(check.design.model.states)))
-
-
-def _code(names: list[str], idx: list[int], state: dict[str, int]) -> int:
-    v = 0
-    for i in idx:
-        v = (v << 1) | (state[names[i]] & 1)
-    return v
 
 
 def differences(a: Design, b: Design, state: dict[str, int], inputs: dict[str, int]) -> tuple[list[str], list[str]]:
@@ -202,18 +195,14 @@ def _refuted_paired(check: Check, claim: Claim, b: Design, state, inputs, detail
         what.append(f"{a.name} goes to {trace[1].code}, {b.name} to {trace[1].other_code}")
     if outs:
         what.append(f"output{'s' if len(outs) > 1 else ''} {', '.join(outs[:6])}{' ...' if len(outs) > 6 else ''} differ{'' if len(outs) > 1 else 's'}")
-    summary = f"at code {c} under {_inputs_text(inputs)}: {'; '.join(what)}"
+    summary = f"at code {c} under {inputs_text(None, inputs)}: {'; '.join(what)}"
     if details.get("only_unused"):
         summary += " (an unused code: the designs agree on the sequence)"
-    ev = [f"clock 0: code {c} ({b.name}: {trace[0].other_code}), inputs {_inputs_text(inputs)}",
+    ev = [f"clock 0: code {c} ({b.name}: {trace[0].other_code}), inputs {inputs_text(None, inputs)}",
           f"clock 1: {a.name} goes to {trace[1].code}, {b.name} to {trace[1].other_code}"]
     if outs:
         ev.append("outputs that differ at clock 0: " + ", ".join(outs))
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev + lines)
-
-
-def _inputs_text(inputs: dict[str, int]) -> str:
-    return " ".join(f"{n}={v}" for n, v in inputs.items()) or "-"
 
 
 # --- equal after COND --------------------------------------------------------
@@ -290,8 +279,8 @@ def _prove_after(check: Check, claim: Claim, opts: Options, budget: Budget) -> R
     prod = product(a.model, b.model)
     init = ra.state + rb.state
     res = after_engines(prod, init, opts, budget)
-    details = {"engine": res.engine, "depth": res.depth, "reset_code": _code(a.model.states, code_indices(check), dict(zip(a.model.states, ra.state))),
-               "other_reset_code": _code(b.model.states, list(range(len(b.model.states))), dict(zip(b.model.states, rb.state)))}
+    details = {"engine": res.engine, "depth": res.depth, "reset_code": code_value(a.model, code_indices(check), dict(zip(a.model.states, ra.state))),
+               "other_reset_code": code_value(b.model, list(range(len(b.model.states))), dict(zip(b.model.states, rb.state)))}
     details.update(res.details)
     if res.status == PROVED:
         return make_result(check, claim, PROVED,
@@ -306,8 +295,8 @@ def _prove_after(check: Check, claim: Claim, opts: Options, budget: Budget) -> R
     details.pop("depth", None)
     summary = (f"output{'s' if len(outs) > 1 else ''} {', '.join(outs)} of {a.name} and {b.name} differ{'' if len(outs) > 1 else 's'}"
                f" at clock {trace[-1].clock} (the condition applied at clock 0)")
-    ev = [f"clock 0: any state, inputs meeting the condition ({_inputs_text(ra.inputs)})"]
-    ev += [f"clock {t.clock}: code {t.code} ({b.name}: {t.other_code}), inputs {_inputs_text(t.inputs or {})}" for t in trace[1:]]
+    ev = [f"clock 0: any state, inputs meeting the condition ({inputs_text(None, ra.inputs)})"]
+    ev += [f"clock {t.clock}: code {t.code} ({b.name}: {t.other_code}), inputs {inputs_text(None, t.inputs or {})}" for t in trace[1:]]
     ev.append(f"outputs that differ at clock {trace[-1].clock}: {', '.join(outs)}")
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev)
 
@@ -344,8 +333,8 @@ def _one_clock(check: Check, b: Design, bidx: list[int], sa: dict[str, int], sb:
     idx = code_indices(check)
     na, _, _ = a.model.step(sa, ins)
     nb, _, _ = b.model.step(sb, ins)
-    trace = [TraceEntry(0, _code(a.model.states, idx, sa), dict(ins), _code(b.model.states, bidx, sb)),
-             TraceEntry(1, _code(a.model.states, idx, na), None, _code(b.model.states, bidx, nb))]
+    trace = [TraceEntry(0, code_value(a.model, idx, sa), dict(ins), code_value(b.model, bidx, sb)),
+             TraceEntry(1, code_value(a.model, idx, na), None, code_value(b.model, bidx, nb))]
     replay(a, check, trace, code=idx)
     replay(b, check, [TraceEntry(t.clock, t.other_code, t.inputs) for t in trace], code=bidx)
     return trace
@@ -364,7 +353,7 @@ def _after_trace(check: Check, b: Design, prod: Product, init: list[int], cond_i
     for t, (st, ins) in enumerate(zip(states, inputs)):
         sa = dict(zip(ma.states, st[:na]))
         sb = dict(zip(mb.states, st[na:]))
-        trace.append(TraceEntry(t + 1, _code(ma.states, idx, sa), dict(ins), _code(mb.states, bidx, sb)))
+        trace.append(TraceEntry(t + 1, code_value(ma, idx, sa), dict(ins), code_value(mb, bidx, sb)))
     replay(a, check, trace, code=idx)
     replay(b, check, [TraceEntry(t.clock, t.other_code, t.inputs) for t in trace], code=bidx)
     last = states[-1]

@@ -63,7 +63,6 @@ class Claim:
     pos: Pos
     within: Optional[int] = None  # recover within N
     cond: Optional[int] = None  # recover when / equal after: a literal over inputs
-    cond_text: Optional[str] = None
     prop: Optional[int] = None  # always
     other: Optional[Design] = None  # equal
     mode: Optional[str] = None  # equal: None, 'sequence', 'after'

@@ -121,10 +121,10 @@ class _Flattener:
         return ins, outs
 
     def instantiate(self, block: P.DesignBlock, prefix: str) -> None:
-        """Flatten ``block`` under ``prefix`` (``''`` for the top, ``'u1.'`` for a part)."""
-        if block.name in self.stack:
-            chain = " -> ".join(self.stack[self.stack.index(block.name):] + [block.name])
-            raise InputError(block.pos, f"recursive part: {chain}")
+        """Flatten ``block`` under ``prefix`` (``''`` for the top, ``'u1.'`` for a part).
+
+        A part of a design already being flattened is refused where the part
+        is placed, so the recursion always ends."""
         self.stack.append(block.name)
         # pass 1: names and widths, so statements may come in any order
         pieces: dict[str, list[P.FlopDecl]] = {}

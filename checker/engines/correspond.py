@@ -65,7 +65,7 @@ def _classes(sigs: dict[int, tuple[int, ...]], nodes: list[int], ones: int) -> l
     return [g for g in groups.values() if len(g) > 1]
 
 
-class _Frames:
+class _InductionFrames:
     """Solver literals of AIG nodes in three frames: reset ('base'), any ('hyp'), next ('step')."""
 
     def __init__(self, model: Model, init: list[int], solver: str) -> None:
@@ -129,7 +129,7 @@ def signal_correspondence(model: Model, init: list[int], bad: int, budget: Budge
     ones = (1 << runs) - 1
     classes = _classes(_signatures(model, init, nodes, runs, steps, rng), nodes, ones)
     res = Correspondence("unproved", candidates=sum(len(c) for c in classes))
-    fr = _Frames(model, init, solver)
+    fr = _InductionFrames(model, init, solver)
     try:
         # base: the candidates hold at the reset state under every input
         while classes:
@@ -163,7 +163,7 @@ def signal_correspondence(model: Model, init: list[int], bad: int, budget: Budge
         fr.sat.close()
 
 
-def _refine_step(model: Model, fr: _Frames, classes, rng: random.Random):
+def _refine_step(model: Model, fr: _InductionFrames, classes, rng: random.Random):
     """Split classes by the step model, and by that next state under random inputs.
 
     The next state came from a state meeting every candidate, so any input

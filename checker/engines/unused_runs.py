@@ -60,7 +60,7 @@ class SatSearch:
     worst_inputs: list[dict[str, int]] = field(default_factory=list)
 
 
-class _Frames:
+class _UnusedRuns:
     """Runs of unused codes over one solver, one frame at a time."""
 
     def __init__(self, space: CodeSpace, cond: int, solver: str) -> None:
@@ -133,7 +133,7 @@ def sat_search(space: CodeSpace, cond: int, within: Optional[int], budget: Budge
     docstring); returns 'open' with the depth reached when the budget or
     ``max_depth`` runs out.
     """
-    f = _Frames(space, cond, solver)
+    f = _UnusedRuns(space, cond, solver)
     budget.report(depth=0, engine="sat")
     last_path: Optional[tuple[list[int], list[dict[str, int]]]] = None
     slow: Optional[tuple[list[int], list[dict[str, int]]]] = None
@@ -189,7 +189,7 @@ def _stopped(depth: int, slow, last_path) -> SatSearch:
     return SatSearch("open", max(depth, 0), worst_at_least=None if depth < 0 else depth + 1)
 
 
-def _locked(f: _Frames, k: int, slow) -> SatSearch:
+def _locked(f: _UnusedRuns, k: int, slow) -> SatSearch:
     codes, inputs = f.read(k)
     rep = _first_repeat(codes)
     assert rep is not None, "a lasso model without a repeated code"

@@ -7,6 +7,7 @@ from typing import Sequence
 
 from tabulate import tabulate
 
+from ..claims.common import inputs_text, trace_lines
 from ..claims.recover import set_lines
 from ..claims.result import OPEN, PROVED, REFUTED, Result
 
@@ -24,26 +25,6 @@ def _short(path: str) -> str:
 def bits(code: int, width: int) -> str:
     """``code`` in binary with ``width`` digits."""
     return format(code, f"0{width}b") if width else ""
-
-
-def inputs_text(inputs: dict[str, int] | None) -> str:
-    if not inputs:
-        return "-"
-    return " ".join(f"{k}={v}" for k, v in inputs.items())
-
-
-def trace_table(trace, width: int) -> list[str]:
-    """A counterexample trace as table lines: clock, code (binary and decimal), inputs."""
-    rows = []
-    has_other = any(t.other_code is not None for t in trace)
-    for t in trace:
-        row = [t.clock, f"{bits(t.code, width)} ({t.code})"]
-        if has_other:
-            row.append("" if t.other_code is None else str(t.other_code))
-        row.append(inputs_text(t.inputs))
-        rows.append(row)
-    head = ["clock", "code"] + (["other"] if has_other else []) + ["inputs"]
-    return tabulate(rows, headers=head, tablefmt="plain").splitlines()
 
 
 def summary_counts(results: Sequence[Result]) -> dict[str, int]:
@@ -73,7 +54,7 @@ def format_results(results: Sequence[Result], widths: dict[tuple[str, str], int]
             out.append("    " + line)
         if r.trace and not r.evidence:
             w = widths.get((r.file, r.check), max(1, max(t.code for t in r.trace).bit_length()))
-            out.extend("    " + l for l in trace_table(r.trace, w))
+            out.extend("    " + line for line in trace_lines(None, r.trace, w))
         for line in r.advice:
             out.append("    | " + line)
     c = summary_counts(results)
@@ -114,7 +95,7 @@ def map_text(doc: dict) -> str:
 
 def sim_table(entries: list[dict], width: int, faults: Sequence[list[str]]) -> str:
     """A simulated run as a table: clock, code (binary and decimal), inputs, outputs, SR faults."""
-    rows = [[e["clock"], f"{bits(e['code'], width)} ({e['code']})", inputs_text(e["inputs"]),
-             inputs_text(e["outputs"])] + (["SR fault: " + ", ".join(f)] if f else [])
+    rows = [[e["clock"], f"{bits(e['code'], width)} ({e['code']})", inputs_text(None, e["inputs"]),
+             inputs_text(None, e["outputs"])] + (["SR fault: " + ", ".join(f)] if f else [])
             for e, f in zip(entries, faults)]
     return tabulate(rows, headers=["clock", "code", "inputs", "outputs"], tablefmt="simple")
