@@ -43,6 +43,7 @@ class Design:
     output_vectors: dict[str, list[str]]
     flop_kinds: dict[str, str]
     vectors: dict[str, "Symbol"]  # flattened name -> symbol (kind, bits msb first)
+    source: dict[str, P.DesignBlock] = field(default_factory=dict)  # the syntax blocks it was built from
 
     @property
     def file(self) -> str:
@@ -641,7 +642,7 @@ def elaborate_design(blocks: dict[str, P.DesignBlock], name: str) -> Design:
     model = _to_model(name, fl, inputs, outputs)
     vectors = {k: s for k, s in fl.syms.items() if s.kind != "part"}
     kinds = {b: fb.kind for b, fb in fl.flops.items()}
-    return Design(name, block.pos, model, in_vec, out_vec, kinds, vectors)
+    return Design(name, block.pos, model, in_vec, out_vec, kinds, vectors, blocks)
 
 
 # --- files and namespaces ------------------------------------------------
