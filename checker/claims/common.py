@@ -6,6 +6,7 @@ from dataclasses import dataclass
 from typing import Optional, Sequence
 
 from ..elab import Check, Claim, Design
+from ..elab.reference import Reference
 from ..model import FALSE, TRUE
 from ..engines.sat import DEFAULT_SOLVER
 from ..model.simulate import code_value, run, state_of_code
@@ -89,19 +90,63 @@ def stepping(check: Check) -> int:
                       if k is None or check.rules[k].kind == "step")
 
 
+def reference_of(design: Design) -> Optional[Reference]:
+    """The syntax-tree evaluator of ``design``, built once per design.
+
+    None when the design has no syntax blocks (it was not read from .cnl text)
+    or uses what the reference does not evaluate (``clock``, ``async``).
+    """
+    cache = design.__dict__
+    if "_reference" not in cache:
+        ref: Optional[Reference] = None
+        if design.name in design.source:
+            try:
+                ref = Reference(design.source, design.name)
+            except NotImplementedError:
+                ref = None
+        cache["_reference"] = ref
+    return cache["_reference"]
+
+
+def _first_difference(what: str, names: Sequence[str], graph: dict[str, int], ref: dict[str, int]) -> Optional[str]:
+    for n in names:
+        if graph.get(n) != ref.get(n):
+            return f"{what} {n} is {graph.get(n)} in the graph, {ref.get(n)} from the syntax tree"
+    return None
+
+
 def replay(design: Design, check: Check, trace: Sequence[TraceEntry], code: Optional[Sequence[int]] = None) -> None:
-    """Re-run ``trace`` in the simulator; raise ReplayError if any code differs.
+    """Re-run ``trace`` in the simulator and in the reference; raise ReplayError if anything differs.
 
     Clock 0 starts at the trace's first code; each entry's inputs drive the
     step to the next entry, whose code must be what the simulator computes.
-    ``code`` gives the state indices of the code in ``design`` (default: the
-    check's code, for the check's own design).
+    At every clock the graph's next state, outputs and SR faults must also
+    equal those that :class:`checker.reference.Reference` computes from the
+    design's syntax tree, so that a wrong equation in elaboration cannot be
+    proved and replayed by the same graph. ``code`` gives the state indices of
+    the code in ``design`` (default: the check's code, for the check's own
+    design).
     """
     model = design.model
+    ref = reference_of(design)
     idx = list(check.code if code is None else code)
     state = state_of_code(model, idx, trace[0].code)
     for k in range(len(trace) - 1):
-        state = run(model, state, [trace[k].inputs or {}], 1)[1].state
+        given = trace[k].inputs or {}
+        inp = {i: given.get(i, 0) & 1 for i in model.inputs}
+        nxt, outs, faults = model.step(state, inp)
+        if ref is not None:
+            r_nxt, r_outs, r_faults = ref.step(state, inp)
+            diff = (_first_difference("next state bit", model.states, nxt, r_nxt)
+                    or _first_difference("output", model.outputs, outs, r_outs)
+                    or (None if sorted(faults) == sorted(r_faults) else
+                        f"SR faults are {sorted(faults)} in the graph, {sorted(r_faults)} from the syntax tree"))
+            if diff is None and (set(ref.states) != set(model.states) or set(ref.outputs) != set(model.outputs)):
+                diff = "the graph and the syntax tree name different flop or output bits"
+            if diff is not None:
+                raise ReplayError(f"{design.name} disagrees with its own source at clock {k} "
+                                  f"(the step to clock {k + 1}): {diff}")
+        state = nxt
         got = code_value(model, idx, state)
         if got != trace[k + 1].code:
             raise ReplayError(f"trace does not replay in {design.name}: clock {k + 1} gives {got}, trace says {trace[k + 1].code}")

@@ -6,6 +6,7 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Optional
 
 from ..errors import Pos
+from ..lang import parse as P
 from ..model import Model
 from ..model.simulate import code_value, state_of_code
 from ..model.space import CodeSpace
@@ -38,6 +39,7 @@ class Design:
     output_vectors: dict[str, list[str]]
     flop_kinds: dict[str, str]
     vectors: dict[str, "Symbol"]  # flattened name -> symbol (kind, bits msb first)
+    source: dict[str, P.DesignBlock] = field(default_factory=dict)  # the syntax blocks it was built from
 
     @property
     def file(self) -> str:

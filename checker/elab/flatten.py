@@ -412,4 +412,4 @@ def elaborate_design(blocks: dict[str, P.DesignBlock], name: str) -> Design:
     model = _to_model(name, fl, inputs, outputs)
     vectors = {k: s for k, s in fl.syms.items() if s.kind != "part"}
     kinds = {b: fb.kind for b, fb in fl.flops.items()}
-    return Design(name, block.pos, model, in_vec, out_vec, kinds, vectors)
+    return Design(name, block.pos, model, in_vec, out_vec, kinds, vectors, blocks)
