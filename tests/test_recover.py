@@ -256,6 +256,9 @@ def test_cases_recover_claims_agree():
                 assert a.details["worst"] == b.details["worst"], (path, claim.pos.line)
                 if a.status == REFUTED and b.details["locked"]:
                     assert any(set(b.details["locked"][0]) <= set(s) for s in a.details["locked"])
+                    # contract v2: a list that may be partial says so; the exhaustive one is complete
+                    assert b.details["locked_complete"] is False
+                    assert a.details["locked_complete"] is True
                 seen += 1
     if seen == 0:
         pytest.skip("no recover claims in cases/ yet")

@@ -9,7 +9,7 @@ from ..elab import Check, Claim, Design
 from ..elab.reference import Reference
 from ..model import FALSE, TRUE
 from ..engines.sat import DEFAULT_SOLVER
-from ..model.simulate import code_value, run, state_of_code
+from ..model.simulate import code_value, state_of_code
 from .result import Result, TraceEntry
 
 

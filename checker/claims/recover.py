@@ -162,6 +162,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
     sets = a.locked_json()
     listed, cut = locked_listing(sets)
     details["locked"] = listed
+    details["locked_complete"] = not cut
     if cut:
         details["locked_truncated"] = True
     evidence = [f"engine explicit: {g.size} codes, {a.unused_count} unused, {len(g.rows)} input row(s)"]
@@ -222,6 +223,7 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
     if s.status == "locked":
         trace = _replayed(check, s.codes, s.inputs)
         details["locked"] = [s.cycle]
+        details["locked_complete"] = False  # one cycle found; other locked sets may exist
         details["worst"] = None
         loop = s.codes[s.codes.index(s.codes[-1]):]
         evidence.append(f"engine sat: a locked cycle of {len(s.cycle)} unused code(s): {_arrow(loop)}")

@@ -156,7 +156,9 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
     if analysis is not None:
         doc.analysis = analysis
         doc["worst"] = analysis.worst
-        doc["locked"] = locked_listing(analysis.locked_json())[0]
+        doc["locked"], cut = locked_listing(analysis.locked_json())
+        if cut:
+            doc["locked_complete"] = False
         doc["unused"] = _entries(analysis, _order(analysis, limit))
         return doc
     s = sat_search(check.space, lit, None, budget, opts.solver)
@@ -165,6 +167,7 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
         return doc
     if s.status == "locked":
         doc["locked"] = [s.cycle]
+        doc["locked_complete"] = False  # the SAT engine shows one cycle; others may exist
         doc["unused"] = [_run_entry(s.codes, None)][:limit]
         return doc
     doc["worst"] = s.worst
