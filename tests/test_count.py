@@ -636,3 +636,23 @@ def test_an_expired_budget_gives_open_never_proved(tmp_path):
     res = count.prove(chk, claim, Options(), Budget(time.monotonic() - 1))
     assert res.status == "open"
     assert count.prove(chk, claim, Options(), Budget(time.monotonic() + 60)).status == PROVED
+
+
+def test_load_takes_a_literal_in_any_radix(tmp_path):
+    # contract v2, "Lexical rules": a literal is a number wherever a code is read, so
+    # `load 0b1` on a 3-bit code loads code 1 (before v2 it was refused as too narrow)
+    text = """design crate
+  in go, reset
+  flop q[2:0] : D (d = mux(reset, mux(go, q, {{q[1], q[0], !q[2]}}), 0b001))
+end
+check crates of crate
+  code q
+  count johnson
+  load {lit} when reset
+  hold when !go
+end
+"""
+    for lit in ("0b1", "0x1", "1", "0b001"):
+        chk = load(tmp_path, text.format(lit=lit))
+        assert chk.checks[0].rules[0].load_const == 1
+        assert prove_count(chk.checks[0]).status == PROVED
