@@ -247,6 +247,8 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     chk = load(path).find_check(check)
     if chk.sequence is None:
         raise InputError(chk.pos, f"check {chk.name} has no count line, so it has no unused codes to map")
+    if not chk.design.model.synchronous:
+        raise InputError(chk.pos, f"the map of an asynchronous design ({chk.design.name}) is not supported yet")
     cond = None if when is None else condition_literal(chk.design, parse_expr("--when", when))
     value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout)
     if not finished:
@@ -282,8 +284,18 @@ class SimRun:
     def entries(self) -> list[dict]:
         """The contract's ``sim --json`` trace entries."""
         m = self.design.model
-        return [{"clock": s.clock, "code": code_value(m, self.code, s.state), "inputs": s.inputs,
-                 "outputs": s.outputs} for s in self.steps]
+        out = []
+        for s in self.steps:
+            e = {"clock": s.clock, "code": code_value(m, self.code, s.state), "inputs": s.inputs,
+                 "outputs": s.outputs}
+            if not m.synchronous:
+                e["events"] = [{"flop": m.states[f.flop], "value": f.value, "depth": f.depth, "time": t,
+                                "code": sum(((f.code >> i) & 1) << (len(self.code) - 1 - k)
+                                            for k, i in enumerate(self.code))} for t, f in s.events]
+                if not s.settled:
+                    e["settled"] = False
+            out.append(e)
+        return out
 
 
 def _cmdline(message: str) -> InputError:
@@ -428,9 +440,10 @@ def render_compare(doc: dict) -> str:
     return _compare.format_compare(doc)
 
 
-def render_sim(s: SimRun) -> str:
-    """The readable table of a simulated run."""
-    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps])
+def render_sim(s: SimRun, events: bool = False) -> str:
+    """The readable table of a simulated run; with ``events``, the firings between clocks
+    of an asynchronous design under each row."""
+    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps], events)
 
 
 def json_check(run: CheckRun) -> str:

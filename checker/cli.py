@@ -69,7 +69,7 @@ def cmd_sim(args) -> int:
     run = api.simulate(args.file, args.design, args.start, args.code, args.set or [], args.cycles, args.trace)
     if args.vcd:
         api.write_vcd(run, args.vcd)
-    _emit(args.json, api.json_sim(run), api.render_sim(run))
+    _emit(args.json, api.json_sim(run), api.render_sim(run, args.events))
     return 0
 
 
@@ -145,6 +145,8 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--cycles", type=int, default=None, metavar="N", help="clocks to run (default 16)")
     sp.add_argument("--trace", metavar="FILE", help="replay the inputs and start of a JSON trace printed by check")
     sp.add_argument("--vcd", metavar="FILE", help="write the run as an IEEE 1364 value change dump")
+    sp.add_argument("--events", action="store_true",
+                    help="an asynchronous design: print the firings between clocks (unit delays)")
     sp.add_argument("--json", action="store_true", help="one JSON document on stdout")
     sp.set_defaults(func=cmd_sim)
 

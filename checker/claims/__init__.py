@@ -11,12 +11,13 @@ from typing import Callable
 
 from ..elab import Check, Claim
 from ..engines.budget import Budget, run_bounded
-from . import always, count, equal, recover
+from . import always, count, equal, glitchfree, recover, settle
 from .common import Options, make_result
 from .result import OPEN, Result
 
 PROVERS: dict[str, Callable[[Check, Claim, Options, Budget], Result]] = {
     "count": count.prove, "always": always.prove, "recover": recover.prove, "equal": equal.prove,
+    "settle": settle.prove, "glitchfree": glitchfree.prove,
 }
 
 

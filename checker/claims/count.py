@@ -17,11 +17,15 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Optional
 
-from ..engines.budget import Budget
+from ..engines.budget import Budget, OutOfBudget
+from ..engines.cascade import CascadeLimit, Exploration, never_settling, settling_in
 from ..elab import Check, Claim
 from ..model import FALSE, TRUE, Aig, evaluate
+from ..model.events import EventModel
 from ..engines.sat import Sat, Unrolling
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
+from .clocking import (code_of, events_json, order_lines, replay_order, require_explicit, starts, state_of,
+                       warning_lines)
 from .common import Options, ReplayError, make_result, regions, replay, rule_spec, trace_lines
 
 
@@ -247,6 +251,8 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget, split: bool
     fault occurs in a code of the sequence. UNSAT of every question is the proof."""
     seq = check.sequence
     assert seq is not None
+    if not check.design.model.synchronous:
+        return _prove_settled(check, claim, budget)
     with Sat(opts.solver) as sat:
         p = build_count(check, sat, split)
         details = {"engine": "sat", "solver": opts.solver, "vars": sat.nvars, "clauses": sat.nclauses,
@@ -262,3 +268,52 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget, split: bool
         return make_result(check, claim, PROVED,
                            f"every code of the sequence ({seq.describe()}) steps as the rules say",
                            details=details)
+
+
+def _prove_settled(check: Check, claim: Claim, budget: Budget) -> Result:
+    """The count claim on an asynchronous design: every order of every clock from a code of
+    the sequence, under every input the rules decide, settles in the rules' next code."""
+    require_explicit(check, "count")
+    model = check.design.model
+    ems: dict[tuple, EventModel] = {}
+    visited = 0
+    try:
+        for code, inputs in starts(check, None, budget):
+            expected = reference_next(check, code, inputs)
+            if expected is None:
+                continue
+            key = tuple(sorted(inputs.items()))
+            em = ems.get(key)
+            if em is None:
+                em = ems[key] = EventModel(model, inputs)
+            ex = Exploration(em)
+            root, out = ex.explore(state_of(check, code))
+            visited += len(ex.memo)
+            wrong = sorted(code_of(check, s) for s in out.settled if code_of(check, s) != expected)
+            if not out.never and not wrong:
+                continue
+            order = never_settling(ex, root) if out.never else settling_in(ex, root, state_of(check, wrong[0]))
+            replay_order(em, root.code, order)
+            entry = TraceEntry(0, code, dict(inputs), events=events_json(check, order))
+            warns = warning_lines(order)
+            if out.never:
+                trace = [entry]
+                summary = f"from code {code} an order of firings never settles"
+                details = {"engine": "explicit", "expected": expected, "actual": None, "warnings": warns}
+            else:
+                actual = code_of(check, order[-1].code) if order else code
+                trace = [entry, TraceEntry(1, actual)]
+                summary = f"code {code} can settle in {actual}, the rules say {expected}"
+                details = {"engine": "explicit", "expected": expected, "actual": actual,
+                           "settled": sorted(code_of(check, s) for s in out.settled), "warnings": warns}
+            lines = [summary + "; the order of firings:"] + order_lines(check, root.code, order) + warns
+            return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=lines)
+    except CascadeLimit as e:
+        return make_result(check, claim, OPEN, f"the explicit cascade engine reached its limit: {e}",
+                           details={"engine": "explicit", "depth": None})
+    except OutOfBudget:
+        return make_result(check, claim, OPEN, "ran out of time visiting the sequence",
+                           details={"engine": "explicit", "depth": None})
+    return make_result(check, claim, PROVED, f"every order of every clock from the sequence "
+                       f"({check.sequence.describe()}) settles where the rules say",
+                       details={"engine": "explicit", "cascade_states": visited})

@@ -16,6 +16,7 @@ class TraceEntry:
     code: int
     inputs: Optional[dict[str, int]] = None  # None on the last entry when no inputs matter
     other_code: Optional[int] = None  # equal claims: the other design's code
+    events: Optional[list[dict]] = None  # asynchronous designs: the firings of this clock, in order
 
     def to_json(self) -> dict:
         d: dict[str, Any] = {"clock": self.clock, "code": self.code}
@@ -23,6 +24,8 @@ class TraceEntry:
             d["inputs"] = dict(self.inputs)
         if self.other_code is not None:
             d["other_code"] = self.other_code
+        if self.events is not None:
+            d["events"] = [dict(e) for e in self.events]
         return d
 
 

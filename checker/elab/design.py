@@ -61,7 +61,7 @@ class Rule:
 class Claim:
     """One claim of a check block."""
 
-    kind: str  # count, recover, always, equal
+    kind: str  # count, recover, always, equal, settle, glitchfree
     pos: Pos
     within: Optional[int] = None  # recover within N
     cond: Optional[int] = None  # recover when / equal after: a literal over inputs
@@ -69,6 +69,7 @@ class Claim:
     other: Optional[Design] = None  # equal
     mode: Optional[str] = None  # equal: None, 'sequence', 'after'
     other_cond: Optional[int] = None  # equal after: COND built in the other design too
+    signals: list[tuple[str, int]] = field(default_factory=list)  # glitchfree: (bit name, literal)
 
 
 @dataclass

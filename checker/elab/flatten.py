@@ -29,6 +29,9 @@ class _FlopBit:
     pins: dict[str, tuple[BExpr, Pos]] = field(default_factory=dict)
     clear: Optional[BExpr] = None
     preset: Optional[BExpr] = None
+    aclear: Optional[BExpr] = None  # asynchronous clear
+    apreset: Optional[BExpr] = None
+    clock: Optional[tuple[str, BExpr, Pos]] = None  # (edge, signal, where written); None: the system clock
 
 
 def _decl_text(d: P.Decl) -> str:
@@ -196,15 +199,15 @@ class _Flattener:
         if s.pins is None:
             shown = ", ".join(f"{p} = ..." for p in want)
             raise InputError(s.kind_pos, f"a {kind} flop names its pins in parentheses: flop {local} : {kind} ({shown})")
-        if s.clock is not None:
-            raise InputError(s.clock.pos, "flops clocked by another flop are not supported yet; "
-                                          "every flop samples on the system clock")
-        for what, is_async, e in (("clear", s.clear_async, s.clear), ("preset", s.preset_async, s.preset)):
-            if is_async:
-                raise InputError(e.pos, f"an asynchronous {what} is not supported yet; "
-                                        f"'{what} EXPR' without async acts at the clock edge")
         bits = _decl_bits(s.decl, prefix)
         n = len(bits)
+        clock: list[Optional[tuple[str, BExpr, Pos]]] = [None] * n
+        if s.clock is not None:
+            sig = self.vec(s.clock.signal, prefix, n)
+            if len(sig) == 1:
+                sig = sig * n
+            self.need_width(sig, n, s.clock.signal, f"the clock of {local}")
+            clock = [(s.clock.edge, x, s.clock.pos) for x in sig]
         pins: dict[str, list[BExpr]] = {}
         pin_pos: dict[str, Pos] = {}
         for pin in s.pins:
@@ -222,9 +225,11 @@ class _Flattener:
                                     f"a {kind} flop names {', '.join(want)}")
         clear = None if s.clear is None else self.bit(s.clear, prefix, "clear")
         preset = None if s.preset is None else self.bit(s.preset, prefix, "preset")
+        sync_clear, async_clear = (None, clear) if s.clear_async else (clear, None)
+        sync_preset, async_preset = (None, preset) if s.preset_async else (preset, None)
         for k, b in enumerate(bits):
             self.flops[b] = _FlopBit(kind, s.pos, {p: (v[k], pin_pos[p]) for p, v in pins.items()},
-                                     clear, preset)
+                                     sync_clear, sync_preset, async_clear, async_preset, clock[k])
 
     def bit(self, e: P.Expr, prefix: str, what: str) -> BExpr:
         """A single-bit EXPR: a number in it is a bit, never widened."""
@@ -355,6 +360,24 @@ def _comb_order(fl: _Flattener, leaves: set[str]) -> list[str]:
     return order
 
 
+def _clock_source(fl: _Flattener, flop: str, x: BExpr, where: Pos) -> str:
+    """The flop bit a clock comes from, through plain copies (nodes, outputs, part inputs) only."""
+    seen = x
+    while True:
+        if x[0] != "r":
+            raise InputError(where, f"the clock of flop {flop} passes through a gate; a clock is a flop bit or "
+                                    f"a plain copy of one (use 'clock fall' for an inverted clock)")
+        name = x[1]
+        if name in fl.flops:
+            return name
+        if name not in fl.comb:
+            raise InputError(where, f"the clock of flop {flop} traces to input {name} of the top design; "
+                                    f"flops on the system clock need no clock, and a clock is a flop bit")
+        x = fl.comb[name][0]
+        if x is seen:  # pragma: no cover - combinational loops are refused before this
+            raise InputError(where, f"the clock of flop {flop} runs in a loop")
+
+
 def _to_model(name: str, fl: _Flattener, inputs: list[str], outputs: list[str]) -> Model:
     m = Model(name)
     aig = m.aig
@@ -369,6 +392,7 @@ def _to_model(name: str, fl: _Flattener, inputs: list[str], outputs: list[str]) 
         m.state_lits.append(lit[b])
     for b in _comb_order(fl, set(lit)):
         lit[b] = build(aig, fl.comb[b][0], lit)
+    index = {s: i for i, s in enumerate(m.states)}
     for b, fb in fl.flops.items():
         q = lit[b]
         pin = {p: build(aig, x, lit) for p, (x, _) in fb.pins.items()}
@@ -383,6 +407,13 @@ def _to_model(name: str, fl: _Flattener, inputs: list[str], outputs: list[str]) 
         clr = FALSE if fb.clear is None else build(aig, fb.clear, lit)
         pre = FALSE if fb.preset is None else build(aig, fb.preset, lit)
         m.next_lits.append(aig.and_(clr ^ 1, aig.or_(pre, f)))
+        m.async_clear.append(FALSE if fb.aclear is None else build(aig, fb.aclear, lit))
+        m.async_preset.append(FALSE if fb.apreset is None else build(aig, fb.apreset, lit))
+        if fb.clock is None:
+            m.clocks.append(None)
+        else:
+            edge, x, where = fb.clock
+            m.clocks.append((edge, index[_clock_source(fl, b, x, where)]))
         if fb.kind == "SR":
             fault = aig.and_all([pin["s"], pin["r"], clr ^ 1, pre ^ 1])
             m.faults.append((b, fault))

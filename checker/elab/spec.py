@@ -206,13 +206,11 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
     cond_scope = _Scope(design, "cond")
     claims: list[Claim] = []
     for s in c.stmts:
-        if isinstance(s, (P.SettleStmt, P.GlitchStmt)):
-            word = "settle" if isinstance(s, P.SettleStmt) else "glitchfree"
-            raise InputError(s.pos, f"'{word}' claims are not supported yet (they need the event model "
-                                    f"of asynchronous designs)")
-        if isinstance(s, (P.RuleStmt, P.RecoverStmt, P.AlwaysStmt)) or (isinstance(s, P.EqualStmt) and s.mode == "sequence"):
+        if isinstance(s, (P.RuleStmt, P.RecoverStmt, P.AlwaysStmt, P.SettleStmt, P.GlitchStmt)) or (isinstance(s, P.EqualStmt) and s.mode == "sequence"):
             if chk.sequence is None:
-                what = s.kind if isinstance(s, P.RuleStmt) else {P.RecoverStmt: "recover", P.AlwaysStmt: "always", P.EqualStmt: "equal on sequence"}[type(s)]
+                what = s.kind if isinstance(s, P.RuleStmt) else {
+                    P.RecoverStmt: "recover", P.AlwaysStmt: "always", P.EqualStmt: "equal on sequence",
+                    P.SettleStmt: "settle", P.GlitchStmt: "glitchfree"}[type(s)]
                 raise InputError(s.pos, f"{what} needs a count line (the sequence) in its check")
         if isinstance(s, P.RuleStmt):
             r = Rule(s.kind, cond_scope.bit(s.cond, "a rule's condition"), s.pos)
@@ -231,8 +229,14 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
         elif isinstance(s, P.CountStmt):
             claims.append(Claim("count", s.pos))
         elif isinstance(s, P.RecoverStmt):
+            _synchronous_only(s.pos, "recover", design)
             cond = None if s.cond is None else cond_scope.bit(s.cond, "a recover condition")
             claims.append(Claim("recover", s.pos, within=s.within, cond=cond))
+        elif isinstance(s, P.SettleStmt):
+            claims.append(Claim("settle", s.pos, within=s.within))
+        elif isinstance(s, P.GlitchStmt):
+            cond = None if s.cond is None else cond_scope.bit(s.cond, "a glitchfree condition")
+            claims.append(Claim("glitchfree", s.pos, cond=cond, signals=_watched(design, s.signals)))
         elif isinstance(s, P.AlwaysStmt):
             prop = _Scope(design, "prop", chk.code).bit(s.prop, "an always property")
             claims.append(Claim("always", s.pos, prop=prop))
@@ -241,6 +245,8 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
             if other is None:
                 raise InputError(s.design_pos, f"unknown design '{s.design}'")
             _same_names(s, design, other, paired=s.mode != "after")
+            for d in (design, other):
+                _synchronous_only(s.pos, "equal", d)
             cl = Claim("equal", s.pos, other=other, mode=s.mode)
             if s.mode == "after":
                 assert s.cond is not None
@@ -249,6 +255,31 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
             claims.append(cl)
     chk.claims = claims
     return chk
+
+
+def _synchronous_only(pos: Pos, what: str, design: Design) -> None:
+    if not design.model.synchronous:
+        raise InputError(pos, f"{what} on an asynchronous design ({design.name} has flops clocked by "
+                              f"flops, or an asynchronous clear or preset) is not supported yet; "
+                              f"count, always, settle and glitchfree are")
+
+
+def _watched(design: Design, exprs: list[P.Expr]) -> list[tuple[str, int]]:
+    """The bits a glitchfree claim watches: outputs or nodes, bits or whole vectors."""
+    out: list[tuple[str, int]] = []
+    for e in exprs:
+        if not isinstance(e, P.Ref):
+            raise InputError(e.pos, "glitchfree watches named outputs or nodes (a bit or a vector), not expressions")
+        name = e.dotted
+        sym = design.vectors.get(name)
+        if sym is None:
+            raise InputError(e.pos, f"design {design.name} has no signal '{name}'")
+        if sym.kind not in ("out", "node") or "." in name:
+            raise InputError(e.pos, f"glitchfree watches outputs and nodes; '{name}' is {kind_text(sym.kind)}")
+        for b in select_bits(sym, e.index, name):
+            if b not in {n for n, _ in out}:
+                out.append((b, design.model.signals[b]))
+    return out
 
 
 def condition_literal(design: Design, expr: P.Expr) -> int:

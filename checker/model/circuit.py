@@ -13,14 +13,23 @@ from .aig import Aig, evaluate
 
 @dataclass
 class Model:
-    """A synchronous circuit: state bits, inputs, next-state and output nodes.
+    """A circuit: state bits, inputs, next-state and output nodes, and each flop's clocking.
 
     ``states`` and ``inputs`` are bit names in declaration order after
     flattening (most significant first within a vector). ``state_lits[i]`` is
-    the leaf literal of ``states[i]``; ``next_lits[i]`` its next value at the
-    clock edge. ``faults`` holds, per SR flop bit, the literal that is 1 when
-    s = r = 1 with clear and preset both 0. ``signals`` maps every named bit of
-    the design (inputs, flops, nodes, outputs) to its literal.
+    the leaf literal of ``states[i]``; ``next_lits[i]`` the value it samples
+    at its clock edge (pins and synchronous clear/preset). ``faults`` holds,
+    per SR flop bit, the literal that is 1 when s = r = 1 with clear and preset
+    both 0. ``signals`` maps every named bit of the design (inputs, flops,
+    nodes, outputs) to its literal.
+
+    Clocking, per state bit (empty lists: every flop on the system clock, no
+    asynchronous clear or preset): ``clocks[i]`` is None for the system clock
+    or ``(edge, j)``, edge 'rise' or 'fall' of state bit j; ``async_clear[i]``
+    and ``async_preset[i]`` are literals (FALSE when there is none). A model
+    whose flops all use the system clock and have no asynchronous clear or
+    preset is synchronous, and ``step`` is its one clock; any other is read
+    through the event model (:mod:`checker.model.events`).
     """
 
     name: str
@@ -34,6 +43,15 @@ class Model:
     output_lits: list[int] = field(default_factory=list)
     faults: list[tuple[str, int]] = field(default_factory=list)
     signals: dict[str, int] = field(default_factory=dict)
+    clocks: list = field(default_factory=list)
+    async_clear: list[int] = field(default_factory=list)
+    async_preset: list[int] = field(default_factory=list)
+
+    @property
+    def synchronous(self) -> bool:
+        """Every flop on the system clock, no asynchronous clear or preset."""
+        return (all(c is None for c in self.clocks) and not any(self.async_clear)
+                and not any(self.async_preset))
 
     def step(self, state: dict[str, int], inputs: dict[str, int]) -> tuple[dict[str, int], dict[str, int], list[str]]:
         """One clock from concrete values: (next state, outputs, SR faults hit).

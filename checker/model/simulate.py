@@ -14,6 +14,7 @@ import numpy as np
 
 from .aig import evaluate
 from .circuit import Model
+from .events import EventModel, Firing, unit_delay
 
 
 @dataclass
@@ -25,13 +26,18 @@ class Step:
     inputs: dict[str, int] = field(default_factory=dict)
     outputs: dict[str, int] = field(default_factory=dict)
     faults: list[str] = field(default_factory=list)
+    events: list[tuple[int, Firing]] = field(default_factory=list)  # (time, firing) of the clock that follows
+    settled: bool = True  # False: the cascade after this clock did not settle (asynchronous designs)
 
 
 def run(model: Model, start: dict[str, int], inputs: Sequence[dict[str, int]], cycles: Optional[int] = None) -> list[Step]:
     """Clock ``model`` from ``start``; ``inputs[i]`` drives clock i (the last one repeats).
 
     Returns ``cycles + 1`` steps (clock 0 is ``start``); the last step's inputs
-    are those it would see next, so its outputs are defined too.
+    are those it would see next, so its outputs are defined too. An
+    asynchronous design is clocked through the event model with unit delays
+    (every pending change of depth k fires at time k); each step keeps the
+    firings of the cascade that follows it.
     """
     n = len(inputs) if cycles is None else cycles
     steps: list[Step] = []
@@ -43,7 +49,13 @@ def run(model: Model, start: dict[str, int], inputs: Sequence[dict[str, int]], c
             inp = {}
         inp = {i: inp.get(i, 0) & 1 for i in model.inputs}
         nxt, outs, faults = model.step(state, inp)
-        steps.append(Step(clock, dict(state), inp, outs, faults))
+        step = Step(clock, dict(state), inp, outs, faults)
+        if not model.synchronous:
+            code = sum((state[s] & 1) << i for i, s in enumerate(model.states))
+            settled_code, times, step.settled = unit_delay(EventModel(model, inp), code)
+            step.events = [(t + 1, f) for t, fired in enumerate(times) for f in fired]
+            nxt = {s: (settled_code >> i) & 1 for i, s in enumerate(model.states)}
+        steps.append(step)
         state = nxt
     return steps
 

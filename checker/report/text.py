@@ -93,9 +93,18 @@ def map_text(doc: dict) -> str:
     return "\n".join(map_lines(doc))
 
 
-def sim_table(entries: list[dict], width: int, faults: Sequence[list[str]]) -> str:
-    """A simulated run as a table: clock, code (binary and decimal), inputs, outputs, SR faults."""
-    rows = [[e["clock"], f"{bits(e['code'], width)} ({e['code']})", inputs_text(None, e["inputs"]),
-             inputs_text(None, e["outputs"])] + (["SR fault: " + ", ".join(f)] if f else [])
-            for e, f in zip(entries, faults)]
+def sim_table(entries: list[dict], width: int, faults: Sequence[list[str]], events: bool = False) -> str:
+    """A simulated run as a table: clock, code (binary and decimal), inputs, outputs, SR faults;
+    with ``events``, each clock's firings (time, flop, value, code after) in rows of their own."""
+    rows = []
+    for e, f in zip(entries, faults):
+        note = ["SR fault: " + ", ".join(f)] if f else []
+        if e.get("settled") is False:
+            note.append("the cascade after this clock did not settle")
+        rows.append([e["clock"], f"{bits(e['code'], width)} ({e['code']})", inputs_text(None, e["inputs"]),
+                     inputs_text(None, e["outputs"])] + (["; ".join(note)] if note else []))
+        if events:
+            for ev in e.get("events", []):
+                rows.append(["", f"  t+{ev['time']}: {ev['flop']} -> {ev['value']}  "
+                                 f"{bits(ev['code'], width)} ({ev['code']})", "", ""])
     return tabulate(rows, headers=["clock", "code", "inputs", "outputs"], tablefmt="simple")

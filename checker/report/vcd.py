@@ -33,13 +33,25 @@ def write_vcd(design: Design, steps: Sequence[Step], path: str, period_ns: int =
             full = top + ("." + scope if scope else "")
             v = w.register_var(full, short, "wire", size=len(bits))
             vars_.append((v, bits))
-        for s in steps:
-            t = s.clock * period_ns
-            values = {**s.state, **s.inputs, **s.outputs}
+        # an asynchronous design: its firings follow the edge, one nanosecond per depth,
+        # so the period is long enough for the deepest cascade of the run
+        deepest = max((t for s in steps for t, _ in s.events), default=0)
+        period = max(period_ns, 2 * (deepest + 2))
+        names = design.model.states
+
+        def dump(t: int, values: dict) -> None:
             for v, bits in vars_:
                 val = 0
                 for b in bits:
                     val = (val << 1) | (values.get(b, 0) & 1)
                 w.change(v, t, val)
+
+        for s in steps:
+            t = s.clock * period
+            values = {**s.state, **s.inputs, **s.outputs}
+            dump(t, values)
             w.change(clk, t, 0)
-            w.change(clk, t + period_ns // 2, 1)
+            w.change(clk, t + period // 2, 1)
+            for when, f in s.events:
+                values[names[f.flop]] = f.value
+                dump(t + period // 2 + when, values)

@@ -69,6 +69,9 @@ def export_cnf(check: Check, claim: Claim, path: str) -> dict:
     if claim.kind not in ("count", "always"):
         raise ValueError(f"a {claim.kind} claim cannot be written as CNF yet; "
                          f"only count and always claims can")
+    if claim.kind == "count" and not check.design.model.synchronous:
+        raise ValueError("the count claim of an asynchronous design is decided order by order, "
+                         "not by one SAT question, so it has no CNF")
     with Sat(record=True) as sat:
         if claim.kind == "count":
             p = build_count(check, sat)

@@ -1,0 +1,138 @@
+"""What the claims about one clock's cascade share: starts, orders as evidence, replay.
+
+The explicit path of ``settle``, ``glitchfree`` and the asynchronous ``count``
+visits every code of the sequence under every admissible input and explores
+every order of that clock (:mod:`checker.engines.cascade`). Codes of the
+check (most significant first over ``check.code``) and the event model's state
+integers (bit ``i`` is ``model.states[i]``) convert here; so do orders to the
+JSON ``events`` of a trace entry. Every order shown is replayed first,
+firing by firing, through the event model.
+"""
+
+from __future__ import annotations
+
+import itertools
+from typing import Iterator, Optional
+
+from ..elab import Check
+from ..engines.budget import Budget
+from ..errors import InputError
+from ..model.aig import evaluate
+from ..model.events import EventModel, Firing
+from .common import ReplayError
+
+MAX_START_POINTS = 1 << 20
+"""Most (sequence code, input) pairs the explicit path visits for one claim."""
+
+MAX_INPUT_BITS = 16
+"""Most input bits the explicit path enumerates."""
+
+
+def state_of(check: Check, code: int) -> int:
+    """The event model's state integer of a check code."""
+    w = check.width
+    return sum(((code >> (w - 1 - k)) & 1) << i for k, i in enumerate(check.code))
+
+
+def code_of(check: Check, state: int) -> int:
+    """The check code of an event-model state integer."""
+    v = 0
+    for i in check.code:
+        v = (v << 1) | ((state >> i) & 1)
+    return v
+
+
+def explicit_limit(check: Check) -> Optional[str]:
+    """Why the explicit path cannot visit every start of ``check``, or None when it can."""
+    m = check.design.model
+    seq = check.sequence
+    assert seq is not None
+    if len(m.inputs) > MAX_INPUT_BITS:
+        return f"{len(m.inputs)} input bits (the explicit cascade engine enumerates up to {MAX_INPUT_BITS})"
+    if len(m.states) != check.width:
+        return "the code does not name every flop"
+    starts = seq.length() << len(m.inputs)
+    if starts > MAX_START_POINTS:
+        return (f"{seq.length()} sequence codes under {2 ** len(m.inputs)} inputs "
+                f"(the explicit cascade engine visits up to {MAX_START_POINTS:,} pairs)")
+    return None
+
+
+def starts(check: Check, cond: Optional[int], budget: Budget) -> Iterator[tuple[int, dict[str, int]]]:
+    """Every (sequence code, inputs meeting ``cond``), checking the budget as it goes."""
+    m = check.design.model
+    seq = check.sequence
+    assert seq is not None
+    combos = []
+    for bits in itertools.product((0, 1), repeat=len(m.inputs)):
+        inputs = dict(zip(m.inputs, bits))
+        if cond is not None:
+            lv = {l >> 1: v for l, v in zip(m.input_lits, bits)}
+            lv.update({l >> 1: 0 for l in m.state_lits})
+            if not evaluate(m.aig, lv, [cond], 1)[0]:
+                continue
+        combos.append(inputs)
+    for k, code in enumerate(seq.codes()):
+        if k % 64 == 0:
+            budget.check(k)
+        for inputs in combos:
+            yield code, inputs
+
+
+def require_explicit(check: Check, what: str) -> None:
+    """An InputError at the claim's check when the explicit path cannot take it."""
+    why = explicit_limit(check)
+    if why is not None:
+        raise InputError(check.code_pos or check.pos,
+                         f"{what} on this asynchronous design needs the explicit cascade engine, "
+                         f"which cannot take it: {why}")
+
+
+def events_json(check: Check, firings: list[Firing]) -> list[dict]:
+    """An order as the JSON ``events`` of a trace entry (``code``: the check code after the firing)."""
+    names = check.design.model.states
+    return [{"flop": names[f.flop], "value": f.value, "code": code_of(check, f.code), "depth": f.depth}
+            for f in firings]
+
+
+def replay_order(em: EventModel, start: int, firings: list[Firing]) -> list[int]:
+    """Fire ``firings`` again from ``start`` through the event model; the codes after each.
+
+    Raises ReplayError when a firing is not pending at its turn or lands elsewhere.
+    """
+    state = em.edge(start)
+    codes = [start]
+    for f in firings:
+        if not any(c.flop == f.flop and c.value == f.value for c in state.pending):
+            raise ReplayError(f"replay: {em.model.states[f.flop]} -> {f.value} is not pending at its turn")
+        state, again = em.fire(state, f.flop)
+        if again.code != f.code:
+            raise ReplayError(f"replay: firing {em.model.states[f.flop]} gives state {again.code}, not {f.code}")
+        codes.append(state.code)
+    return codes
+
+
+def order_lines(check: Check, start: int, firings: list[Firing]) -> list[str]:
+    """An order for people: each firing, the flop's new value, the code after it, its depth."""
+    w = check.width
+    names = check.design.model.states
+    lines = [f"  start  {code_of(check, start):0{w}b} ({code_of(check, start)})"]
+    for f in firings:
+        c = code_of(check, f.code)
+        lines.append(f"  {names[f.flop]} -> {f.value}  {c:0{w}b} ({c})  depth {f.depth}")
+        for wn in f.warnings:
+            lines.append(f"    {wn.kind}: {wn.text}")
+    return lines
+
+
+def warning_lines(firings: list[Firing]) -> list[str]:
+    """Short pulses and races met along an order, in a designer's words."""
+    out = []
+    for f in firings:
+        for w in f.warnings:
+            if w.kind == "short pulse":
+                out.append(f"short pulse: {w.text}; the logic model completes the change, a real flop "
+                           f"does only if the pulse meets its minimum width")
+            else:
+                out.append(f"race: {w.text}; which edge a real flop takes depends on its timing")
+    return out

@@ -1,0 +1,102 @@
+"""`settle within N`: from every code of the sequence, under every input, every order settles within depth N.
+
+A synchronous design settles at depth 1 (every change is made by the edge),
+so the claim is proved at N >= 1 from the design's structure; at N = 0 one
+SAT question asks whether some code of the sequence changes at all. An
+asynchronous design is explored order by order (the explicit cascade engine):
+proved when every start was visited and no order runs deeper than N or
+never settles.
+"""
+
+from __future__ import annotations
+
+from ..elab import Check, Claim
+from ..engines.budget import Budget, OutOfBudget
+from ..engines.cascade import CascadeLimit, Exploration, deepest, never_settling
+from ..engines.sat import Sat, Unrolling
+from ..model.events import EventModel
+from .clocking import (code_of, events_json, order_lines, replay_order, require_explicit, starts, state_of,
+                       warning_lines)
+from .common import Options, make_result, replay
+from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
+
+
+def _synchronous(check: Check, claim: Claim, opts: Options) -> Result:
+    n = claim.within
+    assert n is not None
+    if n >= 1:
+        return make_result(check, claim, PROVED, "a synchronous design settles at depth 1: every change is "
+                           "made by the clock edge", details={"engine": "structure", "depth": 1})
+    model = check.design.model
+    seq = check.sequence
+    assert seq is not None
+    aig = model.aig
+    member = seq.member(aig, check.code_lits())
+    moves = aig.or_all(aig.xor(model.next_lits[i], model.state_lits[i]) for i in check.code)
+    with Sat(opts.solver) as sat:
+        u = Unrolling(model, sat)
+        if not sat.solve([u.lit(0, member), u.lit(0, moves)]):
+            return make_result(check, claim, PROVED, "no code of the sequence changes, so nothing is pending",
+                               details={"engine": "sat", "depth": 0})
+        state, inputs = u.read_state(0), u.read_inputs(0)
+    code = check.code_of(state)
+    nxt = check.code_of(model.step(state, inputs)[0])
+    trace = [TraceEntry(0, code, inputs), TraceEntry(1, nxt)]
+    replay(check.design, check, trace)
+    return make_result(check, claim, REFUTED, f"code {code} changes at the edge (depth 1 > 0)", trace=trace,
+                       details={"engine": "sat", "depth": 1})
+
+
+def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+    """Prove or refute `settle within N` (see the module docstring)."""
+    model = check.design.model
+    if model.synchronous:
+        return _synchronous(check, claim, opts)
+    require_explicit(check, "settle")
+    n = claim.within
+    assert n is not None
+    worst = 0
+    visited = 0
+    ems: dict[tuple, EventModel] = {}
+    try:
+        for code, inputs in starts(check, None, budget):
+            key = tuple(sorted(inputs.items()))
+            em = ems.get(key)
+            if em is None:
+                em = ems[key] = EventModel(model, inputs)
+            ex = Exploration(em)
+            root, out = ex.explore(state_of(check, code))
+            visited += len(ex.memo)
+            if out.never:
+                return _refute(check, claim, em, root.code, inputs, never_settling(ex, root), never=True)
+            if out.depth > n:
+                return _refute(check, claim, em, root.code, inputs, deepest(ex, root, out), never=False)
+            worst = max(worst, out.depth)
+    except CascadeLimit as e:
+        return make_result(check, claim, OPEN, f"the explicit cascade engine reached its limit: {e}",
+                           details={"engine": "explicit", "depth": None})
+    except OutOfBudget:
+        return make_result(check, claim, OPEN, "ran out of time visiting the sequence",
+                           details={"engine": "explicit", "depth": None})
+    return make_result(check, claim, PROVED, f"every order settles; the deepest at depth {worst} (at most {n})",
+                       details={"engine": "explicit", "depth": worst, "cascade_states": visited})
+
+
+def _refute(check: Check, claim: Claim, em: EventModel, start: int, inputs: dict[str, int],
+            order: list, never: bool) -> Result:
+    replay_order(em, start, order)
+    code = code_of(check, start)
+    depth = max((f.depth for f in order), default=0)
+    entry = TraceEntry(0, code, dict(inputs), events=events_json(check, order))
+    trace = [entry] if never else [entry, TraceEntry(1, code_of(check, order[-1].code))]
+    warns = warning_lines(order)
+    if never:
+        summary = f"from code {code} an order of firings never settles"
+        lines = [f"from code {code} under the inputs shown, this order comes back to a cascade it has seen:"]
+    else:
+        summary = f"from code {code} an order settles only at depth {depth} (more than {claim.within})"
+        lines = [f"from code {code} the deepest order reaches depth {depth}:"]
+    lines += order_lines(check, start, order) + warns
+    return make_result(check, claim, REFUTED, summary, trace=trace,
+                       details={"engine": "explicit", "depth": None if never else depth,
+                                "warnings": warns}, evidence=lines)

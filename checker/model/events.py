@@ -1,0 +1,200 @@
+"""The event model of one clock: pending changes, firings, triggered flops, asynchronous clear and preset.
+
+This is the contract's event model (shared/LANGUAGE.md, "The event model of
+an asynchronous design"), written once. Gates have no delay; every flop has a
+delay of its own, unknown. At the system clock's rising edge every flop on
+the system clock samples its pins on the code before the edge and gets a
+*pending change* if its value would change (a flop whose asynchronous clear or
+preset holds gets a change to 0 or 1 instead). Any pending change may fire
+next; after each firing a flop clocked by the edge it made samples its pins
+on the code just before the firing, and asynchronous clears and presets are
+applied to the code after it. The clock has settled when nothing is pending.
+
+A state of the cascade is a :class:`Cascade`: the code (an int, bit ``i``
+the value of ``model.states[i]``) and the pending changes. Engines explore
+every order (:mod:`checker.engines.cascade`); :func:`unit_delay` runs the one
+order the simulator shows (every change of depth k fires at time k).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Optional
+
+from .aig import evaluate
+from .circuit import Model
+
+CLOCK, CLEAR, PRESET = "clock", "clear", "preset"
+
+
+@dataclass(frozen=True)
+class Change:
+    """A pending change: flop ``flop`` (state index) to ``value``; ``depth`` as in the contract;
+    ``cause`` is 'clock' (sampled at an edge), 'clear' or 'preset' (asynchronous)."""
+
+    flop: int
+    value: int
+    depth: int
+    cause: str
+
+
+@dataclass(frozen=True)
+class Cascade:
+    """The code and the pending changes (sorted by flop) at one point of a clock."""
+
+    code: int
+    pending: tuple[Change, ...]
+
+    def key(self) -> tuple:
+        """Code and pending changes without their depths: a cascade that comes back to
+        the same key along one order never settles."""
+        return (self.code, tuple((c.flop, c.value) for c in self.pending))
+
+
+@dataclass(frozen=True)
+class Warning:
+    """A short pulse (an asynchronous change that fires after its cause has gone) or a race
+    (a flop clocked again while its change is pending)."""
+
+    kind: str  # 'short pulse' or 'race'
+    flop: int
+    text: str
+
+
+@dataclass
+class Firing:
+    """One firing along an order: the flop, its new value, the code after it, its depth."""
+
+    flop: int
+    value: int
+    code: int
+    depth: int
+    warnings: list[Warning] = field(default_factory=list)
+
+
+class EventModel:
+    """The event model of ``model`` under fixed inputs: evaluations cached per code."""
+
+    def __init__(self, model: Model, inputs: dict[str, int]) -> None:
+        self.model = model
+        self.n = len(model.states)
+        self.inputs = {name: inputs.get(name, 0) & 1 for name in model.inputs}
+        clocks = model.clocks or [None] * self.n
+        self.system = [i for i, c in enumerate(clocks) if c is None]
+        self.triggers: dict[int, list[tuple[int, str]]] = {}
+        for g, c in enumerate(clocks):
+            if c is not None:
+                edge, src = c
+                self.triggers.setdefault(src, []).append((g, edge))
+        self.aclear = model.async_clear or [0] * self.n
+        self.apreset = model.async_preset or [0] * self.n
+        self._system = frozenset(self.system)
+        self._roots = list(model.next_lits) + list(self.aclear) + list(self.apreset)
+        self._cache: dict[int, tuple[list[int], list[int], list[int]]] = {}
+
+    def eval(self, code: int) -> tuple[list[int], list[int], list[int]]:
+        """(sampled next value, asynchronous clear, asynchronous preset) of every flop at ``code``."""
+        hit = self._cache.get(code)
+        if hit is not None:
+            return hit
+        m = self.model
+        lv: dict[int, object] = {l >> 1: (code >> i) & 1 for i, l in enumerate(m.state_lits)}
+        lv.update({l >> 1: self.inputs[name] for name, l in zip(m.inputs, m.input_lits)})
+        vals = evaluate(m.aig, lv, self._roots, 1)
+        n = self.n
+        out = (vals[:n], vals[n:2 * n], vals[2 * n:])
+        if len(self._cache) < 1 << 16:
+            self._cache[code] = out
+        return out
+
+    def holds(self, code: int) -> bool:
+        """Whether an asynchronous clear or preset holds at ``code`` (a code that is not stable)."""
+        _, clr, pre = self.eval(code)
+        return any(clr) or any(pre)
+
+    def edge(self, code: int) -> Cascade:
+        """The cascade just after the system clock's rising edge at ``code``."""
+        nxt, clr, pre = self.eval(code)
+        pending: dict[int, Change] = {}
+        for g in range(self.n):
+            q = (code >> g) & 1
+            if clr[g] or pre[g]:  # an asynchronous clear (preset) holding before the edge
+                target = 0 if clr[g] else 1
+                if q != target:
+                    pending[g] = Change(g, target, 1, CLEAR if clr[g] else PRESET)
+            elif g in self._system and nxt[g] != q:
+                pending[g] = Change(g, nxt[g], 1, CLOCK)
+        return Cascade(code, tuple(pending[g] for g in sorted(pending)))
+
+    def fire(self, state: Cascade, flop: int) -> tuple[Cascade, Firing]:
+        """Fire the pending change of ``flop``; returns the cascade after it and the firing."""
+        pending = {c.flop: c for c in state.pending}
+        ch = pending.pop(flop)
+        before = state.code
+        after = (before & ~(1 << flop)) | (ch.value << flop)
+        warnings: list[Warning] = []
+        nxt_b, clr_b, pre_b = self.eval(before)
+        if ch.cause != CLOCK:
+            still = clr_b[flop] if ch.cause == CLEAR else pre_b[flop]
+            if not still:
+                warnings.append(Warning("short pulse", flop, f"the asynchronous {ch.cause} of "
+                                        f"{self.model.states[flop]} dropped before the flop changed"))
+        edge = "rise" if ch.value else "fall"
+        depth = ch.depth + 1
+        for g, want in self.triggers.get(flop, ()):
+            if want != edge or clr_b[g] or pre_b[g]:
+                continue  # the wrong edge, or an asynchronous clear/preset held: the edge is ignored
+            present = (after >> g) & 1
+            v = nxt_b[g]
+            if g in pending:
+                warnings.append(Warning("race", g, f"{self.model.states[g]} was clocked again while its "
+                                        f"change was pending; the later edge wins"))
+                if v != present:
+                    pending[g] = Change(g, v, depth, CLOCK)
+                else:
+                    del pending[g]
+            elif v != present:
+                pending[g] = Change(g, v, depth, CLOCK)
+        _, clr_a, pre_a = self.eval(after)
+        for g in range(self.n):
+            if not (clr_a[g] or pre_a[g]):
+                continue
+            target = 0 if clr_a[g] else 1  # clear wins over preset
+            cause = CLEAR if clr_a[g] else PRESET
+            q = (after >> g) & 1
+            old = pending.get(g)
+            if q != target:
+                if old is None or old.cause == CLOCK or old.value != target:
+                    pending[g] = Change(g, target, depth, cause)
+            elif old is not None and (old.cause == CLOCK or old.value != target):
+                del pending[g]
+        new = Cascade(after, tuple(pending[g] for g in sorted(pending)))
+        return new, Firing(flop, ch.value, after, ch.depth, warnings)
+
+
+def unit_delay(em: EventModel, code: int, max_steps: Optional[int] = None) -> tuple[int, list[list[Firing]], bool]:
+    """The order the simulator shows: every pending change of depth k fires at time k.
+
+    Returns (settled code, the firings at each time 1, 2, ..., settled). Changes
+    of one time fire in flop order, each seeing the code left by the one before.
+    ``settled`` is False when the cascade ran ``max_steps`` times (default: a
+    bound past any cascade that settles) without settling.
+    """
+    state = em.edge(code)
+    times: list[list[Firing]] = []
+    limit = max_steps if max_steps is not None else 4 * (em.n + 1) * (em.n + 1)
+    seen = {state.key()}
+    while state.pending:
+        if len(times) >= limit:
+            return state.code, times, False
+        now = min(c.depth for c in state.pending)
+        fired: list[Firing] = []
+        for c in [c for c in state.pending if c.depth == now]:
+            if any(p.flop == c.flop and p.depth == now for p in state.pending):
+                state, f = em.fire(state, c.flop)
+                fired.append(f)
+        times.append(fired)
+        if state.key() in seen and state.pending:
+            return state.code, times, False
+        seen.add(state.key())
+    return state.code, times, True
