@@ -105,6 +105,10 @@ class Program:
 
     def find_design(self, name: str) -> Design:
         """The elaborated design ``name``; an InputError listing the designs when there is none."""
+        e = self.namespace.part_only.get(name)
+        if e is not None:
+            raise InputError(Pos(self.path, 1, 1), f"design {name} takes a clock from its own input, so it "
+                                                   f"runs only as a part ({e.pos}: {e.message})")
         design = self.designs.get(name)
         if design is None:
             names = ", ".join(self.designs) or "none"
@@ -382,16 +386,27 @@ def simulate(path: str, design: str, start: Optional[str] = None, code: Optional
             idx = code_from_trace
         start_code = entries[0].get("code", 0)
         per_clock = [{**fixed, **{k: int(v) for k, v in (e.get("inputs") or {}).items()}} for e in entries]
+        orders = [[ev.get("flop") for ev in e["events"]] if isinstance(e.get("events"), list) else None
+                  for e in entries]
         n = len(entries) - 1 if cycles is None else cycles
     else:
         start_code = 0 if start is None else parse_number(start, "--from")
         per_clock = [fixed]
+        orders = None
         n = 16 if cycles is None else cycles
     if n < 0 or n > MAX_CYCLES:
         raise _cmdline(f"--cycles takes a number from 0 to {MAX_CYCLES}")
     if start_code < 0 or start_code >> len(idx):
         raise _cmdline(f"--from {start_code} does not fit the {len(idx)}-bit code")
-    return SimRun(d, idx, run(model, state_of_code(model, idx, start_code), per_clock, n))
+    if orders is not None:
+        for k, order in enumerate(orders):
+            if order is not None and not all(f in model.states for f in order):
+                raise InputError(Pos(trace or "<trace>", 1, 1), f"entry {k} of the trace fires a flop that "
+                                                               f"{d.name} does not have")
+    try:
+        return SimRun(d, idx, run(model, state_of_code(model, idx, start_code), per_clock, n, orders))
+    except ValueError as e:
+        raise InputError(Pos(trace or "<trace>", 1, 1), f"the trace's order of firings does not replay: {e}") from None
 
 
 # --- export ---------------------------------------------------------------------

@@ -66,7 +66,9 @@ CASES = [
     # reserved for the asynchronous designs to come: refused clearly, not parsed as names
     ("design a\n  in settle\nend\n", 2, 6, ["reserved"]),
     # clocks: a flop bit or a plain copy of one; never an input, never through a gate
-    ("design a\n  in x\n  flop q : T (t = x) clock rise x\nend\n", 3, 22, ["clock of flop q", "input x"]),
+    # (a design clocked from its own input is usable only as a part: the error comes where it is checked)
+    ("design a\n  in x\n  flop q : T (t = x) clock rise x\nend\ncheck c of a\n  code q\n  count 0 1\nend\n", 5, 12,
+     ["only as a part", "clock of flop q", "input x"]),
     ("design a\n  in x\n  flop p : T (t = x)\n  flop q : T (t = x) clock rise !p\nend\n", 4, 22, ["clock of flop q", "gate"]),
     ("design a\n  in x\n  flop p : T (t = x)\n  node c = p & x\n  flop q : T (t = x) clock rise c\nend\n", 5, 22, ["gate"]),
     ("design a\n  in x\n  flop p[1:0] : T (t = {x, x})\n  flop q[2:0] : T (t = {x, x, x}) clock fall p\nend\n", 4, 46, ["width mismatch"]),

@@ -119,3 +119,4 @@ class Namespace:
     designs: dict[str, Design]
     checks: list[Check]
     files: list[str]
+    part_only: dict = field(default_factory=dict)  # design name -> why it can be used only as a part

@@ -11,8 +11,8 @@ from typing import Optional
 
 from ..errors import InputError, Pos
 from ..lang import parse as P
-from .design import Namespace
-from .flatten import elaborate_design
+from .design import Design, Namespace
+from .flatten import ClockFromInput, elaborate_design
 from .spec import elaborate_check
 
 MAX_USE_FILES = 1000
@@ -82,7 +82,13 @@ def load_namespace(path: str) -> Namespace:
             if old is not None:
                 raise InputError(d.pos, f"design '{d.name}' is defined twice (first at {old.pos})")
             blocks[d.name] = d
-    designs = {name: elaborate_design(blocks, name) for name in blocks}
+    designs: dict[str, Design] = {}
+    part_only: dict[str, InputError] = {}
+    for name in blocks:
+        try:
+            designs[name] = elaborate_design(blocks, name)
+        except ClockFromInput as e:  # a stage clocked by its parent: usable as a part only
+            part_only[name] = e
     top = files[-1]
     seen: dict[str, Pos] = {}
     checks = []
@@ -90,5 +96,5 @@ def load_namespace(path: str) -> Namespace:
         if c.name in seen:
             raise InputError(c.pos, f"check '{c.name}' is defined twice in this file (first at line {seen[c.name].line})")
         seen[c.name] = c.pos
-        checks.append(elaborate_check(c, designs))
-    return Namespace(path, designs, checks, [f.path for f in files])
+        checks.append(elaborate_check(c, designs, part_only))
+    return Namespace(path, designs, checks, [f.path for f in files], part_only)

@@ -360,6 +360,11 @@ def _comb_order(fl: _Flattener, leaves: set[str]) -> list[str]:
     return order
 
 
+class ClockFromInput(InputError):
+    """A clock that traces to an input of the design being elaborated: an error for that
+    design on its own, but not for the same design placed as a part that a parent clocks."""
+
+
 def _clock_source(fl: _Flattener, flop: str, x: BExpr, where: Pos) -> str:
     """The flop bit a clock comes from, through plain copies (nodes, outputs, part inputs) only."""
     seen = x
@@ -371,8 +376,8 @@ def _clock_source(fl: _Flattener, flop: str, x: BExpr, where: Pos) -> str:
         if name in fl.flops:
             return name
         if name not in fl.comb:
-            raise InputError(where, f"the clock of flop {flop} traces to input {name} of the top design; "
-                                    f"flops on the system clock need no clock, and a clock is a flop bit")
+            raise ClockFromInput(where, f"the clock of flop {flop} traces to input {name} of the top design; "
+                                        f"flops on the system clock need no clock, and a clock is a flop bit")
         x = fl.comb[name][0]
         if x is seen:  # pragma: no cover - combinational loops are refused before this
             raise InputError(where, f"the clock of flop {flop} runs in a loop")

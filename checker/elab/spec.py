@@ -184,8 +184,16 @@ def _same_names(c: P.EqualStmt, a: Design, b: Design, paired: bool) -> None:
         raise InputError(c.pos, f"equal {b.name}: " + "; ".join(diffs))
 
 
-def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
+def _part_only(where: Pos, name: str, part_only: Optional[dict]) -> None:
+    e = (part_only or {}).get(name)
+    if e is not None:
+        raise InputError(where, f"design {name} takes a clock from its own input, so it can be checked only as "
+                                f"a part of a design that clocks it ({e.pos}: {e.message})")
+
+
+def elaborate_check(c: P.CheckBlock, designs: dict[str, Design], part_only: Optional[dict] = None) -> Check:
     """Turn one check block into a :class:`Check` bound to its design's model."""
+    _part_only(c.design_pos, c.design, part_only)
     design = designs.get(c.design)
     if design is None:
         raise InputError(c.design_pos, f"unknown design '{c.design}'")
@@ -241,6 +249,7 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design]) -> Check:
             prop = _Scope(design, "prop", chk.code).bit(s.prop, "an always property")
             claims.append(Claim("always", s.pos, prop=prop))
         elif isinstance(s, P.EqualStmt):
+            _part_only(s.design_pos, s.design, part_only)
             other = designs.get(s.design)
             if other is None:
                 raise InputError(s.design_pos, f"unknown design '{s.design}'")

@@ -172,6 +172,21 @@ class EventModel:
         return new, Firing(flop, ch.value, after, ch.depth, warnings)
 
 
+def in_order(em: EventModel, code: int, flops: list[int]) -> tuple[int, list[list[Firing]], bool]:
+    """A given order of firings (state indices) from the edge at ``code``, in the shape of
+    :func:`unit_delay` (each firing at the time of its depth). Raises ValueError when a flop of
+    the order has no pending change at its turn."""
+    state = em.edge(code)
+    by_time: dict[int, list[Firing]] = {}
+    for f in flops:
+        if not any(c.flop == f for c in state.pending):
+            raise ValueError(f"{em.model.states[f]} has no pending change at its turn")
+        state, firing = em.fire(state, f)
+        by_time.setdefault(firing.depth, []).append(firing)
+    times = [by_time.get(t, []) for t in range(1, max(by_time, default=0) + 1)]
+    return state.code, times, not state.pending
+
+
 def unit_delay(em: EventModel, code: int, max_steps: Optional[int] = None) -> tuple[int, list[list[Firing]], bool]:
     """The order the simulator shows: every pending change of depth k fires at time k.
 

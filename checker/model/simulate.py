@@ -14,7 +14,7 @@ import numpy as np
 
 from .aig import evaluate
 from .circuit import Model
-from .events import EventModel, Firing, unit_delay
+from .events import EventModel, Firing, in_order, unit_delay
 
 
 @dataclass
@@ -30,14 +30,16 @@ class Step:
     settled: bool = True  # False: the cascade after this clock did not settle (asynchronous designs)
 
 
-def run(model: Model, start: dict[str, int], inputs: Sequence[dict[str, int]], cycles: Optional[int] = None) -> list[Step]:
+def run(model: Model, start: dict[str, int], inputs: Sequence[dict[str, int]], cycles: Optional[int] = None,
+        orders: Optional[Sequence[Optional[list[str]]]] = None) -> list[Step]:
     """Clock ``model`` from ``start``; ``inputs[i]`` drives clock i (the last one repeats).
 
     Returns ``cycles + 1`` steps (clock 0 is ``start``); the last step's inputs
     are those it would see next, so its outputs are defined too. An
     asynchronous design is clocked through the event model with unit delays
-    (every pending change of depth k fires at time k); each step keeps the
-    firings of the cascade that follows it.
+    (every pending change of depth k fires at time k), or in the order of
+    flop names ``orders[i]`` where one is given for clock i (a recorded trace);
+    each step keeps the firings of the cascade that follows it.
     """
     n = len(inputs) if cycles is None else cycles
     steps: list[Step] = []
@@ -52,7 +54,13 @@ def run(model: Model, start: dict[str, int], inputs: Sequence[dict[str, int]], c
         step = Step(clock, dict(state), inp, outs, faults)
         if not model.synchronous:
             code = sum((state[s] & 1) << i for i, s in enumerate(model.states))
-            settled_code, times, step.settled = unit_delay(EventModel(model, inp), code)
+            em = EventModel(model, inp)
+            given = orders[clock] if orders is not None and clock < len(orders) else None
+            if given is not None:
+                index = {s: i for i, s in enumerate(model.states)}
+                settled_code, times, step.settled = in_order(em, code, [index[f] for f in given])
+            else:
+                settled_code, times, step.settled = unit_delay(em, code)
             step.events = [(t + 1, f) for t, fired in enumerate(times) for f in fired]
             nxt = {s: (settled_code >> i) & 1 for i, s in enumerate(model.states)}
         steps.append(step)
