@@ -17,6 +17,7 @@ from typing import Optional, Sequence
 
 from . import __version__
 from .errors import InputError, Pos
+from .sat import DEFAULT_SOLVER
 from .verdict import OPEN, REFUTED
 
 CMDLINE = "<command line>"
@@ -315,7 +316,7 @@ def build_parser() -> argparse.ArgumentParser:
     def common(sp, engine: bool = True):
         sp.add_argument("--json", action="store_true", help="one JSON document on stdout, nothing else there")
         sp.add_argument("--timeout", type=float, default=None, metavar="S", help="seconds per claim; a claim that runs out is open")
-        sp.add_argument("--solver", default="cadical195", metavar="NAME", help="python-sat solver (default cadical195)")
+        sp.add_argument("--solver", default=DEFAULT_SOLVER, metavar="NAME", help=f"python-sat solver (default {DEFAULT_SOLVER})")
         if engine:
             sp.add_argument("--engine", choices=["auto", "sat", "explicit"], default="auto",
                             help="engine for recover claims and maps (default: chosen per claim)")

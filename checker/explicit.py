@@ -38,7 +38,7 @@ from .budget import Budget
 from .elaborate import Check
 from .errors import InputError
 from .model import Aig, evaluate
-from .sat import Encoder, Sat
+from .sat import DEFAULT_SOLVER, Encoder, Sat
 from .simulate import eval_states
 
 MAX_WIDTH = 25
@@ -170,7 +170,7 @@ def _next_input_nodes(check: Check) -> list[int]:
     return _input_nodes(check, [m.next_lits[i] for i in check.code])
 
 
-def feasible(check: Check, cond: int) -> tuple[bool, str]:
+def feasible(check: Check, cond: int, solver: str = DEFAULT_SOLVER) -> tuple[bool, str]:
     """Whether the explicit engine can take this check under ``cond``, and why not."""
     require_whole_state(check)
     w = check.width
@@ -182,7 +182,7 @@ def feasible(check: Check, cond: int) -> tuple[bool, str]:
     bound = (1 << w) << len(nxt)
     if bound > EDGE_LIMIT:
         # the exact row count may be smaller: the condition can fix some inputs
-        rows = len(admissible_rows(check, cond))
+        rows = len(admissible_rows(check, cond, solver))
         if (1 << w) * rows > EDGE_LIMIT:
             return False, f"2^{w} codes times {rows} input rows exceed the explicit engine's {EDGE_LIMIT:,} edges"
     return True, ""
@@ -196,7 +196,7 @@ def require_whole_state(check: Check) -> None:
         raise InputError(pos, "recovery needs a code that names every flop of the design (v1)")
 
 
-def admissible_rows(check: Check, cond: int) -> Rows:
+def admissible_rows(check: Check, cond: int, solver: str = DEFAULT_SOLVER) -> Rows:
     """Every combination of the inputs that reach the next code allowed by ``cond``.
 
     A combination is admissible when some assignment of the other inputs
@@ -206,8 +206,10 @@ def admissible_rows(check: Check, cond: int) -> Rows:
     nxt_nodes = _next_input_nodes(check)
     names = _names_of(check, nxt_nodes)
     every = _names_of(check, sorted(set(nxt_nodes) | set(_input_nodes(check, [cond]))))
-    find = _rows_by_enumeration if len(every) <= ENUMERATE_LIMIT else _rows_by_sat
-    values, full = find(check, cond, names, every)
+    if len(every) <= ENUMERATE_LIMIT:
+        values, full = _rows_by_enumeration(check, cond, names, every)
+    else:
+        values, full = _rows_by_sat(check, cond, names, every, solver)
     if not values:
         raise ValueError("no input meets the condition")
     return Rows(names, values, full)
@@ -235,13 +237,13 @@ def _rows_by_enumeration(check: Check, cond: int, names: list[str],
     return values, full
 
 
-def _rows_by_sat(check: Check, cond: int, names: list[str],
-                 every: list[str]) -> tuple[list[list[int]], list[dict[str, int]]]:
+def _rows_by_sat(check: Check, cond: int, names: list[str], every: list[str],
+                 solver: str) -> tuple[list[list[int]], list[dict[str, int]]]:
     """Rows by one SAT call per combination of ``names`` (too many condition inputs to enumerate)."""
     m = check.design.model
     lit_of = dict(zip(m.inputs, m.input_lits))
     values, full = [], []
-    with Sat() as sat:
+    with Sat(solver) as sat:
         enc = Encoder(m.aig, sat)
         env = enc.new_env({})
         c_lit = enc.lit(env, cond)
@@ -610,9 +612,9 @@ def analyse(g: Graph, budget: Optional[Budget] = None) -> Analysis:
     return Analysis(g, steps, int(steps[worst_code]), worst_code, sets, count, rounds)
 
 
-def explore(check: Check, cond: int, budget: Optional[Budget] = None) -> Analysis:
+def explore(check: Check, cond: int, budget: Optional[Budget] = None, solver: str = DEFAULT_SOLVER) -> Analysis:
     """Build the successor graph of ``check`` under ``cond`` and analyse it."""
-    return analyse(build_graph(check, admissible_rows(check, cond), budget), budget)
+    return analyse(build_graph(check, admissible_rows(check, cond, solver), budget), budget)
 
 
 # --- runs ------------------------------------------------------------------------

@@ -13,6 +13,7 @@ from checker.budget import Budget
 from checker.claims import always
 from checker.claims.common import Options
 from checker.elaborate import load_namespace
+from checker.sat import DEFAULT_SOLVER
 from checker.simulate import eval_states, leaf_arrays
 from checker.verdict import PROVED, REFUTED
 
@@ -23,7 +24,7 @@ def load(tmp_path, text: str, name: str = "t.cnl"):
     return load_namespace(str(p))
 
 
-def prove_always(check, claim, solver: str = "cadical195"):
+def prove_always(check, claim, solver: str = DEFAULT_SOLVER):
     return always.prove(check, claim, Options(solver=solver), Budget())
 
 

@@ -21,6 +21,7 @@ from checker.claims import count
 from checker.claims.common import Options, inputs_text, replay
 from checker.elaborate import load_namespace
 from checker.model import evaluate
+from checker.sat import DEFAULT_SOLVER
 from checker.verdict import PROVED, REFUTED
 
 SETTINGS = settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
@@ -33,7 +34,7 @@ def load(tmp_path, text: str, name: str = "t.cnl"):
     return load_namespace(str(p))
 
 
-def prove_count(check, split: bool = True, solver: str = "cadical195"):
+def prove_count(check, split: bool = True, solver: str = DEFAULT_SOLVER):
     claim = next(c for c in check.claims if c.kind == "count")
     return count.prove(check, claim, Options(solver=solver), Budget(), split=split)
 

@@ -26,6 +26,7 @@ from checker.correspond import explicit_search, product, signal_correspondence
 from checker.elaborate import load_namespace
 from checker.errors import InputError
 from checker.pdr import Pdr, check_invariant
+from checker.sat import DEFAULT_SOLVER
 from checker.verdict import OPEN, PROVED, REFUTED
 
 SETTINGS = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
@@ -746,7 +747,7 @@ def test_signal_correspondence_prunes_what_simulation_missed(tmp_path, seed, nfl
     da, db = ns.designs["kiln_a"], ns.designs["kiln_b"]
     p = product(da.model, db.model)
     init = [rng.randint(0, 1) for _ in p.model.states]
-    sc = signal_correspondence(p.model, init, p.bad, Budget(), "cadical195", runs=runs, steps=steps, seed=seed)
+    sc = signal_correspondence(p.model, init, p.bad, Budget(), DEFAULT_SOLVER, runs=runs, steps=steps, seed=seed)
     assert reachable_pairs_hold(p.model, init, sc.pairs)
     if sc.status == "proved":
         assert product_bfs(da.model, db.model, tuple(init[:nflops]), tuple(init[nflops:])) is None
@@ -758,7 +759,7 @@ def test_signal_correspondence_is_an_invariant(tmp_path):
     da, db = ns.designs["gate_bin"], ns.designs["gate_hot"]
     p = product(da.model, db.model)
     init = [0, 0, 1, 0, 0, 0]
-    sc = signal_correspondence(p.model, init, p.bad, Budget(), "cadical195")
+    sc = signal_correspondence(p.model, init, p.bad, Budget(), DEFAULT_SOLVER)
     assert sc.status in ("proved", "unproved")
     assert reachable_pairs_hold(p.model, init, sc.pairs)
 

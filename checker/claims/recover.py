@@ -40,7 +40,7 @@ from .. import repair
 from ..budget import Budget
 from ..elaborate import Check, Claim
 from ..errors import InputError
-from ..sat import Encoder, Sat, Unrolling
+from ..sat import DEFAULT_SOLVER, Encoder, Sat, Unrolling
 from ..simulate import run
 from ..verdict import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .common import Options, make_result, replay, stepping
@@ -72,18 +72,18 @@ LOCKED_LIST_LIMIT = 1 << 16
 
 # --- the condition ---------------------------------------------------------------
 
-def satisfiable(check: Check, lit: int) -> bool:
+def satisfiable(check: Check, lit: int, solver: str) -> bool:
     """Whether some input assignment makes the input-only literal ``lit`` 1."""
-    with Sat() as sat:
+    with Sat(solver) as sat:
         enc = Encoder(check.design.model.aig, sat)
         env = enc.new_env({})
         return sat.solve([enc.lit(env, lit)])
 
 
-def claim_condition(check: Check, claim: Claim) -> int:
+def claim_condition(check: Check, claim: Claim, solver: str) -> int:
     """The admissible inputs of a recover claim as a literal; an input error when none exist."""
     cond = claim.cond if claim.cond is not None else stepping(check)
-    if not satisfiable(check, cond):
+    if not satisfiable(check, cond, solver):
         if claim.cond is not None:
             raise InputError(claim.pos, "no input meets this recover condition")
         raise InputError(claim.pos, "the rules never let the counter step, so recover has no inputs to assume; add 'when COND'")
@@ -183,7 +183,7 @@ def _finish_path(check: Check, codes: list[int], inputs: list[dict[str, int]]) -
 
 
 def sat_search(check: Check, cond: int, within: Optional[int], budget: Budget,
-               solver: str = "cadical195", max_depth: int = MAX_SAT_DEPTH) -> SatSearch:
+               solver: str = DEFAULT_SOLVER, max_depth: int = MAX_SAT_DEPTH) -> SatSearch:
     """Decide lockout (and the worst, and ``within``) by unrolling runs of unused codes.
 
     Proves only from UNSAT answers on complete questions (see the module
@@ -262,7 +262,7 @@ def _locked_from(codes: list[int], inputs: list[dict[str, int]], slow, k: int) -
 
 def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
     """('explicit' | 'sat', why): the engine a recover question runs on."""
-    ok, why = X.feasible(check, cond)
+    ok, why = X.feasible(check, cond, opts.solver)
     if opts.engine == "explicit":
         if not ok:
             pos = check.sequence_pos or check.pos
@@ -276,7 +276,7 @@ def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
 def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     """Prove or refute a recover claim, with evidence and repair advice."""
     X.require_whole_state(check)
-    cond = claim_condition(check, claim)
+    cond = claim_condition(check, claim, opts.solver)
     engine, why = choose_engine(check, cond, opts)
     if engine == "explicit" and opts.engine == "auto" and check.width > SAT_FIRST_WIDTH:
         # a short SAT search first: it settles short tails at any width in a few frames
@@ -287,7 +287,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
             return res
     if engine == "explicit":
         try:
-            res = _explicit(check, claim, cond, budget)
+            res = _explicit(check, claim, cond, budget, opts.solver)
         except X.OutOfBudget as e:
             res = make_result(check, claim, OPEN, "ran out of time in the exhaustive search",
                               details={"engine": "explicit", "worst": None, "locked": None, "depth": e.depth})
@@ -339,8 +339,8 @@ def set_lines(sets: list[list[int]]) -> list[str]:
     return ["  {" + ", ".join(map(str, s[:32])) + (", ..." if len(s) > 32 else "") + "}" for s in sets[:8]]
 
 
-def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
-    a = X.explore(check, cond, budget)
+def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str) -> Result:
+    a = X.explore(check, cond, budget, solver)
     g = a.graph
     seq = check.sequence
     assert seq is not None
@@ -385,7 +385,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
             evidence.append("no unused codes: worst 0")
         res = make_result(check, claim, PROVED, f"no lockout; worst {a.worst} clock(s)", details=details, evidence=evidence)
     if res.status == REFUTED:
-        plan = repair.repair_plan(a, seq.first(), claim.within, budget)
+        plan = repair.repair_plan(a, seq.first(), claim.within, budget, solver=solver)
         res.advice = repair.plan_lines(plan)
     return res
 
