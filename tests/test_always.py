@@ -10,6 +10,7 @@ from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
 from checker.engines.budget import Budget
+from checker.engines.sat import DEFAULT_SOLVER
 from checker.claims import always
 from checker.claims.common import Options
 from checker.elab import load_namespace
@@ -23,7 +24,7 @@ def load(tmp_path, text: str, name: str = "t.cnl"):
     return load_namespace(str(p))
 
 
-def prove_always(check, claim, solver: str = "cadical195"):
+def prove_always(check, claim, solver: str = DEFAULT_SOLVER):
     return always.prove(check, claim, Options(solver=solver), Budget())
 
 

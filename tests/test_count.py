@@ -3,20 +3,24 @@
 The exhaustive reference here is written independently of the engine: it
 enumerates every code of the sequence and every input, asks the simulator
 (``Model.step``) for the next code and SR faults, and computes the rules'
-next code in plain Python from the Sequence's ``next``/``prev`` and the rule
-conditions evaluated on the circuit graph.
+next code with :func:`rules_next`, which reads the check block's own text
+(sequence, rule conditions, load codes) the way the contract words it and
+calls no parsing, elaboration or sequence code of the checker.
 """
 
 from __future__ import annotations
 
 import itertools
 import random
+import re
+from pathlib import Path
 
 import pytest
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
 from checker.engines.budget import Budget
+from checker.engines.sat import DEFAULT_SOLVER
 from checker.claims import count
 from checker.claims.common import Options, inputs_text, replay
 from checker.elab import load_namespace
@@ -33,33 +37,200 @@ def load(tmp_path, text: str, name: str = "t.cnl"):
     return load_namespace(str(p))
 
 
-def prove_count(check, split: bool = True, solver: str = "cadical195"):
+def prove_count(check, split: bool = True, solver: str = DEFAULT_SOLVER):
     claim = next(c for c in check.claims if c.kind == "count")
     return count.prove(check, claim, Options(solver=solver), Budget(), split=split)
 
 
-def _value(model, lits, inputs):
-    lv = {l >> 1: inputs.get(n, 0) for n, l in zip(model.inputs, model.input_lits)}
-    lv.update({l >> 1: 0 for l in model.state_lits})
-    return evaluate(model.aig, lv, lits, 1)
-
+# --- the rules, read from the check's text as the contract words them -------------
+# shared/LANGUAGE.md, "check": "Rules (hold, load, back, step) are read in the
+# order written; the first whose condition holds decides the next code. When no
+# rule's condition holds: with no step rule in the block the counter must step;
+# otherwise nothing is required." hold stays, load gives CODE, back gives the
+# previous code of the sequence, step the next. The sequence forms, the
+# expression syntax (loosest first: |, ^, &, prefix ! or ~; gate calls; mux(S,
+# A, B) is A when S is 0) and the literals are read from the same document.
 
 def rules_next(check, code: int, inputs: dict) -> int | None:
-    """The rules' next code, in plain Python (None: the rules leave it open)."""
-    model, seq = check.design.model, check.sequence
-    for r in check.rules:
-        if not _value(model, [r.cond], inputs)[0]:
+    """The rules' next code from ``code`` under ``inputs`` (bit name -> 0/1);
+    None when the rules leave it open."""
+    codes, rules = _reading(check)
+    i = codes.index(code)
+    for kind, what, cond in rules:
+        if not _Cond(cond, inputs).value():
             continue
-        if r.kind == "hold":
+        if kind == "hold":
             return code
-        if r.kind == "step":
-            return seq.next(code)
-        if r.kind == "back":
-            return seq.prev(code)
-        if r.load_const is not None:
-            return r.load_const
-        return int("".join(map(str, _value(model, r.load_bits, inputs))), 2)
-    return None if any(r.kind == "step" for r in check.rules) else seq.next(code)
+        if kind == "step":
+            return codes[(i + 1) % len(codes)]
+        if kind == "back":
+            return codes[i - 1]
+        return _load_code(what, inputs, check.width)
+    if any(kind == "step" for kind, _, _ in rules):
+        return None
+    return codes[(i + 1) % len(codes)]
+
+
+_READINGS: dict[tuple, tuple] = {}
+
+
+def _reading(check) -> tuple[list[int], list[tuple[str, str, str]]]:
+    """(the codes of the count line, in order; the rules as (kind, load code, condition))."""
+    lines = Path(check.pos.file).read_text(encoding="utf-8").splitlines()
+    key = (tuple(lines[check.pos.line - 1:]), check.width)
+    if key not in _READINGS:
+        codes, rules = None, []
+        for stmt in _statements(lines[check.pos.line:]):
+            if stmt == "end":
+                break
+            word, _, rest = stmt.partition(" ")
+            if word == "count":
+                codes = _sequence(rest.split(), check.width)
+            elif word in ("hold", "back", "step"):
+                assert rest.startswith("when "), stmt
+                rules.append((word, "", rest[len("when "):]))
+            elif word == "load":
+                what, cond = rest.split(" when ", 1)
+                rules.append((word, what, cond))
+        assert codes is not None, "the check has no count line"
+        _READINGS[key] = (codes, rules)
+    return _READINGS[key]
+
+
+def _statements(lines: list[str]):
+    """Statements: comments dropped, a line continued while a bracket is open or it ends with ','."""
+    stmt = ""
+    for raw in lines:
+        text = raw.split("#", 1)[0].strip()
+        if not text:
+            continue
+        stmt = f"{stmt} {text}".strip()
+        if any(stmt.count(o) > stmt.count(c) for o, c in ("()", "{}", "[]")) or stmt.endswith(","):
+            continue
+        yield stmt
+        stmt = ""
+
+
+def _sequence(words: list[str], width: int) -> list[int]:
+    """The codes of a count line, from the contract's table of forms."""
+    mask = (1 << width) - 1
+    if words == ["bcd"]:  # width/4 decimal digits, one per four bits
+        digits = width // 4
+        return [int(str(v).zfill(digits), 16) for v in range(10 ** digits)]
+    if words == ["gray"]:
+        return [i ^ (i >> 1) for i in range(1 << width)]
+    if words == ["johnson"]:  # from 0, next = (c << 1 | !msb) masked; 2n codes
+        out = [0]
+        while len(out) < 2 * width:
+            c = out[-1]
+            out.append(((c << 1) | (1 - (c >> (width - 1)))) & mask)
+        return out
+    if words == ["ring"]:  # one-hot from 1, rotating left
+        return [1 << i for i in range(width)]
+    if words[0] == "lfsr":  # next = (c << 1 | fb) masked, fb = xor of the tapped bits (1 = lsb)
+        taps, start = words[1:], 1
+        if "from" in taps:
+            start = int(taps[-1], 0)
+            taps = taps[:taps.index("from")]
+        out = [start]
+        while len(out) <= 1 << width:
+            c = out[-1]
+            fb = 0
+            for t in taps:
+                fb ^= (c >> (int(t) - 1)) & 1
+            c = ((c << 1) | fb) & mask
+            if c == start:
+                return out
+            out.append(c)
+        raise AssertionError("the lfsr never comes back to its first code")
+    if len(words) == 3 and words[1] == "..":  # inclusive, ascending or descending
+        a, b = int(words[0], 0), int(words[2], 0)
+        return list(range(a, b + 1)) if a <= b else list(range(a, b - 1, -1))
+    return [int(w, 0) for w in words]
+
+
+def _load_code(what: str, inputs: dict, width: int) -> int:
+    """CODE of a load rule: a literal, a brace list of bits (msb first), or an input vector."""
+    what = what.strip()
+    if what[0].isdigit():
+        return int(what, 0)
+    if what.startswith("{"):
+        bits = ""
+        for item in what[1:-1].split(","):
+            item = item.strip()
+            bits += item[2:] if item.startswith("0b") else str(_Cond(item, inputs).value())
+        return int(bits, 2)
+    return sum(inputs[f"{what}[{i}]"] << i for i in range(width))
+
+
+class _Cond:
+    """A single-bit expression over input bits, by recursive descent."""
+
+    GATES = {"and": lambda v: int(all(v)), "or": lambda v: int(any(v)), "nand": lambda v: 1 - all(v),
+             "nor": lambda v: 1 - any(v), "xor": lambda v: sum(v) % 2, "xnor": lambda v: 1 - sum(v) % 2,
+             "not": lambda v: 1 - v[0], "buf": lambda v: v[0], "mux": lambda v: v[2] if v[0] else v[1]}
+
+    def __init__(self, text: str, inputs: dict) -> None:
+        self.toks = re.findall(r"0[bx][0-9A-Fa-f]+|\d+|[A-Za-z_]\w*(?:\[\d+\])?|[!~&|^(),]", text)
+        assert "".join(self.toks) == re.sub(r"\s+", "", text), text
+        self.inputs = inputs
+        self.i = 0
+
+    def value(self) -> int:
+        v = self.either()
+        assert self.i == len(self.toks), self.toks
+        return v
+
+    def peek(self) -> str | None:
+        return self.toks[self.i] if self.i < len(self.toks) else None
+
+    def take(self, want: str | None = None) -> str:
+        t = self.toks[self.i]
+        assert want is None or t == want, (want, t)
+        self.i += 1
+        return t
+
+    def either(self) -> int:
+        v = self.parity()
+        while self.peek() == "|":
+            self.take()
+            v |= self.parity()
+        return v
+
+    def parity(self) -> int:
+        v = self.both()
+        while self.peek() == "^":
+            self.take()
+            v ^= self.both()
+        return v
+
+    def both(self) -> int:
+        v = self.prefix()
+        while self.peek() == "&":
+            self.take()
+            v &= self.prefix()
+        return v
+
+    def prefix(self) -> int:
+        if self.peek() in ("!", "~"):
+            self.take()
+            return 1 - self.prefix()
+        t = self.take()
+        if t == "(":
+            v = self.either()
+            self.take(")")
+            return v
+        if t in ("0", "1"):
+            return int(t)
+        if t in self.GATES and self.peek() == "(":
+            self.take("(")
+            args = [self.either()]
+            while self.peek() == ",":
+                self.take()
+                args.append(self.either())
+            self.take(")")
+            return self.GATES[t](args)
+        return self.inputs[t]
 
 
 def all_inputs(model):

@@ -19,6 +19,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from checker.engines.budget import Budget
+from checker.engines.sat import DEFAULT_SOLVER
 from checker.claims import equal
 from checker.claims.common import Options
 from checker.claims.equal import after_engines
@@ -747,19 +748,35 @@ def test_signal_correspondence_prunes_what_simulation_missed(tmp_path, seed, nfl
     da, db = ns.designs["kiln_a"], ns.designs["kiln_b"]
     p = product(da.model, db.model)
     init = [rng.randint(0, 1) for _ in p.model.states]
-    sc = signal_correspondence(p.model, init, p.bad, Budget(), "cadical195", runs=runs, steps=steps, seed=seed)
+    sc = signal_correspondence(p.model, init, p.bad, Budget(), DEFAULT_SOLVER, runs=runs, steps=steps, seed=seed)
     assert reachable_pairs_hold(p.model, init, sc.pairs)
     if sc.status == "proved":
         assert product_bfs(da.model, db.model, tuple(init[:nflops]), tuple(init[nflops:])) is None
 
 
-def test_signal_correspondence_is_an_invariant(tmp_path):
-    """Every proved correspondence holds in every reachable state under every input."""
-    ns = load(tmp_path, ferry(4, True))
+@pytest.mark.parametrize("encoded", [False, True])
+def test_signal_correspondence_is_an_invariant(tmp_path, encoded):
+    """Every proved correspondence holds in every reachable state under every input.
+
+    Decoded outputs: each one-hot flop h[i] equals the binary side's decoder
+    gate for position i at reset and, if all do now, at the next clock, so the
+    correspondence is inductive and makes the outputs equal (van Eijk 2000).
+    Encoded outputs: no candidate says that exactly one h is set, and without
+    that the step fails (from h[1] = h[2] = 1 with b = 3, which agrees with
+    b[j] = or of the h with bit j and dock = h0, one clock with go gives b = 0
+    but h[1] | h[3] = 1), so every candidate is pruned and nothing is proved.
+    """
+    ns = load(tmp_path, ferry(4, encoded))
     da, db = ns.designs["gate_bin"], ns.designs["gate_hot"]
     p = product(da.model, db.model)
     init = [0, 0, 1, 0, 0, 0]
-    sc = signal_correspondence(p.model, init, p.bad, Budget(), "cadical195")
-    assert sc.status in ("proved", "unproved")
+    assert p.model.states[:3] == ["a:b[1]", "a:b[0]", "b:h0"]
+    sc = signal_correspondence(p.model, init, p.bad, Budget(), DEFAULT_SOLVER)
     assert reachable_pairs_hold(p.model, init, sc.pairs)
+    if encoded:
+        assert (sc.status, sc.pairs) == ("unproved", [])
+    else:
+        assert sc.status == "proved"
+        hot = {l >> 1 for s, l in zip(p.model.states, p.model.state_lits) if s.startswith("b:h")}
+        assert len(hot) == 4 and hot <= {l >> 1 for pair in sc.pairs for l in pair}
 

@@ -61,10 +61,10 @@ LOCKED_LIST_LIMIT = 1 << 16
 
 # --- the condition ---------------------------------------------------------------
 
-def claim_condition(check: Check, claim: Claim) -> int:
+def claim_condition(check: Check, claim: Claim, solver: str) -> int:
     """The admissible inputs of a recover claim as a literal; an input error when none exist."""
     cond = claim.cond if claim.cond is not None else stepping(check)
-    if not satisfiable(check.design.model, cond):
+    if not satisfiable(check.design.model, cond, solver):
         if claim.cond is not None:
             raise InputError(claim.pos, "no input meets this recover condition")
         raise InputError(claim.pos, "the rules never let the counter step, so recover has no inputs to assume; add 'when COND'")
@@ -75,7 +75,7 @@ def claim_condition(check: Check, claim: Claim) -> int:
 
 def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
     """('explicit' | 'sat', why): the engine a recover question runs on."""
-    ok, why = X.feasible(check.space, cond)
+    ok, why = X.feasible(check.space, cond, opts.solver)
     if opts.engine == "explicit":
         if not ok:
             pos = check.sequence_pos or check.pos
@@ -89,7 +89,7 @@ def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
 def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     """Prove or refute a recover claim, with evidence and repair advice."""
     X.require_whole_state(check.space)
-    cond = claim_condition(check, claim)
+    cond = claim_condition(check, claim, opts.solver)
     engine, why = choose_engine(check, cond, opts)
     if engine == "explicit" and opts.engine == "auto" and check.width > SAT_FIRST_WIDTH:
         # a short SAT search first: it settles short tails at any width in a few frames
@@ -100,7 +100,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
             return res
     if engine == "explicit":
         try:
-            res = _explicit(check, claim, cond, budget)
+            res = _explicit(check, claim, cond, budget, opts.solver)
         except OutOfBudget as e:
             res = make_result(check, claim, OPEN, "ran out of time in the exhaustive search",
                               details={"engine": "explicit", "worst": None, "locked": None, "depth": e.depth})
@@ -152,8 +152,8 @@ def set_lines(sets: list[list[int]]) -> list[str]:
     return ["  {" + ", ".join(map(str, s[:32])) + (", ..." if len(s) > 32 else "") + "}" for s in sets[:8]]
 
 
-def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
-    a = X.explore(check.space, cond, budget)
+def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str) -> Result:
+    a = X.explore(check.space, cond, budget, solver)
     g = a.graph
     seq = check.sequence
     assert seq is not None
@@ -199,7 +199,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget) -> Result:
             evidence.append("no unused codes: worst 0")
         res = make_result(check, claim, PROVED, f"no lockout; worst {a.worst} clock(s)", details=details, evidence=evidence)
     if res.status == REFUTED:
-        plan = repair.repair_plan(a, seq.first(), claim.within, budget)
+        plan = repair.repair_plan(a, seq.first(), claim.within, budget, solver=solver)
         res.advice = repair.plan_lines(plan)
     return res
 

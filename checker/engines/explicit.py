@@ -37,7 +37,7 @@ import numpy as np
 from .budget import Budget, OutOfBudget
 from ..errors import InputError
 from ..model import Aig, evaluate
-from .sat import Encoder, Sat
+from .sat import DEFAULT_SOLVER, Encoder, Sat
 from ..model.simulate import eval_states
 from ..model.space import CodeSpace
 
@@ -162,7 +162,7 @@ def _next_input_nodes(space: CodeSpace) -> list[int]:
     return _input_nodes(space, [m.next_lits[i] for i in space.code])
 
 
-def feasible(space: CodeSpace, cond: int) -> tuple[bool, str]:
+def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> tuple[bool, str]:
     """Whether the explicit engine can take this check under ``cond``, and why not."""
     require_whole_state(space)
     w = space.width
@@ -174,7 +174,7 @@ def feasible(space: CodeSpace, cond: int) -> tuple[bool, str]:
     bound = (1 << w) << len(nxt)
     if bound > EDGE_LIMIT:
         # the exact row count may be smaller: the condition can fix some inputs
-        rows = len(admissible_rows(space, cond))
+        rows = len(admissible_rows(space, cond, solver))
         if (1 << w) * rows > EDGE_LIMIT:
             return False, f"2^{w} codes times {rows} input rows exceed the explicit engine's {EDGE_LIMIT:,} edges"
     return True, ""
@@ -187,7 +187,7 @@ def require_whole_state(space: CodeSpace) -> None:
         raise InputError(space.where, "recovery needs a code that names every flop of the design (v1)")
 
 
-def admissible_rows(space: CodeSpace, cond: int) -> Rows:
+def admissible_rows(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> Rows:
     """Every combination of the inputs that reach the next code allowed by ``cond``.
 
     A combination is admissible when some assignment of the other inputs
@@ -197,8 +197,10 @@ def admissible_rows(space: CodeSpace, cond: int) -> Rows:
     nxt_nodes = _next_input_nodes(space)
     names = _names_of(space, nxt_nodes)
     every = _names_of(space, sorted(set(nxt_nodes) | set(_input_nodes(space, [cond]))))
-    find = _rows_by_enumeration if len(every) <= ENUMERATE_LIMIT else _rows_by_sat
-    values, full = find(space, cond, names, every)
+    if len(every) <= ENUMERATE_LIMIT:
+        values, full = _rows_by_enumeration(space, cond, names, every)
+    else:
+        values, full = _rows_by_sat(space, cond, names, every, solver)
     if not values:
         raise ValueError("no input meets the condition")
     return Rows(names, values, full)
@@ -226,13 +228,13 @@ def _rows_by_enumeration(space: CodeSpace, cond: int, names: list[str],
     return values, full
 
 
-def _rows_by_sat(space: CodeSpace, cond: int, names: list[str],
-                 every: list[str]) -> tuple[list[list[int]], list[dict[str, int]]]:
+def _rows_by_sat(space: CodeSpace, cond: int, names: list[str], every: list[str],
+                 solver: str) -> tuple[list[list[int]], list[dict[str, int]]]:
     """Rows by one SAT call per combination of ``names`` (too many condition inputs to enumerate)."""
     m = space.model
     lit_of = dict(zip(m.inputs, m.input_lits))
     values, full = [], []
-    with Sat() as sat:
+    with Sat(solver) as sat:
         enc = Encoder(m.aig, sat)
         env = enc.new_env({})
         c_lit = enc.lit(env, cond)
@@ -600,9 +602,9 @@ def analyse(g: Graph, budget: Optional[Budget] = None) -> Analysis:
     return Analysis(g, steps, int(steps[worst_code]), worst_code, sets, count, rounds)
 
 
-def explore(space: CodeSpace, cond: int, budget: Optional[Budget] = None) -> Analysis:
-    """Build the successor graph of ``check`` under ``cond`` and analyse it."""
-    return analyse(build_graph(space, admissible_rows(space, cond), budget), budget)
+def explore(space: CodeSpace, cond: int, budget: Optional[Budget] = None, solver: str = DEFAULT_SOLVER) -> Analysis:
+    """Build the successor graph of ``space`` under ``cond`` and analyse it."""
+    return analyse(build_graph(space, admissible_rows(space, cond, solver), budget), budget)
 
 
 # --- runs ------------------------------------------------------------------------

@@ -25,7 +25,7 @@ from typing import Optional
 
 from .budget import Budget, OutOfBudget
 from ..model import TRUE, Model
-from .sat import Encoder, Sat
+from .sat import DEFAULT_SOLVER, Encoder, Sat
 
 Cube = tuple[int, ...]  # state-bit literals: +(i + 1) for bit i = 1, -(i + 1) for 0
 
@@ -82,7 +82,7 @@ class Pdr:
     """IC3/PDR over ``model`` from the state ``init`` (bits in ``model.states`` order)."""
 
     def __init__(self, model: Model, init: list[int], bad: int, constraint: int = TRUE,
-                 solver: str = "minisat22", budget: Optional[Budget] = None) -> None:
+                 solver: str = DEFAULT_SOLVER, budget: Optional[Budget] = None) -> None:
         self.model = model
         self.init = list(init)
         self.budget = budget or Budget()
@@ -299,7 +299,7 @@ class Pdr:
 
 
 def check_invariant(model: Model, init: list[int], bad: int, cubes: list[Cube],
-                    constraint: int = TRUE, solver: str = "minisat22") -> bool:
+                    constraint: int = TRUE, solver: str = DEFAULT_SOLVER) -> bool:
     """Independent check of a PDR proof: the negated cubes hold initially, are
     inductive under ``constraint``, and exclude ``bad``."""
     for c in cubes:

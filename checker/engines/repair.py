@@ -18,6 +18,7 @@ import numpy as np
 
 from .budget import Budget
 from .explicit import Analysis, Graph, analyse, inner_edges, scc_cycles, worst_step
+from .sat import DEFAULT_SOLVER
 
 EXACT_FVS_LIMIT = 128
 """Largest locked set whose smallest feedback set is found exactly (by SAT)."""
@@ -80,7 +81,7 @@ def _find_cycle(n: int, adj: list[list[int]], removed: set[int]) -> Optional[lis
     return None
 
 
-def _exact_fvs(n: int, adj: list[list[int]], forced: set[int]) -> list[int]:
+def _exact_fvs(n: int, adj: list[list[int]], forced: set[int], solver: str) -> list[int]:
     """A smallest feedback vertex set by implicit hitting sets.
 
     Cycles are collected lazily; a smallest set hitting all collected cycles
@@ -96,7 +97,7 @@ def _exact_fvs(n: int, adj: list[list[int]], forced: set[int]) -> list[int]:
     while True:
         best: Optional[list[int]] = None
         while best is None:
-            with Solver(name="minisat22") as s:
+            with Solver(name=solver) as s:
                 for v in forced:
                     s.add_clause([v + 1])
                 for cyc in cycles:
@@ -134,7 +135,7 @@ def _greedy_fvs(n: int, src: np.ndarray, dst: np.ndarray, forced: set[int]) -> l
         removed[int(np.argmax(score))] = True
 
 
-def feedback_codes(a: Analysis) -> tuple[list[int], bool]:
+def feedback_codes(a: Analysis, solver: str = DEFAULT_SOLVER) -> tuple[list[int], bool]:
     """A smallest set of unused codes meeting every cycle of unused codes, and whether it is exact.
 
     Each locked set is independent: a code that holds itself under some
@@ -160,7 +161,7 @@ def feedback_codes(a: Analysis) -> tuple[list[int], bool]:
             adj: list[list[int]] = [[] for _ in range(n)]
             for x, y in zip(src.tolist(), dst.tolist()):  # the edges are distinct
                 adj[x].append(y)
-            pick = _exact_fvs(n, adj, forced)
+            pick = _exact_fvs(n, adj, forced, solver)
         else:
             pick = _greedy_fvs(n, src, dst, forced)
             exact = exact and len(pick) == len(forced)
@@ -177,7 +178,8 @@ def redirected(a: Analysis, codes: list[int], target: int, budget: Optional[Budg
 
 
 def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
-                budget: Optional[Budget] = None, recompute_limit: int = 1 << 20) -> RepairPlan:
+                budget: Optional[Budget] = None, recompute_limit: int = 1 << 20,
+                solver: str = DEFAULT_SOLVER) -> RepairPlan:
     """Unused codes to redirect into ``target`` so that no lock remains (and, with
     ``within``, so that every unused code recovers within that many clocks).
 
@@ -186,7 +188,7 @@ def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
     needs more than ``within`` clocks, redirect the code ``within - 1`` clocks
     down its worst run, then look again. Advice only.
     """
-    codes, exact = feedback_codes(a)
+    codes, exact = feedback_codes(a, solver)
     notes = []
     if not exact:
         notes.append(f"a locked set has more than {EXACT_FVS_LIMIT} codes: the set is found greedily and may not be the smallest")

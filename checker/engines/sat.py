@@ -43,6 +43,8 @@ class Sat:
         self.nclauses = 0
         self.solve_seconds = 0.0
         self.calls = 0
+        self.last_result: Optional[bool] = None  # None until the first solve
+        self._model_vars = 0  # variables that existed at the last solve
         self.log: Optional[list[list[int]]] = [] if record else None
         self.names: dict[int, str] = {}
         self.true = 1  # variable 1 is the constant true
@@ -66,14 +68,30 @@ class Sat:
         r = self.solver.solve(assumptions=list(assumptions))
         self.solve_seconds += time.perf_counter() - t0
         self.calls += 1
+        self.last_result = bool(r)
+        self._model_vars = self.nvars
         return bool(r)
 
     def value(self, lit: int) -> int:
-        """0/1 value of a solver literal in the last model."""
-        if lit in (1, -1):
-            return 1 if lit == 1 else 0
-        m = self._model()
+        """0/1 value of a solver literal in the model of the last solve.
+
+        Asking without a model (no solve yet, or the last one unsatisfiable)
+        raises RuntimeError; asking for a variable that did not exist at that
+        solve raises LookupError. Both are mistakes in the caller, never
+        answers. A variable that existed but is in no clause may take either
+        value; it reads 0.
+        """
+        if self.last_result is not True:
+            raise RuntimeError(
+                "Sat.value: no model, " + ("nothing was solved yet" if self.last_result is None
+                                           else "the last solve was unsatisfiable"))
         v = abs(lit)
+        if not 1 <= v <= self._model_vars:
+            raise LookupError(f"Sat.value: variable {v} did not exist at the last solve "
+                              f"(variables 1 .. {self._model_vars})")
+        if v == 1:
+            return 1 if lit > 0 else 0
+        m = self._model()
         val = m[v - 1] > 0 if v <= len(m) else False
         return int(val if lit > 0 else not val)
 

@@ -47,9 +47,9 @@ def map_condition(check: Check) -> int:
     return stepping(check)
 
 
-def _condition(check: Check, cond: Optional[int]) -> int:
+def _condition(check: Check, cond: Optional[int], solver: str) -> int:
     lit = map_condition(check) if cond is None else cond
-    if not satisfiable(check.design.model, lit):
+    if not satisfiable(check.design.model, lit, solver):
         raise InputError(check.pos, f"check {check.name}: no input meets the map's condition")
     return lit
 
@@ -60,11 +60,11 @@ def analyse(check: Check, cond: Optional[int] = None, opts: Optional[Options] = 
     explicit engine cannot take the check (or the options ask for SAT)."""
     opts = opts or Options()
     X.require_whole_state(check.space)
-    lit = _condition(check, cond)
+    lit = _condition(check, cond, opts.solver)
     engine, _ = choose_engine(check, lit, opts)
     if engine != "explicit":
         return None
-    return X.explore(check.space, lit, budget)
+    return X.explore(check.space, lit, budget, opts.solver)
 
 
 def _order(a: X.Analysis, limit: int) -> np.ndarray:
@@ -144,12 +144,12 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
     doc = MapDoc({"check": check.name, "width": w, "sequence_length": seq.length(),
                   "unused_count": (1 << w) - seq.length(), "worst": None, "locked": None, "unused": []})
     X.require_whole_state(check.space)
-    lit = _condition(check, cond)
+    lit = _condition(check, cond, opts.solver)
     if analysis is None:
         engine, _ = choose_engine(check, lit, opts)
         if engine == "explicit":
             try:
-                analysis = X.explore(check.space, lit, budget)
+                analysis = X.explore(check.space, lit, budget, opts.solver)
             except OutOfBudget:
                 doc["status"] = "open"
                 return doc
@@ -190,12 +190,13 @@ def repair_hints(check: Check, cond: Optional[int] = None, within: Optional[int]
     ``exact``, ``table`` (code, next codes now, proposed next), ``worst_after``,
     ``notes`` and the readable ``lines``.
     """
+    opts = opts or Options()
     if analysis is None:
         analysis = analyse(check, cond, opts, budget)
     if analysis is None:
         return None
     assert check.sequence is not None
-    plan = repair.repair_plan(analysis, check.sequence.first(), within, budget)
+    plan = repair.repair_plan(analysis, check.sequence.first(), within, budget, solver=opts.solver)
     return {"redirect": plan.codes, "for_within": plan.for_within, "target": plan.target, "exact": plan.exact,
             "table": [{"code": c, "next_now": now, "next_new": new} for c, now, new in plan.table],
             "worst_after": plan.worst_after, "notes": plan.notes, "lines": repair.plan_lines(plan)}

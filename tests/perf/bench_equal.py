@@ -100,7 +100,7 @@ def table(head, rows):
 
 def main(quick: bool) -> None:
     out: list[str] = ["# Equal claim benchmark", "",
-                      f"Machine: 2 cores shared; Python {platform.python_version()}; solver cadical195; medians of {REPEAT} runs.", ""]
+                      f"Machine: 2 cores shared; Python {platform.python_version()}; solver {Options().solver}; medians of {REPEAT} runs.", ""]
     tmp = tempfile.mkdtemp()
 
     # 1. flop-paired tallies
