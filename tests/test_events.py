@@ -210,10 +210,9 @@ def test_binary_decoder_glitches_on_0111_to_1000(tmp_path):
         assert vals[0] == vals[-1] or sum(a != b for a, b in zip(vals, vals[1:])) >= 3
 
 
-@pytest.mark.parametrize("n", [64])
-def test_wide_synchronous_glitch_questions(tmp_path, n):
-    # the SAT question: a 64-bit binary counter's top decode glitches; one Gray decode does not
-    binary = f"""design ctr
+def binary_counter(n: int) -> str:
+    """A synchronous binary counter in T flops with a decoded top quarter (`top`), glitchfree claimed."""
+    return f"""design ctr
   in go
   flop q[{n - 1}:0] : T (t = c & go)
   node c[{n - 1}:0] = {{c[{n - 2}:0] & q[{n - 2}:0], 1}}
@@ -226,7 +225,11 @@ check c of ctr
   glitchfree top
 end
 """
-    chk = load(tmp_path, binary).checks[0]
+
+
+def test_wide_synchronous_glitch_questions(tmp_path):
+    # the SAT question: a 64-bit binary counter's decoded top quarter glitches
+    chk = load(tmp_path, binary_counter(64)).checks[0]
     r = run_claim(chk, chk.claims[1], Options())
     assert r.status == REFUTED and r.details["engine"] == "sat"
 

@@ -16,25 +16,7 @@ import time
 
 from checker import api
 from checker.cli import main
-
-
-def tail_counter(w: int, last: int) -> str:
-    ones = [i for i in range(w) if (last >> i) & 1]
-    dec = "and(" + ", ".join(f"q[{i}]" for i in ones) + ")"
-    return f"""
-design batch
-  in run
-  flop q[{w - 1}:0] : T (t = c) clear last & run
-  node c[{w - 1}:0] = {{c[{w - 2}:0] & q[{w - 2}:0], run}}
-  node last = {dec}
-end
-check batches of batch
-  code q
-  count 0 .. {last}
-  hold when !run
-  recover
-end
-"""
+from test_recover import tail_counter
 
 
 def multiplier(name: str, n: int, swap: bool) -> str:
@@ -63,7 +45,7 @@ def multiplier(name: str, n: int, swap: bool) -> str:
 
 def test_map_honours_timeout(tmp_path):
     p = tmp_path / "tail.cnl"
-    p.write_text(tail_counter(40, (1 << 20) - 1))
+    p.write_text(tail_counter(40, (1 << 20) - 1))  # recover: worst 2^20 clocks
     t0 = time.monotonic()
     m = api.map_check(str(p), "batches", opts=api.options(timeout=2.0))
     assert m.doc["status"] == "open" and m.doc["worst"] is None and m.status == 3

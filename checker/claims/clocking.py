@@ -12,14 +12,16 @@ firing by firing, through the event model.
 from __future__ import annotations
 
 import itertools
-from typing import Iterator, Optional
+from typing import Callable, Iterator, Optional
 
-from ..elab import Check
-from ..engines.budget import Budget
+from ..elab import Check, Claim
+from ..engines.budget import Budget, OutOfBudget
+from ..engines.cascade import CascadeLimit, Exploration, Outcome
 from ..errors import InputError
 from ..model.aig import evaluate
-from ..model.events import EventModel, Firing
-from .common import ReplayError
+from ..model.events import Cascade, EventModel, Firing
+from .common import ReplayError, make_result
+from .result import OPEN, Result
 
 MAX_START_POINTS = 1 << 20
 """Most (sequence code, input) pairs the explicit path visits for one claim."""
@@ -77,6 +79,34 @@ def starts(check: Check, cond: Optional[int], budget: Budget) -> Iterator[tuple[
             budget.check(k)
         for inputs in combos:
             yield code, inputs
+
+
+def each_clock(check: Check, cond: Optional[int], budget: Budget, watch: tuple[int, ...] = (),
+               keep: Optional[Callable[[int, dict[str, int]], bool]] = None
+               ) -> Iterator[tuple[int, dict[str, int], EventModel, Exploration, Cascade, Outcome]]:
+    """Every order of every clock from a code of the sequence under inputs meeting ``cond``
+    (and ``keep``): (code, inputs, event model, exploration, root cascade, outcome)."""
+    ems: dict[tuple, EventModel] = {}
+    for code, inputs in starts(check, cond, budget):
+        if keep is not None and not keep(code, inputs):
+            continue
+        key = tuple(sorted(inputs.items()))
+        em = ems.get(key)
+        if em is None:
+            em = ems[key] = EventModel(check.design.model, inputs)
+        ex = Exploration(em, watch)
+        root, out = ex.explore(state_of(check, code))
+        yield code, inputs, em, ex, root, out
+
+
+def out_of_reach(check: Check, claim: Claim, e: Exception) -> Result:
+    """The open verdict of an explicit walk stopped by its limit or by the budget."""
+    if isinstance(e, CascadeLimit):
+        return make_result(check, claim, OPEN, f"the explicit cascade engine reached its limit: {e}",
+                           details={"engine": "explicit", "depth": None})
+    assert isinstance(e, OutOfBudget)
+    return make_result(check, claim, OPEN, "ran out of time visiting the sequence",
+                       details={"engine": "explicit", "depth": None})
 
 
 def require_explicit(check: Check, what: str) -> None:

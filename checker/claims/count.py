@@ -18,14 +18,13 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 from ..engines.budget import Budget, OutOfBudget
-from ..engines.cascade import CascadeLimit, Exploration, never_settling, settling_in
+from ..engines.cascade import CascadeLimit, never_settling, settling_in
 from ..elab import Check, Claim
 from ..model import FALSE, TRUE, Aig, evaluate
-from ..model.events import EventModel
 from ..engines.sat import Sat, Unrolling
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
-from .clocking import (code_of, events_json, order_lines, replay_order, require_explicit, starts, state_of,
-                       warning_lines)
+from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
+                       require_explicit, state_of, warning_lines)
 from .common import Options, ReplayError, make_result, regions, replay, rule_spec, trace_lines
 
 
@@ -274,20 +273,16 @@ def _prove_settled(check: Check, claim: Claim, budget: Budget) -> Result:
     """The count claim on an asynchronous design: every order of every clock from a code of
     the sequence, under every input the rules decide, settles in the rules' next code."""
     require_explicit(check, "count")
-    model = check.design.model
-    ems: dict[tuple, EventModel] = {}
     visited = 0
+    rules_say: dict[str, Optional[int]] = {}
+
+    def decided(code: int, inputs: dict[str, int]) -> bool:
+        rules_say["next"] = reference_next(check, code, inputs)
+        return rules_say["next"] is not None
+
     try:
-        for code, inputs in starts(check, None, budget):
-            expected = reference_next(check, code, inputs)
-            if expected is None:
-                continue
-            key = tuple(sorted(inputs.items()))
-            em = ems.get(key)
-            if em is None:
-                em = ems[key] = EventModel(model, inputs)
-            ex = Exploration(em)
-            root, out = ex.explore(state_of(check, code))
+        for code, inputs, em, ex, root, out in each_clock(check, None, budget, keep=decided):
+            expected = rules_say["next"]
             visited += len(ex.memo)
             wrong = sorted(code_of(check, s) for s in out.settled if code_of(check, s) != expected)
             if not out.never and not wrong:
@@ -308,12 +303,8 @@ def _prove_settled(check: Check, claim: Claim, budget: Budget) -> Result:
                            "settled": sorted(code_of(check, s) for s in out.settled), "warnings": warns}
             lines = [summary + "; the order of firings:"] + order_lines(check, root.code, order) + warns
             return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=lines)
-    except CascadeLimit as e:
-        return make_result(check, claim, OPEN, f"the explicit cascade engine reached its limit: {e}",
-                           details={"engine": "explicit", "depth": None})
-    except OutOfBudget:
-        return make_result(check, claim, OPEN, "ran out of time visiting the sequence",
-                           details={"engine": "explicit", "depth": None})
+    except (CascadeLimit, OutOfBudget) as e:
+        return out_of_reach(check, claim, e)
     return make_result(check, claim, PROVED, f"every order of every clock from the sequence "
                        f"({check.sequence.describe()}) settles where the rules say",
                        details={"engine": "explicit", "cascade_states": visited})

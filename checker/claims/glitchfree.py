@@ -28,8 +28,8 @@ from ..engines.budget import Budget, OutOfBudget
 from ..engines.cascade import CascadeLimit, Exploration, glitching
 from ..engines.sat import Encoder, Sat, Unrolling
 from ..model.events import EventModel, Firing
-from .clocking import (code_of, events_json, order_lines, replay_order, require_explicit, starts, state_of,
-                       warning_lines)
+from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
+                       require_explicit, warning_lines)
 from .common import Options, ReplayError, inputs_text, make_result
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
@@ -155,30 +155,18 @@ def _refute(check: Check, claim: Claim, em: EventModel, start: int, inputs: dict
 
 def _explicit(check: Check, claim: Claim, budget: Budget) -> Result:
     require_explicit(check, "glitchfree")
-    model = check.design.model
     watch = tuple(l for _, l in claim.signals)
-    ems: dict[tuple, EventModel] = {}
     visited = 0
     try:
-        for code, inputs in starts(check, claim.cond, budget):
-            key = tuple(sorted(inputs.items()))
-            em = ems.get(key)
-            if em is None:
-                em = ems[key] = EventModel(model, inputs)
-            ex = Exploration(em, watch)
-            root, out = ex.explore(state_of(check, code))
+        for code, inputs, em, ex, root, out in each_clock(check, claim.cond, budget, watch):
             visited += len(ex.memo)
             if out.glitch:
                 k = next(k for k in range(len(watch)) if out.glitch >> k & 1)
                 order = glitching(ex, root, k)
                 return _refute(check, claim, em, root.code, inputs, order, claim.signals[k][0],
                                {"engine": "explicit"})
-    except CascadeLimit as e:
-        return make_result(check, claim, OPEN, f"the explicit cascade engine reached its limit: {e}",
-                           details={"engine": "explicit", "depth": None})
-    except OutOfBudget:
-        return make_result(check, claim, OPEN, "ran out of time visiting the sequence",
-                           details={"engine": "explicit", "depth": None})
+    except (CascadeLimit, OutOfBudget) as e:
+        return out_of_reach(check, claim, e)
     return make_result(check, claim, PROVED, f"no order makes {_names(claim)} pulse, from any code of the "
                        f"sequence", details={"engine": "explicit", "cascade_states": visited})
 

@@ -7,26 +7,13 @@ none) may occur, chosen at worst. Locked: some admissible run stays among
 unused codes forever. Worst: the largest number of clocks any unused code
 needs over every admissible run.
 
-Two engines. The explicit one (:mod:`checker.explicit`) decides every code
+Two engines. The explicit one (:mod:`checker.engines.explicit`) decides every code
 of widths up to its limits exactly and lists every locked set (and
-:mod:`checker.repair` turns its answer into repair hints). The SAT one
-(:mod:`checker.engines.unused_runs`) unrolls runs of unused codes:
-
-* a bounded path search (bounded model checking, Biere, Cimatti, Clarke and
-  Zhu 1999) for an admissible run of k+1 unused codes; none at depth k
-  proves worst <= k, with every unused code a possible start, so the
-  search is complete at that depth;
-* a lasso search (a run of unused codes whose last code repeats an earlier
-  one) for locked cycles;
-* k-induction with simple-path constraints (Sheeran, Singh and Stalmarck
-  2000) for the proof of no lockout: when no admissible run of k+1
-  pairwise distinct unused codes exists and no lasso of at most k+1 codes
-  does, the unused codes hold no cycle at all (a longer cycle would give a
-  simple run of k+1 codes), so no code is locked and worst = k. Since every
-  unused code is a start, base case and step ask about the same runs; the
-  proof closes at the depth of the longest run of unused codes, a few
-  frames for a counter whose unused codes recover in a few clocks, at any
-  width, instead of the 2^width frames of the state space.
+:mod:`checker.engines.repair` turns its answer into repair hints). The SAT one
+(:mod:`checker.engines.unused_runs`) unrolls runs of unused codes (bounded
+model checking for the worst, lasso searches for locks, k-induction with
+simple-path constraints for the proof of no lockout), which settles short
+tails at any width.
 """
 
 from __future__ import annotations

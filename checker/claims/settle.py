@@ -12,13 +12,13 @@ from __future__ import annotations
 
 from ..elab import Check, Claim
 from ..engines.budget import Budget, OutOfBudget
-from ..engines.cascade import CascadeLimit, Exploration, deepest, never_settling
+from ..engines.cascade import CascadeLimit, deepest, never_settling
 from ..engines.sat import Sat, Unrolling
 from ..model.events import EventModel
-from .clocking import (code_of, events_json, order_lines, replay_order, require_explicit, starts, state_of,
-                       warning_lines)
+from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
+                       require_explicit, warning_lines)
 from .common import Options, make_result, replay
-from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
+from .result import PROVED, REFUTED, Result, TraceEntry
 
 
 def _synchronous(check: Check, claim: Claim, opts: Options) -> Result:
@@ -57,27 +57,16 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     assert n is not None
     worst = 0
     visited = 0
-    ems: dict[tuple, EventModel] = {}
     try:
-        for code, inputs in starts(check, None, budget):
-            key = tuple(sorted(inputs.items()))
-            em = ems.get(key)
-            if em is None:
-                em = ems[key] = EventModel(model, inputs)
-            ex = Exploration(em)
-            root, out = ex.explore(state_of(check, code))
+        for code, inputs, em, ex, root, out in each_clock(check, None, budget):
             visited += len(ex.memo)
             if out.never:
                 return _refute(check, claim, em, root.code, inputs, never_settling(ex, root), never=True)
             if out.depth > n:
                 return _refute(check, claim, em, root.code, inputs, deepest(ex, root, out), never=False)
             worst = max(worst, out.depth)
-    except CascadeLimit as e:
-        return make_result(check, claim, OPEN, f"the explicit cascade engine reached its limit: {e}",
-                           details={"engine": "explicit", "depth": None})
-    except OutOfBudget:
-        return make_result(check, claim, OPEN, "ran out of time visiting the sequence",
-                           details={"engine": "explicit", "depth": None})
+    except (CascadeLimit, OutOfBudget) as e:
+        return out_of_reach(check, claim, e)
     return make_result(check, claim, PROVED, f"every order settles; the deepest at depth {worst} (at most {n})",
                        details={"engine": "explicit", "depth": worst, "cascade_states": visited})
 

@@ -27,25 +27,9 @@ sys.path.insert(0, os.path.join(ROOT, "tests"))
 from checker.claims import run_claim  # noqa: E402
 from checker.claims.common import Options  # noqa: E402
 from checker.elab import load_namespace  # noqa: E402
-from test_events import gray_design  # noqa: E402  (the tests' own Gray counter)
+from test_events import binary_counter as binary, gray_design  # noqa: E402  (the tests' own counters)
 
 TIMEOUT = 60.0
-
-
-def binary(n: int) -> str:
-    return f"""design ctr
-  in go
-  flop q[{n - 1}:0] : T (t = c & go)
-  node c[{n - 1}:0] = {{c[{n - 2}:0] & q[{n - 2}:0], 1}}
-  out top = q[{n - 1}] & !q[{n - 2}]
-end
-check c of ctr
-  code q
-  count 0 .. {2 ** n - 1}
-  hold when !go
-  glitchfree top
-end
-"""
 
 
 def ripple(n: int) -> str:
