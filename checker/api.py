@@ -251,8 +251,6 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     chk = load(path).find_check(check)
     if chk.sequence is None:
         raise InputError(chk.pos, f"check {chk.name} has no count line, so it has no unused codes to map")
-    if not chk.design.model.synchronous:
-        raise InputError(chk.pos, f"the map of an asynchronous design ({chk.design.name}) is not supported yet")
     cond = None if when is None else condition_literal(chk.design, parse_expr("--when", when))
     value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout)
     if not finished:

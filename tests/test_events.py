@@ -397,3 +397,13 @@ def test_wide_gray_decoder_is_glitch_free(tmp_path):
     res = {cl.kind: run_claim(chk, cl, Options()) for cl in chk.claims}
     assert res["count"].status == PROVED
     assert res["glitchfree"].status == PROVED and res["glitchfree"].details["engine"] == "sat"
+
+
+def test_recover_reads_settled_codes_of_every_order(tmp_path):
+    # the self-clearing decade: from 13 a late clear is a fall that clocks the next stage,
+    # so a clock can settle in 12, which steps back to 13: {12, 13} is a lock
+    text = DECADE.replace("  hold when !en\nend", "  hold when !en\n  recover\nend")
+    chk = load(tmp_path, text).checks[0]
+    r = run_claim(chk, chk.claims[-1], Options())
+    assert r.status == REFUTED and r.details["locked"] == [[12, 13]]
+    assert all(t.events is not None for t in r.trace[:-1])  # each step shows an order that settles there

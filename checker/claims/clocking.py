@@ -16,7 +16,7 @@ from typing import Callable, Iterator, Optional
 
 from ..elab import Check, Claim
 from ..engines.budget import Budget, OutOfBudget
-from ..engines.cascade import CascadeLimit, Exploration, Outcome
+from ..engines.cascade import CascadeLimit, Exploration, Outcome, settling_in
 from ..errors import InputError
 from ..model.aig import evaluate
 from ..model.events import Cascade, EventModel, Firing
@@ -116,6 +116,15 @@ def require_explicit(check: Check, what: str) -> None:
         raise InputError(check.code_pos or check.pos,
                          f"{what} on this asynchronous design needs the explicit cascade engine, "
                          f"which cannot take it: {why}")
+
+
+def settle_order(check: Check, code: int, inputs: dict[str, int], target: int) -> list[Firing]:
+    """An order of the clock from ``code`` under ``inputs`` that settles in code ``target``."""
+    ex = Exploration(EventModel(check.design.model, inputs))
+    root, out = ex.explore(state_of(check, code))
+    if state_of(check, target) not in out.settled:
+        raise ReplayError(f"no order of the clock from {code} settles in {target}")
+    return settling_in(ex, root, state_of(check, target))
 
 
 def events_json(check: Check, firings: list[Firing]) -> list[dict]:

@@ -27,6 +27,9 @@ from ..engines.budget import Budget, OutOfBudget
 from ..engines.sat import satisfiable
 from ..engines.unused_runs import SatSearch, sat_search
 from ..errors import InputError
+from ..engines.cascade import Exploration, never_settling
+from ..model.events import EventModel
+from .clocking import events_json, order_lines, settle_order, state_of, warning_lines
 from .common import Options, make_result, replay, stepping
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
@@ -61,8 +64,17 @@ def claim_condition(check: Check, claim: Claim, solver: str) -> int:
 # --- the claim -------------------------------------------------------------------
 
 def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
-    """('explicit' | 'sat', why): the engine a recover question runs on."""
+    """('explicit' | 'sat', why): the engine a recover question runs on. An asynchronous
+    design goes to the explicit engine, which explores every order of its clocks."""
     ok, why = X.feasible(check.space, cond, opts.solver)
+    if not check.design.model.synchronous:
+        pos = check.sequence_pos or check.pos
+        if opts.engine == "sat":
+            raise InputError(pos, "the SAT engine does not read asynchronous designs; use --engine explicit or auto")
+        if not ok:
+            raise InputError(pos, f"recover on this asynchronous design needs the explicit engine, "
+                                  f"which cannot take it: {why}")
+        return "explicit", ""
     if opts.engine == "explicit":
         if not ok:
             pos = check.sequence_pos or check.pos
@@ -78,7 +90,8 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     X.require_whole_state(check.space)
     cond = claim_condition(check, claim, opts.solver)
     engine, why = choose_engine(check, cond, opts)
-    if engine == "explicit" and opts.engine == "auto" and check.width > SAT_FIRST_WIDTH:
+    if engine == "explicit" and opts.engine == "auto" and check.width > SAT_FIRST_WIDTH \
+            and check.design.model.synchronous:
         # a short SAT search first: it settles short tails at any width in a few frames
         s = sat_search(check.space, cond, claim.within, budget, opts.solver, max_depth=SAT_FIRST_DEPTH)
         if s.status == "proved" or (s.status == "slow" and s.worst is not None):
@@ -91,6 +104,8 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
         except OutOfBudget as e:
             res = make_result(check, claim, OPEN, "ran out of time in the exhaustive search",
                               details={"engine": "explicit", "worst": None, "locked": None, "depth": e.depth})
+        except X.NeverSettles as e:
+            res = _never_settles(check, claim, e)
     else:
         res = _sat(check, claim, cond, opts, budget)
     if why:
@@ -99,11 +114,30 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
 
 
 def _replayed(check: Check, codes: list[int], inputs: list[dict[str, int]]) -> list[TraceEntry]:
-    """The trace of a run, replayed through the simulator (which raises if it does not match)."""
+    """The trace of a run, replayed through the simulator (which raises if it does not match).
+
+    A step of an asynchronous design carries an order of firings that settles
+    where the run goes next."""
     trace = [TraceEntry(i, c, dict(inputs[i]) if i < len(inputs) else None) for i, c in enumerate(codes)]
     trace[-1].inputs = None
+    if not check.design.model.synchronous:
+        for t, nxt in zip(trace, codes[1:]):
+            t.events = events_json(check, settle_order(check, t.code, t.inputs or {}, nxt))
     replay(check.design, check, trace)
     return trace
+
+
+def _never_settles(check: Check, claim: Claim, e: "X.NeverSettles") -> Result:
+    em = EventModel(check.design.model, e.inputs)
+    ex = Exploration(em)
+    root, _ = ex.explore(state_of(check, e.code))
+    order = never_settling(ex, root)
+    trace = [TraceEntry(0, e.code, dict(e.inputs), events=events_json(check, order))]
+    replay(check.design, check, trace)
+    lines = [f"from unused code {e.code} this order of firings never settles:"] + order_lines(check, root.code, order)
+    return make_result(check, claim, REFUTED, f"from unused code {e.code} a clock never settles",
+                       trace=trace, details={"engine": "explicit", "worst": None, "locked": None,
+                                             "warnings": warning_lines(order)}, evidence=lines)
 
 
 def _arrow(codes: list[int], limit: int = 24) -> str:

@@ -237,7 +237,6 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design], part_only: Opti
         elif isinstance(s, P.CountStmt):
             claims.append(Claim("count", s.pos))
         elif isinstance(s, P.RecoverStmt):
-            _synchronous_only(s.pos, "recover", design)
             cond = None if s.cond is None else cond_scope.bit(s.cond, "a recover condition")
             claims.append(Claim("recover", s.pos, within=s.within, cond=cond))
         elif isinstance(s, P.SettleStmt):
@@ -270,7 +269,7 @@ def _synchronous_only(pos: Pos, what: str, design: Design) -> None:
     if not design.model.synchronous:
         raise InputError(pos, f"{what} on an asynchronous design ({design.name} has flops clocked by "
                               f"flops, or an asynchronous clear or preset) is not supported yet; "
-                              f"count, always, settle and glitchfree are")
+                              f"count, recover, always, settle and glitchfree are")
 
 
 def _watched(design: Design, exprs: list[P.Expr]) -> list[tuple[str, int]]:

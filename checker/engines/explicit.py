@@ -39,7 +39,12 @@ from ..errors import InputError
 from ..model import Aig, evaluate
 from .sat import DEFAULT_SOLVER, Encoder, Sat
 from ..model.simulate import eval_states
+from ..model.events import EventModel
 from ..model.space import CodeSpace
+from .cascade import Exploration
+
+ASYNC_MAX_WIDTH = 16
+"""Widest code of an asynchronous design whose every clock the explicit engine explores."""
 
 MAX_WIDTH = 25
 """Widest code the explicit engine takes."""
@@ -157,15 +162,18 @@ def _names_of(space: CodeSpace, nodes: list[int]) -> list[str]:
 
 
 def _next_input_nodes(space: CodeSpace) -> list[int]:
-    """The input nodes that reach the next code."""
+    """The input nodes that reach the next code (through the pins, or an asynchronous clear or preset)."""
     m = space.model
-    return _input_nodes(space, [m.next_lits[i] for i in space.code])
+    return _input_nodes(space, [m.next_lits[i] for i in space.code] + list(m.async_clear) + list(m.async_preset))
 
 
 def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> tuple[bool, str]:
     """Whether the explicit engine can take this check under ``cond``, and why not."""
     require_whole_state(space)
     w = space.width
+    if not space.model.synchronous and w > ASYNC_MAX_WIDTH:
+        return False, (f"the code is {w} bits wide (the explicit engine explores every order of an "
+                       f"asynchronous design's clocks up to {ASYNC_MAX_WIDTH} bits)")
     if w > MAX_WIDTH:
         return False, f"the code is {w} bits wide (the explicit engine takes up to {MAX_WIDTH})"
     nxt = _next_input_nodes(space)
@@ -603,8 +611,70 @@ def analyse(g: Graph, budget: Optional[Budget] = None) -> Analysis:
 
 
 def explore(space: CodeSpace, cond: int, budget: Optional[Budget] = None, solver: str = DEFAULT_SOLVER) -> Analysis:
-    """Build the successor graph of ``space`` under ``cond`` and analyse it."""
-    return analyse(build_graph(space, admissible_rows(space, cond, solver), budget), budget)
+    """Build the successor graph of ``space`` under ``cond`` and analyse it (an asynchronous
+    design's successors are its settled codes, every order of every clock)."""
+    rows = admissible_rows(space, cond, solver)
+    build = build_graph if space.model.synchronous else build_settled_graph
+    return analyse(build(space, rows, budget), budget)
+
+
+class NeverSettles(Exception):
+    """From an unused code, under one input row, some order of firings never settles."""
+
+    def __init__(self, code: int, inputs: dict[str, int]) -> None:
+        super().__init__(f"from code {code} an order of firings never settles")
+        self.code = code
+        self.inputs = inputs
+
+
+def build_settled_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] = None) -> Graph:
+    """The settled successors of every code under every admissible row (an asynchronous design).
+
+    Every order of each clock is explored (:mod:`checker.engines.cascade`);
+    a clock with several settled codes gives each its own row, so the
+    analysis chooses among them at worst, as it does among inputs. A clock
+    from an unused code that never settles raises :class:`NeverSettles`.
+    """
+    w = space.width
+    n = 1 << w
+    member = space.member_array(np.arange(n, dtype=np.uint64))
+    per_row: list[list[list[int]]] = []
+    for r in range(len(rows)):
+        em = EventModel(space.model, rows.full[r])
+        succ: list[list[int]] = []
+        for c in range(n):
+            if c % 256 == 0:
+                _tick(budget, 0)
+            ex = Exploration(em)
+            _, out = ex.explore(_state_int(space, c))
+            if out.never:
+                if not member[c]:
+                    raise NeverSettles(c, rows.full[r])
+                succ.append([c])
+                continue
+            succ.append(sorted(_code_int(space, s) for s in out.settled))
+        per_row.append(succ)
+    k = max(len(s) for succ in per_row for s in succ)
+    table = np.empty((len(rows) * k, n), dtype=np.uint32)
+    values, full = [], []
+    for r, succ in enumerate(per_row):
+        for j in range(k):
+            table[r * k + j] = [s[min(j, len(s) - 1)] for s in succ]
+            values.append(rows.values[r])
+            full.append(rows.full[r])
+    return Graph.of(w, table, Rows(rows.names, values, full), member)
+
+
+def _state_int(space: CodeSpace, code: int) -> int:
+    w = space.width
+    return sum(((code >> (w - 1 - k)) & 1) << i for k, i in enumerate(space.code))
+
+
+def _code_int(space: CodeSpace, state: int) -> int:
+    v = 0
+    for i in space.code:
+        v = (v << 1) | ((state >> i) & 1)
+    return v
 
 
 # --- runs ------------------------------------------------------------------------
