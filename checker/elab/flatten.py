@@ -116,7 +116,8 @@ class _Flattener:
         key = prefix + name
         old = self.syms.get(key)
         if old is not None and key in self.flop_outs and sym.kind == "flop":
-            return  # a part's output that is its flop: read as the part's output
+            self.syms[key] = sym  # a part's output that is its flop: the flop, read as the output
+            return
         if old is not None and not (old.pos == sym.pos and old.kind == sym.kind):
             raise InputError(sym.pos, f"'{name}' is defined twice (first at line {old.pos.line}, col {old.pos.col})")
         self.syms[key] = sym
@@ -330,7 +331,7 @@ class _Flattener:
             if part.kind != "part":
                 raise InputError(r.pos, f"'{r.path[0]}' is {kind_text(part.kind)}, not a part")
             sym = self.syms.get(prefix + name)
-            if sym is None or sym.kind != "out":
+            if sym is None or (sym.kind != "out" and prefix + name not in self.flop_outs):
                 raise InputError(r.pos, f"design {part.design} has no output '{r.path[1]}'")
             return select_bits(sym, r.index, name)
         raise InputError(r.pos, f"'{name}': inside a design, read a part's output as PART.PORT")
