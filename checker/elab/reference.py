@@ -231,7 +231,7 @@ class Reference:
             else:
                 part, port = r.path
                 sym = sc.parts[part].syms[port]
-                assert sym.kind == "out", r
+                assert sym.kind in ("out", "flop"), r  # a flop of the output's name is that output
                 names = sym.select(r.index)
             self._names[key] = names
         return names

@@ -506,6 +506,10 @@ class _Body:
         d = t.data
         p = self.r.pos(t)
         zero = N.const(0, p)
+        if _constant(t):
+            self.width(t)  # the width checks (unsized numbers in braces, repetition counts)
+            v = self.cval(t) % (1 << w)
+            return [N.const((v >> k) & 1, p) for k in range(w)]
         if d in ("number", "based"):
             v = int(str(t.children[0]).replace("_", "")) if d == "number" else self.r.based(t.children[0])[0]
             if d == "number" and v >> 32:
@@ -556,6 +560,58 @@ class _Body:
             a, b = self.ev(t.children[1], w), self.ev(t.children[2], w)
             return [self.mux(c, y, x, p) for x, y in zip(a, b)]
         return self.ext([self.one_bit(t)], w, p)
+
+    def cval(self, t: Tree) -> int:
+        """A constant expression as a Python integer: its value modulo 2**w is its value at width w.
+
+        Unsized decimal numbers are signed in IEEE 1364 (section 3.5.1), so an expression
+        of those alone is signed (section 5.5.1); a comparison of two signed operands
+        compares them as 32-bit two's complement. Everything else is unsigned."""
+        d = t.data
+        ch = t.children
+        if d == "number":
+            return int(str(ch[0]).replace("_", ""))
+        if d == "based":
+            return self.r.based(ch[0])[0]
+        if d == "bit_not":
+            return ~self.cval(ch[0])
+        if d == "negate":
+            return -self.cval(ch[0])
+        if d == "unary_plus":
+            return self.cval(ch[0])
+        if d in ("plus", "minus", "bit_and", "bit_or", "bit_xor", "bit_xnor"):
+            a, b = self.cval(ch[0]), self.cval(ch[1])
+            return {"plus": a + b, "minus": a - b, "bit_and": a & b, "bit_or": a | b, "bit_xor": a ^ b,
+                    "bit_xnor": ~(a ^ b)}[d]
+        if d == "cond":
+            c = self.cval(ch[0]) % (1 << self.width(ch[0]))
+            return self.cval(ch[1]) if c else self.cval(ch[2])
+        if d in ("concat", "repl"):
+            items = ch if d == "concat" else ch[1:]
+            v = 0
+            for c in items:
+                wc = self.width(c)
+                v = (v << wc) | (self.cval(c) % (1 << wc))
+            if d == "repl":
+                wi = sum(self.width(c) for c in items)
+                v = sum(v << (wi * k) for k in range(self.r.const(ch[0])))
+            return v
+        if d in ("eq", "ne", "lt", "le", "gt", "ge"):
+            wc = max(self.width(ch[0]), self.width(ch[1]))
+            a, b = self.cval(ch[0]) % (1 << wc), self.cval(ch[1]) % (1 << wc)
+            if _signed(ch[0]) and _signed(ch[1]):
+                a, b = a - ((a >> (wc - 1)) << wc), b - ((b >> (wc - 1)) << wc)
+            return int({"eq": a == b, "ne": a != b, "lt": a < b, "le": a <= b, "gt": a > b, "ge": a >= b}[d])
+        if d in ("log_and", "log_or", "log_not"):
+            vals = [self.cval(c) % (1 << self.width(c)) != 0 for c in ch]
+            return int(not vals[0]) if d == "log_not" else int(all(vals) if d == "log_and" else any(vals))
+        if d.startswith("red_"):
+            wx = self.width(ch[0])
+            v = self.cval(ch[0]) % (1 << wx)
+            ones = bin(v).count("1")
+            return {"and": int(ones == wx), "nand": int(ones != wx), "or": int(ones > 0), "nor": int(ones == 0),
+                    "xor": ones % 2, "xnor": 1 - ones % 2}[d[4:]]
+        raise InputError(self.r.pos(t), f"'{d}' is not a constant")  # pragma: no cover
 
     def mux(self, s: P.Expr, a: P.Expr, b: P.Expr, p: Pos) -> P.Expr:
         """``a`` when ``s`` is 0, ``b`` when 1."""
@@ -901,6 +957,27 @@ class _Body:
                 out[key] = (self.share(self.mux(c, vb, va, p)), s, k)
             return out
         raise InputError(self.r.pos(t), f"'{d}' is outside the Verilog subset")  # pragma: no cover
+
+
+def _constant(t: Tree) -> bool:
+    """No signal anywhere in ``t``."""
+    if t.data in ("ident", "bit_sel", "part_sel"):
+        return False
+    return all(_constant(c) for c in t.children if isinstance(c, Tree))
+
+
+def _signed(t: Tree) -> bool:
+    """IEEE 1364 section 5.5.1: signed when every operand is; only unsized decimal numbers are."""
+    d = t.data
+    if d == "number":
+        return True
+    if d in ("bit_not", "negate", "unary_plus"):
+        return _signed(t.children[0])
+    if d in ("plus", "minus", "bit_and", "bit_or", "bit_xor", "bit_xnor"):
+        return _signed(t.children[0]) and _signed(t.children[1])
+    if d == "cond":
+        return _signed(t.children[1]) and _signed(t.children[2])
+    return False
 
 
 def _is_zero(x: P.Expr) -> bool:
