@@ -237,11 +237,11 @@ def export_aiger(check: Check, claim: Claim, path: str) -> dict:
     elif claim.kind == "equal":  # after COND
         other = claim.other
         om = other.model
-        ins2 = {n: aig.leaf(n + "@2") for n in model.inputs}
-        c.inputs += list(ins2.items())
+        ins2 = {n: aig.leaf("again." + n) for n in model.inputs}
+        c.inputs += [("again." + n, l) for n, l in ins2.items()]
         copies = []
         for tag, mdl, inputs in (("a", model, ins), ("a2", model, ins2), ("b", om, ins), ("b2", om, ins2)):
-            states = {n: aig.leaf(f"{mdl.name}@{tag}.{n}") for n in mdl.states}
+            states = {n: aig.leaf(f"{tag}.{n}") for n in mdl.states}
             cond_src = claim.cond if mdl is model else claim.other_cond
             got = _copy(mdl, aig, {n: inputs[n] for n in mdl.inputs}, states,
                         list(mdl.next_lits) + list(mdl.output_lits) + [cond_src])
@@ -254,7 +254,7 @@ def export_aiger(check: Check, claim: Claim, path: str) -> dict:
         c.latches.append(("run_ok", valid, aig.and_(valid, aig.or_(started, first_ok)), 1))
         for tag, mdl, states, nexts, _, _ in copies:
             for (n, l), nx in zip(states.items(), nexts):
-                c.latches.append((f"{mdl.name}@{tag}.{n}", l, aig.mux(started, nx, l) if tag.endswith("2") else nx, None))
+                c.latches.append((f"{tag}.{n}", l, aig.mux(started, nx, l) if tag.endswith("2") else nx, None))
         a, a2, b, b2 = copies
         undetermined = aig.or_(_differ(aig, list(a[2].values()), list(a2[2].values())),
                                _differ(aig, list(b[2].values()), list(b2[2].values())))
@@ -263,9 +263,10 @@ def export_aiger(check: Check, claim: Claim, path: str) -> dict:
         c.latches.append(("first_clock_done", first, started, 0))
         bad = aig.and_all([valid, started, aig.or_(aig.and_(first ^ 1, undetermined), outs)])
         c.bad.append((f"equal after at {where}", bad))
-        head.append(f"two copies of {check.design.name} (@a, @a2) and of {other.name} (@b, @b2) start free; the first "
-                    f"clock applies the condition to both input copies (NAME and NAME@2); the bad output can become "
-                    f"1 exactly when that clock leaves a design in more than one state, or the outputs of @a and @b "
+        head.append(f"two copies of {check.design.name} (latches a.NAME, a2.NAME) and of {other.name} (b.NAME, "
+                    f"b2.NAME) start free; the first clock applies the condition to both input copies (NAME and "
+                    f"again.NAME); the bad output can become 1 exactly when that clock leaves a design in more "
+                    f"than one state, or the outputs of a and b "
                     f"differ afterwards (the claim is refuted)")
         del b2
     else:
