@@ -902,7 +902,9 @@ class _Body:
                 if key not in assigned:
                     assigned[key] = (self.bit_ref(s, k, p), s, k)
             none_before = N.and_([none_before, N.neg(c, p)], p)
-        for key, (x, s, k) in assigned.items():
+        order = {n: i for i, n in enumerate(self.m.sigs)}
+        # flop bits in declaration order, most significant first (the order of a code)
+        for key, (x, s, k) in sorted(assigned.items(), key=lambda kv: (order[kv[1][1].name], -kv[1][2])):
             if key in self.flop_bits:
                 first = self.flop_bits[key]
                 bit = key[0] if key[1] is None else f"{key[0]}[{key[1]}]"
