@@ -270,3 +270,51 @@ end
     ns = load_namespace(str(tmp_path / "top.cnl"))
     verdicts = [r.status for c in ns.checks for r in run_check(c, Options())]
     assert verdicts == ["proved", "proved", "proved"]
+
+
+# --- random designs through every format ----------------------------------------------------
+from hypothesis import HealthCheck, given, settings, strategies as st  # noqa: E402
+
+PINS = {"D": ("d",), "T": ("t",), "JK": ("j", "k"), "SR": ("s", "r")}
+
+
+@st.composite
+def random_design(draw):
+    n_in = draw(st.integers(1, 3))
+    n_q = draw(st.integers(1, 4))
+    leaves = [f"x{i}" for i in range(n_in)] + [f"q[{i}]" for i in range(n_q)] + ["0", "1"]
+
+    def expr(depth):
+        if depth == 0 or draw(st.booleans()):
+            e = draw(st.sampled_from(leaves))
+            return ("!" + e) if draw(st.booleans()) and e not in ("0", "1") else e
+        op = draw(st.sampled_from(["&", "|", "^"]))
+        return f"({expr(depth - 1)} {op} {expr(depth - 1)})"
+
+    lines = ["design rnd", "  in " + ", ".join(f"x{i}" for i in range(n_in))]
+    for i in reversed(range(n_q)):
+        kind = draw(st.sampled_from(sorted(PINS)))
+        pins = ", ".join(f"{p} = {expr(2)}" for p in PINS[kind])
+        extra = (f" clear {draw(st.sampled_from(leaves[:n_in]))}" if draw(st.booleans()) else "")
+        extra += (f" preset {expr(1)}" if draw(st.booleans()) else "")
+        lines.append(f"  flop q[{i}] : {kind} ({pins}){extra}")
+    lines.append(f"  node m = {expr(2)}")
+    for k in range(draw(st.integers(1, 3))):
+        lines.append(f"  out y{k} = {expr(2)} ^ m")
+    if draw(st.booleans()):
+        lines.append(f"  out q[{n_q - 1}:0] = q")
+    lines.append("end")
+    return "\n".join(lines) + "\n"
+
+
+@settings(max_examples=40, suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])
+@given(text=random_design())
+def test_random_designs_round_trip_through_every_format(tmp_path_factory, text):
+    d = tmp_path_factory.mktemp("rnd")
+    (d / "rnd.cnl").write_text(text)
+    original = load_namespace(str(d / "rnd.cnl")).designs["rnd"]
+    for ext in FORMATS:
+        out = d / "out" / f"rnd{ext}"
+        out.parent.mkdir(exist_ok=True)
+        write_design(original, str(out))
+        assert_same_circuit(original, load_namespace(str(out)).designs["rnd"])
