@@ -243,8 +243,10 @@ def aiger_file(path: str, data: bytes, properties: bool = False) -> P.File:
     With ``properties``, bad-state and justice literals become outputs ``bad0``,
     ``justice0_1`` ... (for tests that check what ``export`` wrote); otherwise a
     file with bad, constraint, justice or fairness entries is refused."""
-    d = parse_aiger(path, data)
     top = Pos(path, 1, 1)
+    if len(data) > P.MAX_FILE_BYTES:
+        raise InputError(top, f"file is larger than {P.MAX_FILE_BYTES // (1024 * 1024)} MiB (the limit)")
+    d = parse_aiger(path, data)
     if not properties:
         for what, items in (("bad-state", d.bad), ("constraint", d.constraints), ("justice", d.justice),
                             ("fairness", d.fairness)):
