@@ -22,7 +22,7 @@ from checker.elab import load_namespace
 from checker.engines.miter import paired_miter
 from checker.engines.sat import DEFAULT_SOLVER
 from checker.errors import InputError
-from checker.lang.aiger import aiger_file, parse_aiger
+from checker.lang.aiger import parse_aiger
 from checker.tools.netlists import FORMATS, write_design
 
 ROOT = Path(__file__).resolve().parent.parent

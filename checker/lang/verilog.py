@@ -28,7 +28,7 @@ from pathlib import Path
 from typing import Optional
 
 from lark import Lark, Token, Tree
-from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedToken
 
 from ..errors import InputError, Pos
 from . import netlist as N
@@ -160,7 +160,7 @@ class Module:
     sigs: dict[str, Sig] = field(default_factory=dict)
     ports: list[str] = field(default_factory=list)
     clocks: set[str] = field(default_factory=set)  # inputs that are the system clock
-    instances: list[tuple[str, Tree]] = field(default_factory=list)
+    clocked: bool = False  # find_clocks has run
 
 
 class VerilogReader:
@@ -329,7 +329,7 @@ class VerilogReader:
 
     def find_clocks(self, m: Module, stack: list[str]) -> None:
         """The system clock of ``m``: the inputs that only clock flops, directly or through parts."""
-        if getattr(m, "_clocked", False):
+        if m.clocked:
             return
         if m.name in stack:
             raise InputError(m.pos, "recursive module instances: " + " -> ".join(stack + [m.name]))
@@ -358,21 +358,16 @@ class VerilogReader:
             names = sorted(m.clocks)
             raise InputError(used_as_clock[names[1]], f"module {m.name} is clocked by inputs {' and '.join(names)}; "
                                                      f"one input is its system clock")
-        m._clocked = True
+        m.clocked = True
 
     def clock_events(self, m: Module, t: Tree) -> list[tuple[str, Pos]]:
         """Inputs of ``m`` used as the clock (not an asynchronous reset) of an always block."""
-        events = t.children[:-1]
-        clk = self.split_events(m, t)[0]
-        if clk is None:
-            return []
-        edge, e = clk
+        _, e = self.split_events(m, t)[0]
         if e.data == "ident":
             nm = self.name(e.children[0])
             s = m.sigs.get(nm)
             if s is not None and s.kind == "input":
                 return [(nm, self.pos(e))]
-        del events
         return []
 
     def split_events(self, m: Module, t: Tree):
@@ -763,7 +758,7 @@ class _Body:
             if s.is_reg:
                 v = self.r.const(e) if e.data in ("number", "based") else None
                 if v is None or v >> s.width:
-                    raise InputError(self.r.pos(e), f"a reg's initial value is a number of its width")
+                    raise InputError(self.r.pos(e), "a reg's initial value is a number of its width")
                 for kk in range(s.width):
                     i = s.index_of(kk)
                     self.inits[s.name if i is None else f"{s.name}[{i}]"] = (v >> kk) & 1

@@ -21,7 +21,7 @@ from typing import Optional
 
 from ..elab import Design
 from ..lang import parse as P
-from ..lang.netlist import Vectors, fresh_prefix, split_bit
+from ..lang.netlist import Vectors, fresh_prefix
 from ..lang.unparse import unparse_file
 from ..model import Aig
 
@@ -166,7 +166,6 @@ def blif_text(design: Design) -> str:
         a, b = aig.left[n], aig.right[n]
         out.append(f".names {sig[a >> 1]} {sig[b >> 1]} {sig[n]}")
         out.append(f"{1 - (a & 1)}{1 - (b & 1)} 1")
-    consts: set[int] = set()
 
     def source(l: int, want: str) -> None:
         """Drive signal ``want`` with literal ``l``."""
@@ -186,7 +185,6 @@ def blif_text(design: Design) -> str:
         if l >> 1 in sig and sig[l >> 1] == n and not l & 1:
             continue  # a flop of the same name is the output
         source(l, n)
-    del consts
     out.append(".end")
     return "\n".join(out) + "\n"
 
@@ -211,7 +209,6 @@ def _vname(n: str) -> str:
 def verilog_text(design: Design) -> str:
     c = design_circuit(design)
     aig = c.aig
-    m = design.model
     vec = Vectors()
     in_groups = vec.group([n for n, _ in c.inputs])
     st_groups = vec.group([n for n, *_ in c.latches])
@@ -281,7 +278,6 @@ def verilog_text(design: Design) -> str:
             lines.append(f"    {bit(n)} <= {expr(nx)};")
         lines.append("  end")
     lines.append("endmodule")
-    del m
     return "\n".join(lines) + "\n"
 
 
@@ -405,4 +401,4 @@ def write_design(design: Design, path: str) -> dict:
 
 
 __all__ = ["Circuit", "FORMATS", "aiger_bytes", "blif_text", "cnl_text", "design_circuit", "verilog_text",
-           "write_design", "split_bit"]
+           "write_design"]
