@@ -25,27 +25,39 @@ from checker.lang.aiger import AigerData, parse_aiger
 from checker.tools.export import export_aiger
 
 ROOT = Path(__file__).resolve().parent.parent
-MAX_BITS = 13  # latches + inputs searched exhaustively
+MAX_BITS = 16  # latches + inputs searched exhaustively
 
 
 class Brute:
     def __init__(self, d: AigerData) -> None:
         self.d = d
 
-    def step(self, state: tuple, inputs: tuple) -> tuple[tuple, dict]:
+    def steps(self, state: tuple) -> tuple[list[tuple], list[int], list[int]]:
+        """From ``state``, under every input at once (each value a bit set over the input
+        rows): the next state of each row, and the rows where a bad output is 1 or where
+        every literal of justice property 0 is 1, as bit sets."""
+        rows = 1 << len(self.d.inputs)
+        ones = (1 << rows) - 1
         val = {0: 0}
-        for x, v in zip(self.d.inputs, inputs):
-            val[x >> 1] = v
+        for k, x in enumerate(self.d.inputs):
+            val[x >> 1] = sum(1 << r for r in range(rows) if (r >> k) & 1)
         for (x, _, _), v in zip(self.d.latches, state):
-            val[x >> 1] = v
+            val[x >> 1] = ones if v else 0
         for lhs, a, b in self.d.ands:
-            val[lhs >> 1] = (val[a >> 1] ^ (a & 1)) & (val[b >> 1] ^ (b & 1))
+            val[lhs >> 1] = (val[a >> 1] ^ (ones if a & 1 else 0)) & (val[b >> 1] ^ (ones if b & 1 else 0))
 
         def lit(x):
-            return val[x >> 1] ^ (x & 1)
+            return val[x >> 1] ^ (ones if x & 1 else 0)
 
-        nxt = tuple(lit(n) for _, n, _ in self.d.latches)
-        return nxt, {"bad": [lit(x) for x in self.d.bad], "justice": [[lit(x) for x in js] for js in self.d.justice]}
+        nxt = [lit(n) for _, n, _ in self.d.latches]
+        succ = [tuple((v >> r) & 1 for v in nxt) for r in range(rows)]
+        bad = 0
+        for x in self.d.bad:
+            bad |= lit(x)
+        fair = ones if self.d.justice else 0
+        for x in (self.d.justice[0] if self.d.justice else []):
+            fair &= lit(x)
+        return succ, bad, fair
 
     def initial(self):
         choices = [(0, 1) if r == x else (r,) for x, _, r in self.d.latches]
@@ -53,7 +65,6 @@ class Brute:
 
     def search(self) -> tuple[bool, bool]:
         """(some bad output reachable, some justice property witnessed by a reachable cycle)."""
-        ins = list(itertools.product((0, 1), repeat=len(self.d.inputs)))
         seen = set(self.initial())
         todo = list(seen)
         g = nx.DiGraph()
@@ -61,11 +72,11 @@ class Brute:
         bad = False
         while todo:
             s = todo.pop()
-            for i in ins:
-                t, out = self.step(s, i)
-                bad |= any(out["bad"])
+            succ, bad_rows, fair_rows = self.steps(s)
+            bad |= bad_rows != 0
+            for r, t in enumerate(succ):
                 g.add_edge(s, t)
-                if out["justice"] and all(out["justice"][0]):
+                if (fair_rows >> r) & 1:
                     marked.append((s, t))
                 if t not in seen:
                     seen.add(t)
