@@ -307,3 +307,46 @@ def test_syntax_error_has_line_and_column(tmp_path):
     with pytest.raises(InputError) as e:
         load_namespace(str(p))
     assert (e.value.pos.line, e.value.pos.col) == (2, 17)
+
+
+def _refusal(tmp_path, line3: str):
+    src = f"// every refused word\nmodule m (input a, output y);\n{line3}\n  assign y = a;\nendmodule\n"
+    p = tmp_path / "m.v"
+    p.write_text(src)
+    with pytest.raises(InputError) as e:
+        load_namespace(str(p))
+    return e.value
+
+
+@pytest.mark.parametrize("word", sorted(__import__("checker.lang.verilog", fromlist=["x"]).REFUSED_WORDS))
+def test_every_refused_word_is_named_at_its_place(tmp_path, word):
+    from checker.lang.verilog import REFUSED_WORDS
+    err = _refusal(tmp_path, f"  wire w; {word}")
+    assert (err.pos.line, err.pos.col) == (3, 11) and REFUSED_WORDS[word] in err.message
+
+
+@pytest.mark.parametrize("op,what", [("*", "multiplication"), ("/", "division"), ("%", "modulus"),
+                                     ("**", "power"), ("<<", "shift"), (">>", "shift"), ("<<<", "shift"),
+                                     (">>>", "shift"), ("===", "case equality"), ("!==", "case inequality")])
+def test_every_refused_operator_is_named_at_its_place(tmp_path, op, what):
+    err = _refusal(tmp_path, f"  wire w = a {op} a;")
+    assert (err.pos.line, err.pos.col) == (3, 14) and what in err.message
+
+
+@pytest.mark.parametrize("text,col,what", [
+    ("  (* keep *) wire w;", 3, "attributes"),
+    ("  `define W 4", 3, "compiler directives"),
+    ('  wire w = "a";', 12, "strings"),
+    ("  wire w = 4'sd3;", 13, "signed numbers"),
+    ("  wire w = 'bz;", 12, "x and z"),
+    ("  always @ * w = a;", 10, "always @(*)"),
+])
+def test_other_refusals(tmp_path, text, col, what):
+    err = _refusal(tmp_path, text)
+    assert (err.pos.line, err.pos.col) == (3, col) and what in err.message, str(err)
+
+
+def test_timescale_is_read_and_ignored(tmp_path):
+    p = tmp_path / "t.v"
+    p.write_text("`timescale 1ns/1ps\nmodule t (input a, output y);\n  assign y = !a;\nendmodule\n")
+    assert load_namespace(str(p)).designs["t"].model.step({}, {"a": 0})[1] == {"y": 1}

@@ -65,7 +65,7 @@ REFUSED_WORDS = {
     "small": "charge strengths", "medium": "charge strengths", "large": "charge strengths",
 }
 
-_TOKEN = re.compile(r"""(?P<comment>//[^\n]*|/\*.*?\*/)|(?P<str>"(?:[^"\\\n]|\\.)*")|(?P<esc>\\\S+)
+_TOKEN = re.compile(r"""(?P<comment>//[^\n]*|/\*.*?\*/)|(?P<ts>`timescale[^\n]*)|(?P<str>"(?:[^"\\\n]|\\.)*")|(?P<esc>\\\S+)
     |(?P<word>[A-Za-z_][A-Za-z0-9_$]*)|(?P<sys>\$[A-Za-z0-9_$]*)|(?P<dir>`[A-Za-z_][A-Za-z0-9_]*)
     |(?P<num>[0-9][0-9_]*)|(?P<based>'[sS]?[bBoOdDhH]\s*[0-9a-fA-FxXzZ?_]+)
     |(?P<op>===|!==|\*\*|<<<|>>>|<<|>>|->|\(\*|\*\)|@\s*\*|@\s*\(\s*\*\s*\)|[*/%\#]|\S)""",
@@ -104,7 +104,7 @@ def _refuse_outside(path: str, text: str) -> None:
             where = _OPS[tok]
         if where is not None:
             line, col = _line_col(text, m.start())
-            raise InputError(Pos(path, line, col), f"{where} are outside the Verilog subset countersign reads "
+            raise InputError(Pos(path, line, col), f"not in the Verilog subset countersign reads: {where} "
                                                    f"(structural netlists: see 'Standard netlists' in the README)")
 
 
