@@ -384,3 +384,23 @@ def test_blif_ripple_stage_reaches_the_elaborator(tmp_path):
     with pytest.raises(InputError) as e:
         load_namespace(str(tmp_path / "rip.blif"))
     assert "not supported yet" in e.value.message and e.value.pos.line == 5
+
+
+def test_blif_clock_passed_down_to_subcircuits(tmp_path):
+    text = """.model pair
+.inputs clk go
+.outputs a b
+.subckt bit clk=clk d=go q=a
+.subckt bit clk=clk d=a q=b
+.end
+.model bit
+.inputs clk d
+.outputs q
+.latch d q re clk 0
+.end
+"""
+    (tmp_path / "pair.blif").write_text(text)
+    d = load_namespace(str(tmp_path / "pair.blif")).designs["pair"]
+    assert d.model.inputs == ["go"] and len(d.model.states) == 2
+    nxt, outs, _ = d.model.step({s: 0 for s in d.model.states}, {"go": 1})
+    assert sorted(nxt.values()) == [0, 1]

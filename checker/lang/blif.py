@@ -171,18 +171,20 @@ def _latch(args: list[tuple[str, Pos]], hp: Pos) -> dict:
     return lat
 
 
-def _system_clocks(m: _Model) -> set[str]:
-    """The inputs of ``m`` that control latches (and nothing else): its system clock."""
+def _system_clocks(m: _Model, clocks: dict[str, set[str]]) -> set[str]:
+    """The inputs of ``m`` that control latches, its own or through a subcircuit's clock
+    (and nothing else): its system clock. ``clocks``: what is known of the other models."""
     used: set[str] = set()
+    ctl = {lat["control"][0] for lat in m.latches if lat["control"] is not None}
     for ins, _, _, _ in m.covers:
         used.update(w for w, _ in ins)
     for lat in m.latches:
         used.add(lat["in"][0])
-    for _, _, conns, _ in m.subckts:
-        used.update(b for _, b, _ in conns)
+    for model, _, conns, _ in m.subckts:
+        for a, b, _ in conns:
+            (ctl if a in clocks.get(model, ()) else used).add(b)
     used.update(w for w, _ in m.outputs)
     names = {w for w, _ in m.inputs}
-    ctl = {lat["control"][0] for lat in m.latches if lat["control"] is not None}
     return {c for c in ctl if c in names and c not in used}
 
 
@@ -191,7 +193,12 @@ def blif_file(path: str, data: bytes) -> P.File:
     text = P.decode_source(path, data)
     models = _parse(path, text)
     by_name = {m.name: m for m in models}
-    clocks = {m.name: _system_clocks(m) for m in models}
+    clocks: dict[str, set[str]] = {}
+    for _ in range(len(models) + 1):  # through every level of subcircuits
+        new = {m.name: _system_clocks(m, clocks) for m in models}
+        if new == clocks:
+            break
+        clocks = new
     f = P.File(path)
     for m in models:
         f.designs.append(_design(m, by_name, clocks))
