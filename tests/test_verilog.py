@@ -280,6 +280,7 @@ endmodule
     ("  assign y = w;", 3, 14, "not declared"),
     ("  assign q = a;", 3, 10, "reg"),
     ("  assign y = a;\n  assign y = !a;", 4, 10, "driven twice"),
+    ("  reg r;\n  always @(negedge clk) r <= a;", 5, 20, "both edges"),
 ])
 def test_refused_constructs_name_themselves(tmp_path, body, line, col, what):
     src = f"// refusals\nmodule m (input clk, input a, output y, output reg q);\n{body}\n  always @(posedge clk) q <= a;\nendmodule\n"

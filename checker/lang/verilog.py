@@ -334,10 +334,14 @@ class VerilogReader:
         if m.name in stack:
             raise InputError(m.pos, "recursive module instances: " + " -> ".join(stack + [m.name]))
         used_as_clock: dict[str, Pos] = {}
+        edges: dict[str, str] = {}
         for it in m.tree.children[2:]:
             if it.data == "always":
-                for clk in self.clock_events(m, it):
-                    used_as_clock[clk[0]] = clk[1]
+                for name, pos, edge in self.clock_events(m, it):
+                    if edges.setdefault(name, edge) != edge:
+                        raise InputError(pos, f"flops of {m.name} take both edges of {name}; one edge of "
+                                              f"the system clock is read (a half-cycle design is not)")
+                    used_as_clock[name] = pos
             elif it.data == "mod_inst":
                 sub = self.mods.get(self.name(it.children[0]))
                 if sub is None:
@@ -360,14 +364,15 @@ class VerilogReader:
                                                      f"one input is its system clock")
         m.clocked = True
 
-    def clock_events(self, m: Module, t: Tree) -> list[tuple[str, Pos]]:
-        """Inputs of ``m`` used as the clock (not an asynchronous reset) of an always block."""
-        _, e = self.split_events(m, t)[0]
+    def clock_events(self, m: Module, t: Tree) -> list[tuple[str, Pos, str]]:
+        """Inputs of ``m`` used as the clock (not an asynchronous reset) of an always block,
+        with the edge."""
+        edge, e = self.split_events(m, t)[0]
         if e.data == "ident":
             nm = self.name(e.children[0])
             s = m.sigs.get(nm)
             if s is not None and s.kind == "input":
-                return [(nm, self.pos(e))]
+                return [(nm, self.pos(e), edge)]
         return []
 
     def split_events(self, m: Module, t: Tree):
