@@ -35,13 +35,14 @@ from .lang.parse import parse_expr
 from .model.simulate import Step, code_value, run, state_of_code
 from .tools import compare as _compare
 from .tools.codemap import MapDoc, recovery_map
-from .tools.export import export_cnf
+from .tools.export import export_aiger, export_cnf
+from .tools.netlists import FORMATS as DESIGN_FORMATS, write_design
 from .tools.stategraph import StateGraph, state_graph
 
 __all__ = [
     "__version__", "DEFAULT_SOLVER", "OPEN", "PROVED", "REFUTED", "CheckHandle", "CheckRun", "InputError",
     "MapRun", "Options", "Pos", "Program", "Result", "SimRun", "check_files", "compare_files", "demo_path",
-    "exit_status", "expand_paths", "export_claim", "load", "map_check", "options", "simulate", "solver_names",
+    "exit_status", "expand_paths", "export_claim", "export_design", "load", "map_check", "options", "simulate", "solver_names",
 ]
 
 MAX_TIMEOUT = 1e6
@@ -419,12 +420,32 @@ def export_claim(path: str, check: str, line: int, output: str) -> dict:
     if not claims:
         lines = ", ".join(str(c.pos.line) for c in chk.claims) or "none"
         raise InputError(Pos(path, line, 1), f"check {chk.name} has no claim on line {line} (claims on lines: {lines})")
-    if not output.endswith(".cnf"):
-        raise _cmdline(f"a claim is written as DIMACS CNF: give -o a name ending in .cnf, not '{output}'")
+    ext = Path(output).suffix.lower()
+    if ext not in (".cnf", ".aag", ".aig"):
+        raise _cmdline(f"a claim is written as DIMACS (.cnf) or AIGER (.aag, .aig): give -o a name "
+                       f"ending in one of those, not '{output}'")
     try:
-        return export_cnf(chk, claims[0], output)
+        if ext == ".cnf":
+            return export_cnf(chk, claims[0], output)
+        return export_aiger(chk, claims[0], output)
     except ValueError as e:
         raise InputError(claims[0].pos, str(e)) from None
+
+
+def export_design(path: str, design: str, output: str) -> dict:
+    """Write design ``design`` of ``path`` (and its uses) to ``output``, in the format of
+    its extension: .aag/.aig AIGER, .blif, .v structural Verilog, .cnl. Returns what was written."""
+    d = load(path).find_design(design)
+    if Path(output).suffix.lower() not in DESIGN_FORMATS:
+        raise _cmdline(f"a design is written as {', '.join(DESIGN_FORMATS)}: give -o a name ending in one "
+                       f"of those, not '{output}'")
+    if not d.model.synchronous and Path(output).suffix.lower() != ".cnl":
+        raise _cmdline(f"design {d.name} is asynchronous (flops clocked by flops, or an asynchronous clear or "
+                       f"preset); the netlist writers keep only synchronous circuits, so write it as .cnl")
+    try:
+        return write_design(d, output)
+    except OSError as e:
+        raise _cmdline(f"cannot write '{output}': {e.strerror or e}") from None
 
 
 def demo_path() -> Path:

@@ -90,12 +90,19 @@ def cmd_demo(args) -> int:
 
 def cmd_export(args) -> int:
     if args.claim is None:
-        raise InputError(Pos(CMDLINE, 1, 1), "export writes a claim for now: give --claim LINE "
-                                             "(designs to AIGER, BLIF, Verilog and .cnl come with the netlist formats)")
+        stats = api.export_design(args.file, args.name, args.output)
+        _emit(args.json, api.report.json.dumps(stats),
+              f"wrote {args.output}: design {stats['design']}, {stats['inputs']} input bits, "
+              f"{stats['flops']} flops, {stats['outputs']} output bits")
+        return 0
     stats = api.export_claim(args.file, args.name, args.claim, args.output)
-    _emit(args.json, api.report.json.dumps(stats),
-          f"wrote {args.output}: {stats.get('vars')} variables, {stats.get('clauses')} clauses "
-          "(satisfiable means refuted, unsatisfiable proved; the header says more)")
+    if stats.get("format") == "aiger":
+        text = (f"wrote {args.output}: {stats['latches']} latches, {stats['ands']} AND gates; "
+                f"{stats['property']} (the comments say more)")
+    else:
+        text = (f"wrote {args.output}: {stats.get('vars')} variables, {stats.get('clauses')} clauses "
+                "(satisfiable means refuted, unsatisfiable proved; the header says more)")
+    _emit(args.json, api.report.json.dumps(stats), text)
     return 0
 
 
@@ -154,9 +161,10 @@ def build_parser() -> argparse.ArgumentParser:
     common(sp)
     sp.set_defaults(func=cmd_demo)
 
-    sp = sub.add_parser("export", help="a claim (--claim LINE of check NAME) to a standard format: .cnf DIMACS")
+    sp = sub.add_parser("export", help="a design NAME to .aag/.aig/.blif/.v/.cnl, or a claim (--claim LINE of "
+                                        "check NAME) to .cnf DIMACS or .aag/.aig AIGER")
     sp.add_argument("file", metavar="FILE")
-    sp.add_argument("name", metavar="NAME", help="the check (with --claim)")
+    sp.add_argument("name", metavar="NAME", help="the design, or the check (with --claim)")
     sp.add_argument("--claim", type=int, metavar="LINE", help="the claim's line number")
     sp.add_argument("-o", "--output", required=True, metavar="OUT", help="where to write; the extension picks the format")
     sp.add_argument("--json", action="store_true", help="one JSON document on stdout")

@@ -47,3 +47,19 @@ def test_readme_example_checks(tmp_path):
     assert status == {"count": "proved", "recover": "proved", "always": "proved", "equal": "proved"}
     rec = next(r for r in results if r.claim == "recover")
     assert rec.details["worst"] == 4
+
+
+def test_readme_verilog_example_checks(tmp_path):
+    """The README's weigh-station bag counter: its Verilog block and its check block,
+    with the verdicts the README states (worst recovery 6, from code 10, by hand)."""
+    (tmp_path / "bag_count.v").write_text(_blocks("module bag_count"), encoding="utf-8")
+    (tmp_path / "bags.cnl").write_text(_blocks('use "bag_count.v"'), encoding="utf-8")
+    prog = load(str(tmp_path / "bags.cnl"))
+    results = prog.check("bags").run(timeout=60)
+    assert {r.claim: r.status for r in results} == {"count": "proved", "recover": "proved", "always": "proved"}
+    rec = next(r for r in results if r.claim == "recover")
+    assert rec.line == 7 and rec.details["worst"] == 6
+    from checker import api
+    stats = api.export_claim(str(tmp_path / "bags.cnl"), "bags", 7, str(tmp_path / "recover.aag"))
+    assert stats["property"] == "a bad-state output"
+    assert "recover claim at" in (tmp_path / "recover.aag").read_text()

@@ -18,6 +18,25 @@ from .spec import elaborate_check
 MAX_USE_FILES = 1000
 
 
+def _verilog(path: str, data: bytes) -> P.File:
+    from ..lang.verilog import verilog_file
+    return verilog_file(path, data)
+
+
+def _blif(path: str, data: bytes) -> P.File:
+    from ..lang.blif import blif_file
+    return blif_file(path, data)
+
+
+def _aiger(path: str, data: bytes) -> P.File:
+    from ..lang.aiger import aiger_file
+    return aiger_file(path, data)
+
+
+# ``use`` reads these netlist formats by file extension; anything else is .cnl text
+NETLIST_READERS = {".v": _verilog, ".blif": _blif, ".aag": _aiger, ".aig": _aiger}
+
+
 def read_file(path: str, pos: Optional[Pos] = None) -> P.File:
     """Read and parse one file; a missing or unreadable file is an InputError."""
     where = pos or Pos(path, 1, 1)
@@ -32,6 +51,9 @@ def read_file(path: str, pos: Optional[Pos] = None) -> P.File:
         raise InputError(where, f"cannot read '{path}': permission denied") from None
     except OSError as e:
         raise InputError(where, f"cannot read '{path}': {e.strerror or e}") from None
+    reader = NETLIST_READERS.get(p.suffix.lower())
+    if reader is not None:
+        return reader(path, data)
     return P.parse_text(path, P.decode_source(path, data))
 
 

@@ -80,6 +80,14 @@ def _flop_symbol(group: list[P.FlopDecl], prefix: str) -> Symbol:
     return Symbol("flop", bits, first.decl.pos, msb, lsb)
 
 
+def is_flop_output(s: P.OutDecl, flop_names: set[str]) -> bool:
+    """``out q = q`` where ``q`` is a flop of the same design: the flop itself is the
+    output (a netlist's ``output reg q``, a BLIF latch listed in ``.outputs``)."""
+    e = s.expr
+    return (isinstance(e, P.Ref) and e.path == [s.decl.name] and e.index is None
+            and s.decl.name in flop_names)
+
+
 def _decl_bits(d: P.Decl, prefix: str) -> list[str]:
     if d.msb is None:
         return [prefix + d.name]
@@ -100,6 +108,7 @@ class _Flattener:
         self.syms: dict[str, Symbol] = {}  # flattened vector name -> symbol
         self.nbits = 0
         self.stack: list[str] = []
+        self.flop_outs: dict[str, Symbol] = {}  # outputs that are a flop of their own name
 
     def count_bits(self, n: int, pos: Pos) -> None:
         self.nbits += n
@@ -109,6 +118,9 @@ class _Flattener:
     def declare(self, prefix: str, name: str, sym: Symbol) -> None:
         key = prefix + name
         old = self.syms.get(key)
+        if old is not None and key in self.flop_outs and sym.kind == "flop":
+            self.syms[key] = sym  # a part's output that is its flop: the flop, read as the output
+            return
         if old is not None and not (old.pos == sym.pos and old.kind == sym.kind):
             raise InputError(sym.pos, f"'{name}' is defined twice (first at line {old.pos.line}, col {old.pos.col})")
         self.syms[key] = sym
@@ -131,6 +143,7 @@ class _Flattener:
         self.stack.append(block.name)
         # pass 1: names and widths, so statements may come in any order
         pieces: dict[str, list[P.FlopDecl]] = {}
+        flop_names = {s.decl.name for s in block.stmts if isinstance(s, P.FlopDecl)}
         for s in block.stmts:
             if isinstance(s, P.InDecl):
                 for d in s.decls:
@@ -141,6 +154,9 @@ class _Flattener:
                 d = s.decl
                 kind = "out" if isinstance(s, P.OutDecl) else "node"
                 bits = _decl_bits(d, prefix)
+                if kind == "out" and is_flop_output(s, flop_names):
+                    self.flop_outs[prefix + d.name] = Symbol("out", bits, d.pos, d.msb, d.lsb)
+                    continue
                 self.count_bits(len(bits), d.pos)
                 self.declare(prefix, d.name, Symbol(kind, bits, d.pos, d.msb, d.lsb))
             elif isinstance(s, P.FlopDecl):
@@ -164,6 +180,8 @@ class _Flattener:
         # pass 2: definitions, in statement order (this fixes flop order)
         for s in block.stmts:
             if isinstance(s, (P.OutDecl, P.NodeDecl)):
+                if isinstance(s, P.OutDecl) and prefix + s.decl.name in self.flop_outs:
+                    continue
                 sym = self.syms[prefix + s.decl.name]
                 vals = self.vec(s.expr, prefix, len(sym.bits))
                 self.need_width(vals, len(sym.bits), s.expr, f"'{s.decl.name}'")
@@ -318,7 +336,7 @@ class _Flattener:
             if part.kind != "part":
                 raise InputError(r.pos, f"'{r.path[0]}' is {kind_text(part.kind)}, not a part")
             sym = self.syms.get(prefix + name)
-            if sym is None or sym.kind != "out":
+            if sym is None or (sym.kind != "out" and prefix + name not in self.flop_outs):
                 raise InputError(r.pos, f"design {part.design} has no output '{r.path[1]}'")
             return select_bits(sym, r.index, name)
         raise InputError(r.pos, f"'{name}': inside a design, read a part's output as PART.PORT")
@@ -442,6 +460,12 @@ def elaborate_design(blocks: dict[str, P.DesignBlock], name: str) -> Design:
         if sym.kind == "in":
             in_vec[key] = sym.bits
         elif sym.kind == "out":
+            out_vec[key] = sym.bits
+    for key, sym in fl.flop_outs.items():
+        if any(b not in fl.flops for b in sym.bits):
+            raise InputError(sym.pos, f"output '{key}' reads the flop of its own name, so it must "
+                                      f"declare the same bits as that flop")
+        if "." not in key:
             out_vec[key] = sym.bits
     inputs = [b for bits in in_vec.values() for b in bits]
     outputs = [b for bits in out_vec.values() for b in bits]

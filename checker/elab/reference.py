@@ -139,12 +139,15 @@ class Reference:
             raise InputError(block.pos, "recursive part: " + " -> ".join(stack + [block.name]))
         sc = _Scope(prefix, block)
         ranges: dict[str, list[tuple[int, int]]] = {}
+        flop_names = {s.decl.name for s in block.stmts if isinstance(s, P.FlopDecl)}
         for s in block.stmts:
             if isinstance(s, P.InDecl):
                 for d in s.decls:
                     sc.syms[d.name] = _Sym("in", d.name, d.msb, d.lsb, prefix)
             elif isinstance(s, (P.OutDecl, P.NodeDecl)):
                 d = s.decl
+                if isinstance(s, P.OutDecl) and _flop_output(s, flop_names):
+                    continue  # the flop of that name is the output
                 sc.syms[d.name] = _Sym("out" if isinstance(s, P.OutDecl) else "node", d.name, d.msb, d.lsb, prefix)
             elif isinstance(s, P.FlopDecl):
                 if s.clock is not None or s.clear_async or s.preset_async:
@@ -158,6 +161,8 @@ class Reference:
             sc.syms[name] = _Sym("flop", name, *_whole_range(rs), prefix)
         for s in block.stmts:
             if isinstance(s, (P.OutDecl, P.NodeDecl)):
+                if isinstance(s, P.OutDecl) and _flop_output(s, flop_names):
+                    continue
                 bits = _bit_names(prefix, s.decl.name, s.decl.msb, s.decl.lsb)
                 for k, b in enumerate(bits):
                     self._comb[b] = _Comb(s.expr, sc, len(bits), k)
@@ -226,7 +231,7 @@ class Reference:
             else:
                 part, port = r.path
                 sym = sc.parts[part].syms[port]
-                assert sym.kind == "out", r
+                assert sym.kind in ("out", "flop"), r  # a flop of the output's name is that output
                 names = sym.select(r.index)
             self._names[key] = names
         return names
@@ -341,6 +346,12 @@ class Reference:
                     faults.append(f.name)
         outs = {n: val[n] for n in self.outputs}
         return nxt, outs, faults
+
+
+def _flop_output(s: P.OutDecl, flop_names: set[str]) -> bool:
+    """``out q = q`` with ``q`` a flop of the same design: the flop is the output."""
+    e = s.expr
+    return isinstance(e, P.Ref) and e.path == [s.decl.name] and e.index is None and s.decl.name in flop_names
 
 
 def _whole_range(rs: list[tuple[int, int]]) -> tuple[int, int]:

@@ -187,9 +187,15 @@ class PartDecl:
 
 @dataclass
 class DesignBlock:
+    """``design NAME ... end``, or a design read from a netlist (``source`` names its format;
+    ``inits`` holds the flop bits' initial values a netlist gave, None for a free one,
+    kept for export and ignored by claims)."""
+
     name: str
     stmts: list
     pos: Pos
+    source: str = "cnl"
+    inits: dict = field(default_factory=dict)
 
 
 # --- check statements ----------------------------------------------------
