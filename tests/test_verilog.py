@@ -239,8 +239,7 @@ end
 
 def test_ripple_stage_and_asynchronous_clear_reach_the_elaborator(tmp_path):
     # A flop clocked by another reg bit, and an asynchronous clear: the reader maps them
-    # to the syntax tree's clock and async fields; the elaborator refuses them until the
-    # event model lands.
+    # to the syntax tree's clock and async fields, and the event model reads them.
     p = tmp_path / "rip.v"
     p.write_text("""module rip (input clk, input rst, output reg [1:0] q);
   always @(posedge clk or posedge rst)
@@ -254,9 +253,12 @@ endmodule
     flops = [s for s in f.designs[0].stmts if type(s).__name__ == "FlopDecl"]
     assert flops[0].clear_async and flops[0].clock is None
     assert flops[1].clock.edge == "fall" and flops[1].clock.signal.path == ["q"]
-    with pytest.raises(InputError) as e:
-        load_namespace(str(p))
-    assert "not supported yet" in e.value.message
+    m = load_namespace(str(p)).designs["rip"].model
+    i0, i1 = m.states.index("q[0]"), m.states.index("q[1]")
+    assert m.clocks[i1] == ("fall", i0) and m.async_clear[i0] != 0 and m.async_clear[i1] == 0
+    from checker.model.simulate import run
+    steps = run(m, {"q[0]": 0, "q[1]": 0}, [{"rst": 0}], 4)
+    assert [(s.state["q[1]"], s.state["q[0]"]) for s in steps] == [(0, 0), (0, 1), (1, 0), (1, 1), (0, 0)]
 
 
 @pytest.mark.parametrize("body,line,col,what", [
