@@ -47,7 +47,7 @@ PALETTE = {
     "ink": "#1c2230", "paper": "#fbfaf6", "muted": "#5a6070", "rule": "#c9ccd3",
     "proved_fg": "#0d4f45", "proved_bg": "#d9efe8",
     "refuted_fg": "#ffffff", "refuted_bg": "#7d1433",
-    "open_fg": "#3f2d00", "open_bg": "#f3cf7a",
+    "open_fg": "#3f2d00", "open_bg": "#e3ad3f",
     "seq_fill": "#dbe7f6", "seq_line": "#2a5592",
     "unused_fill": "#ffffff", "unused_line": "#5a6070",
     "locked_fill": "#fbe3d3", "locked_line": "#9a3412", "locked_hatch": "#d0622a",
@@ -230,6 +230,8 @@ def picture(pic: CheckPicture, radix: str, key: str) -> dict:
                             "width": pic.width, "sequence_length": pic.sequence_length, "note": pic.note,
                             "unused_count": doc.get("unused_count"), "worst": doc.get("worst"),
                             "locked": doc.get("locked"), "diagram": None, "summary": None}
+    if view["unused_count"] is None and pic.sequence_length is not None:
+        view["unused_count"] = (1 << pic.width) - pic.sequence_length
     if g is not None and g.complete and (1 << g.width) <= DRAW_LIMIT:
         view["diagram"] = diagram(g, radix, key)
         return view
