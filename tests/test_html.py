@@ -266,3 +266,14 @@ def test_fmt_code():
     assert H.fmt_code(5, 4, "bin") == "0101"
     assert H.fmt_code(255, 9, "hex") == "0FF"
     assert H.fmt_code(None, 4, "dec") == "–"
+
+
+def test_long_trace_draws_its_last_clocks():
+    from checker.tools.pictures import Signals
+    n = H.WAVE_LIMIT + 44
+    sig = Signals(12, list(range(n)), None, {"run": [1] * (n - 1) + [None]}, {}, {"run": ["run"]}, {})
+    w = H.waveform(sig, "hex", "w9")
+    assert w["n"] == H.WAVE_LIMIT and w["first"] == 44 and w["codes"][0] == 44 and w["codes"][-1] == n - 1
+    assert "clocks 0 to 43 are not drawn" in w["note"]
+    run_row = next(r for r in w["rows"] if r["name"] == "run")
+    assert run_row["runs"][-1]["v"] is None  # the last entry's inputs are not given

@@ -34,6 +34,9 @@ from ..tools.stategraph import StateGraph
 DRAW_LIMIT = 300
 """Most codes (of the whole code width) drawn as a diagram; above it, the summary."""
 
+WAVE_LIMIT = 256
+"""Most clocks of a trace drawn in one waveform (the last ones)."""
+
 LIST_LIMIT = 64
 """Most codes written out in one locked set or run of the summary."""
 
@@ -282,7 +285,18 @@ def _groups(bits: dict[str, list], vectors: dict[str, list[str]]) -> list[tuple[
 
 
 def waveform(sig: Signals, radix: str, key: str, other_name: str = "") -> dict:
-    """Rows of a waveform: clock, inputs, the code as a bus, the other design's code, outputs."""
+    """Rows of a waveform: clock, inputs, the code as a bus, the other design's code, outputs.
+
+    A trace longer than :data:`WAVE_LIMIT` clocks is drawn from its last
+    :data:`WAVE_LIMIT` (where it fails), with the clocks numbered as in the trace.
+    """
+    skip = max(0, len(sig.codes) - WAVE_LIMIT)
+    if skip:
+        cut = slice(skip, None)
+        sig = Signals(sig.width, sig.codes[cut], None if sig.other_codes is None else sig.other_codes[cut],
+                      {k: v[cut] for k, v in sig.inputs.items()}, {k: v[cut] for k, v in sig.outputs.items()},
+                      sig.input_vectors, sig.output_vectors,
+                      (sig.note + "; " if sig.note else "") + f"clocks 0 to {skip - 1} are not drawn")
     n = len(sig.codes)
     labels = [fmt_code(c, sig.width, radix) for c in sig.codes]
     chars = max([len(s) for s in labels] + [3])
@@ -322,7 +336,7 @@ def waveform(sig: Signals, radix: str, key: str, other_name: str = "") -> dict:
     height = 24 + len(rows) * (row_h + gap) + 6
     return {"key": key, "n": n, "col": round(col, 1), "label_w": label_w, "row_h": row_h, "rows": rows,
             "width": round(label_w + n * col + 12, 1), "height": height, "codes": sig.codes,
-            "note": sig.note, "clocks": list(range(n))}
+            "note": sig.note, "clocks": list(range(n)), "first": skip}
 
 
 # --- pages --------------------------------------------------------------------
