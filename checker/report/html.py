@@ -119,7 +119,7 @@ def diagram(g: StateGraph, radix: str, key: str) -> dict:
             rings.setdefault("stay", []).append(c)
     ring_keys = sorted(k for k in rings if k != "stay") + (["stay"] if "stay" in rings else [])
     pos: dict[int, tuple[float, float]] = {}
-    radius = max(pitch * len(order) / (2 * math.pi), 0.0 if len(order) <= 1 else pitch / 1.5)
+    radius = max((pitch + 14) * len(order) / (2 * math.pi), 0.0 if len(order) <= 1 else pitch / 1.5)
     if order:
         unit = nx.circular_layout(order, scale=1.0) if len(order) > 1 else {order[0]: (0.0, 0.0)}
         pos.update({c: (float(unit[c][0]) * radius, float(unit[c][1]) * radius) for c in order})
@@ -136,9 +136,9 @@ def diagram(g: StateGraph, radix: str, key: str) -> dict:
 
         codes.sort(key=lambda c: (g.nodes[c].locked_set if k == "stay" and g.nodes[c].locked_set is not None
                                   else -1, where(c), c))
-        r = max(r + 2.4 * half + 14, pitch * len(codes) / (2 * math.pi))
+        r = max(r + 2.4 * half + 14, pitch * (1.8 if k == "stay" else 1.0) * len(codes) / (2 * math.pi))
         ring_radii.append((k, r))
-        step = pitch / r  # the least angle between two codes of this ring
+        step = pitch * (1.8 if k == "stay" else 1.0) / r  # the least angle between two codes (room for cycles)
         want = [where(c) if where(c) < 7.0 else None for c in codes]
         free = [a for a in want if a is not None]
         angles: list[float] = []
@@ -170,6 +170,7 @@ def diagram(g: StateGraph, radix: str, key: str) -> dict:
                       "x": round(x + extent, 1), "y": round(y + extent, 1), "half": half,
                       "title": f"{labels[c]} ({c}): {what}"})
     edges = []
+    pairs = {(x, y) for x, y, _ in g.edges}
     for x, y, kind in g.edges:
         (x1, y1), (x2, y2) = pos[x], pos[y]
         if x == y:
@@ -186,7 +187,11 @@ def diagram(g: StateGraph, radix: str, key: str) -> dict:
             cut = min(half + 2, d / 2 - 1)
             sx, sy = x1 + dx / d * cut + extent, y1 + dy / d * cut + extent
             ex, ey = x2 - dx / d * (cut + 3) + extent, y2 - dy / d * (cut + 3) + extent
-            path = f"M{sx:.1f},{sy:.1f} L{ex:.1f},{ey:.1f}"
+            if (y, x) in pairs:  # both ways: two arcs, one either side of the line
+                mx, my = (sx + ex) / 2 - dy / d * 14, (sy + ey) / 2 + dx / d * 14
+                path = f"M{sx:.1f},{sy:.1f} Q{mx:.1f},{my:.1f} {ex:.1f},{ey:.1f}"
+            else:
+                path = f"M{sx:.1f},{sy:.1f} L{ex:.1f},{ey:.1f}"
         edges.append({"id": f"{key}-e{x}-{y}", "src": x, "dst": y, "kind": kind, "d": path})
     rings_out = [{"r": round(rr, 1), "label": ("stays unused" if k == "stay" else
                                                 f"{k} clock{'s' if k != 1 else ''}"),
@@ -300,9 +305,9 @@ def waveform(sig: Signals, radix: str, key: str, other_name: str = "") -> dict:
     n = len(sig.codes)
     labels = [fmt_code(c, sig.width, radix) for c in sig.codes]
     chars = max([len(s) for s in labels] + [3])
-    col = max(46, 7.2 * chars + 18)
+    col = max(64, 7.2 * chars + 20)
     label_w = 150
-    row_h, gap = 22, 10
+    row_h, gap = 24, 10
     rows: list[dict] = []
 
     def bit_row(name: str, vals: list) -> dict:
