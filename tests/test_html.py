@@ -277,3 +277,14 @@ def test_long_trace_draws_its_last_clocks():
     assert "clocks 0 to 43 are not drawn" in w["note"]
     run_row = next(r for r in w["rows"] if r["name"] == "run")
     assert run_row["runs"][-1]["v"] is None  # the last entry's inputs are not given
+
+
+def test_picture_within_the_timeout(write):
+    # 23 bits with a long tail: the exhaustive map needs seconds; with a timeout of 0.3 s the
+    # picture says it ran out and the page is written all the same
+    path = write(tail_counter(23, 5_000_000))
+    run, text = check_page([path], timeout=0.3)
+    page = Page(text)
+    assert len(page.find("details", "claim")) == len(run.results) == 2
+    assert "ran out of time (0.3 s)" in "".join(page.text)
+    assert len(page.find("div", "summary-picture")) == 1
