@@ -288,3 +288,33 @@ def test_picture_within_the_timeout(write):
     assert len(page.find("details", "claim")) == len(run.results) == 2
     assert "ran out of time (0.3 s)" in "".join(page.text)
     assert len(page.find("div", "summary-picture")) == 1
+
+
+@pytest.mark.parametrize("filed_on", [0, 1])
+def test_settling_events_are_drawn_in_time(filed_on):
+    # an asynchronous trace (contract v2: an entry may carry `events`, each {flop, value, code, depth},
+    # `code` after the firing): 7 -> 8 on demo.cnl's counter as a ripple would do it, q[0] first.
+    # The events may be filed on the clock whose edge starts them or on the clock they lead to.
+    from checker.claims.result import Result, TraceEntry
+    from checker.tools.pictures import trace_signals
+    path = str(ROOT / "cases" / "demo.cnl")
+    chk = api.load(path).find_check("batch")
+    tr = [TraceEntry(0, 7, {"en": 1, "clr": 0}), TraceEntry(1, 8, {"en": 1, "clr": 0}), TraceEntry(2, 9, None)]
+    ripple = [{"flop": "q[0]", "value": 0, "code": 6, "depth": 1}, {"flop": "q[1]", "value": 0, "code": 4, "depth": 2},
+              {"flop": "q[2]", "value": 0, "code": 0, "depth": 3}, {"flop": "q[3]", "value": 1, "code": 8, "depth": 4}]
+    tr[filed_on].events = ripple
+    sig = trace_signals(chk, Result(path, "batch", "settle", 1, "refuted", trace=tr))
+    assert list(sig.transients) == [0] and [e["code"] for e in sig.transients[0]] == [6, 4, 0, 8]
+    # done = en & q[3] & q[1] & q[0] (demo.cnl), evaluated at each passing code with the clock's inputs
+    assert [e["outputs"]["done"] for e in sig.transients[0]] == [0, 0, 0, 0]
+    w = H.waveform(sig, "dec", "w0")
+    code = next(r for r in w["rows"] if r["name"] == "code")
+    assert [(r["x0"], r["v"]) for r in code["runs"]] == [(0.0, 7), (1.0, 6), (1 + H.SETTLE_BAND / 3, 4),
+                                                        (1 + 2 * H.SETTLE_BAND / 3, 0), (1 + H.SETTLE_BAND, 8),
+                                                        (2.0, 9)]
+    en = next(r for r in w["rows"] if r["name"] == "en")
+    assert [(r["x0"], r["x1"], r["v"]) for r in en["runs"]] == [(0.0, 2.0, 1), (2.0, 3.0, None)]
+    assert w["settle"] == [{"x0": 1, "x1": 1 + H.SETTLE_BAND, "firings": 4}]
+    page = Page(H.check_page([Result(path, "batch", "settle", 1, "refuted", trace=tr)], [], {0: w},
+                             H.RunFacts([path], ["case_count"], ["batch"], "0", "s", "auto", None, "dec")))
+    assert len(page.find("rect", "settle")) == 1

@@ -264,14 +264,18 @@ def picture(pic: CheckPicture, radix: str, key: str) -> dict:
 
 # --- waveforms ----------------------------------------------------------------
 
-def _runs(values: Sequence[Any]) -> list[tuple[int, int, Any]]:
-    """(start, end, value) for each run of equal values."""
-    out: list[tuple[int, int, Any]] = []
-    for i, v in enumerate(values):
-        if out and out[-1][2] == v:
-            out[-1] = (out[-1][0], i + 1, v)
+SETTLE_BAND = 0.5
+"""Part of a clock's column that shows the codes an asynchronous design passes while it settles."""
+
+
+def _runs(slots: Sequence[tuple[float, float, Any]]) -> list[tuple[float, float, Any]]:
+    """Slots (start, end, value) with equal neighbours merged."""
+    out: list[tuple[float, float, Any]] = []
+    for x0, x1, v in slots:
+        if out and out[-1][2] == v and out[-1][1] == x0:
+            out[-1] = (out[-1][0], x1, v)
         else:
-            out.append((i, i + 1, v))
+            out.append((x0, x1, v))
     return out
 
 
@@ -289,11 +293,30 @@ def _groups(bits: dict[str, list], vectors: dict[str, list[str]]) -> list[tuple[
     return out
 
 
+def _timeline(sig: Signals) -> list[tuple[float, float, int, Optional[int]]]:
+    """(start, end, entry, firing) in clock columns: each entry, preceded by the codes its design
+    passed while settling into it (firing k of the cascade after the previous edge), if any."""
+    out: list[tuple[float, float, int, Optional[int]]] = []
+    for i in range(len(sig.codes)):
+        ev = sig.transients.get(i - 1, [])
+        between = len(ev) - 1  # the last firing gives this entry's code
+        start = float(i)
+        if between > 0:
+            for k in range(between):
+                out.append((i + SETTLE_BAND * k / between, i + SETTLE_BAND * (k + 1) / between, i - 1, k))
+            start = i + SETTLE_BAND
+        out.append((start, float(i + 1), i, None))
+    return out
+
+
 def waveform(sig: Signals, radix: str, key: str, other_name: str = "") -> dict:
     """Rows of a waveform: clock, inputs, the code as a bus, the other design's code, outputs.
 
-    A trace longer than :data:`WAVE_LIMIT` clocks is drawn from its last
-    :data:`WAVE_LIMIT` (where it fails), with the clocks numbered as in the trace.
+    In an asynchronous design the first part of a clock's column shows the
+    codes (and outputs) passed while settling after the edge, one slot per
+    firing, so a ripple or a glitch shows. A trace longer than
+    :data:`WAVE_LIMIT` clocks is drawn from its last :data:`WAVE_LIMIT`
+    (where it fails), with the clocks numbered as in the trace.
     """
     skip = max(0, len(sig.codes) - WAVE_LIMIT)
     if skip:
@@ -301,47 +324,71 @@ def waveform(sig: Signals, radix: str, key: str, other_name: str = "") -> dict:
         sig = Signals(sig.width, sig.codes[cut], None if sig.other_codes is None else sig.other_codes[cut],
                       {k: v[cut] for k, v in sig.inputs.items()}, {k: v[cut] for k, v in sig.outputs.items()},
                       sig.input_vectors, sig.output_vectors,
-                      (sig.note + "; " if sig.note else "") + f"clocks 0 to {skip - 1} are not drawn")
+                      (sig.note + "; " if sig.note else "") + f"clocks 0 to {skip - 1} are not drawn",
+                      {i - skip: ev for i, ev in sig.transients.items() if i >= skip})
     n = len(sig.codes)
+    line = _timeline(sig)
     labels = [fmt_code(c, sig.width, radix) for c in sig.codes]
     chars = max([len(s) for s in labels] + [3])
     col = max(64, 7.2 * chars + 20)
+    if sig.transients:  # room for the settling slots' labels, within reason
+        most = max(len(ev) - 1 for ev in sig.transients.values())
+        col = max(col, min(400.0, (7.2 * chars + 14) * most / SETTLE_BAND))
     label_w = 150
     row_h, gap = 24, 10
     rows: list[dict] = []
 
-    def bit_row(name: str, vals: list) -> dict:
-        return {"kind": "bit", "name": name, "runs": [{"x0": a, "x1": b, "v": v} for a, b, v in _runs(vals)]}
+    def slots(get) -> list[tuple[float, float, Any]]:
+        return [(x0, x1, get(i, k)) for x0, x1, i, k in line]
 
-    def bus_row(name: str, vals: list, width: int, cls: str) -> dict:
-        return {"kind": "bus", "name": name, "cls": cls,
-                "runs": [{"x0": a, "x1": b, "v": v, "text": fmt_code(v, width, radix)} for a, b, v in _runs(vals)]}
+    def bit_row(name: str, get) -> dict:
+        return {"kind": "bit", "name": name, "runs": [{"x0": a, "x1": b, "v": v} for a, b, v in _runs(slots(get))]}
+
+    def bus_row(name: str, get, width: int, cls: str) -> dict:
+        runs = []
+        for a, b, v in _runs(slots(get)):
+            text = fmt_code(v, width, radix)
+            runs.append({"x0": a, "x1": b, "v": v, "title": text,
+                         "text": text if (b - a) * col >= 7.2 * len(text) + 12 else ""})
+        return {"kind": "bus", "name": name, "cls": cls, "runs": runs}
+
+    def transient_values(i: int, key_: str, name: Optional[str] = None) -> list:
+        ev = sig.transients.get(i, [])
+        return [e[key_] if name is None else e[key_].get(name) for e in ev]
 
     def signal_rows(values: dict[str, list], vectors: dict[str, list[str]], side: str) -> None:
+        def value(b: str, i: int, k: Optional[int]):
+            if side == "out" and k is not None:
+                return transient_values(i, "outputs", b)[k]
+            return values[b][i]
+
         for name, members in _groups(values, vectors):
             if len(members) == 1:
-                rows.append({**bit_row(members[0], values[members[0]]), "side": side})
+                rows.append({**bit_row(members[0], lambda i, k, b=members[0]: value(b, i, k)), "side": side})
                 continue
-            vals = []
-            for i in range(n):
-                col_bits = [values[b][i] for b in members]
-                vals.append(None if any(v is None for v in col_bits) else
-                            int("".join(str(v) for v in col_bits), 2))
-            rows.append({**bus_row(name, vals, len(members), "vec"), "side": side})
+
+            def vec(i: int, k: Optional[int], members=members):
+                bits_ = [value(b, i, k) for b in members]
+                return None if any(v is None for v in bits_) else int("".join(str(v) for v in bits_), 2)
+            rows.append({**bus_row(name, vec, len(members), "vec"), "side": side})
 
     rows.append({"kind": "clock", "name": "clock", "side": ""})
     signal_rows(sig.inputs, sig.input_vectors, "in")
-    rows.append({**bus_row("code", list(sig.codes), sig.width, "code"), "side": ""})
+    rows.append({**bus_row("code", lambda i, k: sig.codes[i] if k is None else transient_values(i, "code")[k],
+                           sig.width, "code"), "side": ""})
     if sig.other_codes is not None:
-        rows.append({**bus_row(f"code of {other_name}" if other_name else "other code", list(sig.other_codes),
-                               sig.width, "other"), "side": ""})
+        others = sig.other_codes
+        rows.append({**bus_row(f"code of {other_name}" if other_name else "other code",
+                               lambda i, k: others[i] if k is None else None, sig.width, "other"), "side": ""})
     signal_rows(sig.outputs, sig.output_vectors, "out")
     for i, r in enumerate(rows):
         r["y"] = 24 + i * (row_h + gap)
     height = 24 + len(rows) * (row_h + gap) + 6
+    settle = [{"x0": i + 1, "x1": i + 1 + SETTLE_BAND, "firings": len(ev)} for i, ev in sorted(sig.transients.items())
+              if len(ev) > 1 and i + 1 < n]
     return {"key": key, "n": n, "col": round(col, 1), "label_w": label_w, "row_h": row_h, "rows": rows,
             "width": round(label_w + n * col + 12, 1), "height": height, "codes": sig.codes,
-            "note": sig.note, "clocks": list(range(n)), "first": skip}
+            "note": sig.note, "clocks": list(range(n)), "first": skip, "settle": settle}
 
 
 # --- pages --------------------------------------------------------------------

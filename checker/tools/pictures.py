@@ -19,7 +19,7 @@ from ..claims.result import Result
 from ..elab import Check
 from ..engines.budget import run_bounded
 from ..errors import InputError
-from ..model.simulate import code_value, run, state_of_code
+from ..model.simulate import state_of_code
 from .codemap import recovery_map
 from .stategraph import StateGraph, state_graph
 
@@ -79,7 +79,10 @@ def check_picture(chk: Check, opts: Options, results: Optional[list[Result]] = N
 class Signals:
     """A trace as signals per clock: inputs and outputs by bit, the code, the other design's code.
 
-    ``None`` in a list is a value the trace leaves open (the last entry's inputs).
+    ``None`` in a list is a value the trace leaves open (the last entry's
+    inputs). ``transients[i]``: in an asynchronous design, the codes between
+    the edge that ends clock i and settling, in firing order, each as
+    ``{"code", "outputs", "flop", "depth"}`` (the last is clock i + 1's code).
     """
 
     width: int
@@ -90,13 +93,40 @@ class Signals:
     input_vectors: dict[str, list[str]]
     output_vectors: dict[str, list[str]]
     note: str = ""
+    transients: dict[int, list[dict]] = field(default_factory=dict)
+
+
+def _field(e, name):
+    return e.get(name) if isinstance(e, dict) else getattr(e, name, None)
+
+
+def _events(tr) -> dict[int, list]:
+    """Each trace entry's firings (the contract's ``events``), keyed by the clock whose edge they follow.
+
+    An entry's events end in the next entry's code when they are the cascade
+    after its edge, or in its own code when they are the cascade that led to
+    it; either way they are filed under the clock whose edge started them.
+    """
+    out: dict[int, list] = {}
+    codes = [t.code for t in tr]
+    for i, t in enumerate(tr):
+        ev = _field(t, "events") or (t.to_json().get("events") if hasattr(t, "to_json") else None)
+        if not ev or not isinstance(ev, (list, tuple)):
+            continue
+        last = _field(ev[-1], "code")
+        if i + 1 < len(codes) and last == codes[i + 1]:
+            out[i] = list(ev)
+        elif i > 0 and last == codes[i]:
+            out[i - 1] = list(ev)
+    return out
 
 
 def trace_signals(chk: Check, result: Result) -> Signals:
-    """The signals of ``result``'s trace on ``chk``'s design, outputs from the cycle simulator.
+    """The signals of ``result``'s trace on ``chk``'s design.
 
-    When the simulator does not reproduce the trace's codes (a trace from
-    another model of time), the outputs are left out and ``note`` says so.
+    Outputs are evaluated on the model at each code with that clock's inputs
+    (the code is the whole state, so they are what a run shows); in an
+    asynchronous design, also at each code seen while the design settles.
     """
     assert result.trace, "a trace to draw"
     d = chk.design
@@ -105,10 +135,20 @@ def trace_signals(chk: Check, result: Result) -> Signals:
     inputs = {b: [None if t.inputs is None else int(t.inputs.get(b, 0)) for t in tr] for b in m.inputs}
     other = [t.other_code for t in tr] if any(t.other_code is not None for t in tr) else None
     sig = Signals(chk.width, [t.code for t in tr], other, inputs, {}, dict(d.input_vectors), dict(d.output_vectors))
-    steps = run(m, state_of_code(m, chk.code, tr[0].code), [t.inputs or {} for t in tr], len(tr) - 1)
-    if any(code_value(m, chk.code, s.state) != t.code for s, t in zip(steps, tr)):
-        sig.note = "outputs not shown: the cycle simulator does not reproduce this trace's codes"
-        return sig
-    sig.outputs = {o: [None if t.inputs is None else int(s.outputs.get(o, 0)) for s, t in zip(steps, tr)]
-                   for o in m.outputs}
+
+    def outputs_at(code: int, given: Optional[dict]) -> dict:
+        if given is None:
+            return {o: None for o in m.outputs}
+        inp = {i: int(given.get(i, 0)) & 1 for i in m.inputs}
+        return {o: int(v) for o, v in m.step(state_of_code(m, chk.code, code), inp)[1].items()}
+
+    per_entry = [outputs_at(t.code, t.inputs) for t in tr]
+    sig.outputs = {o: [row.get(o) for row in per_entry] for o in m.outputs}
+    try:
+        for i, ev in _events(tr).items():
+            sig.transients[i] = [{"code": int(_field(e, "code")), "flop": _field(e, "flop"), "depth": _field(e, "depth"),
+                                  "outputs": outputs_at(int(_field(e, "code")), tr[i].inputs)} for e in ev]
+    except (TypeError, ValueError, KeyError):  # events in a shape this report does not know: leave them out
+        sig.transients = {}
+        sig.note = "the trace's settling events are not drawn (an unknown shape)"
     return sig
