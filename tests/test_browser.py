@@ -99,3 +99,25 @@ def test_a_console_error_would_be_seen(tmp_path):
     bad = tmp_path / "bad.html"
     bad.write_text("<!DOCTYPE html><p>x</p><script>no_such_function();</script>", encoding="utf-8")
     assert console_errors(browse(bad, tmp_path, "--dump-dom").stderr)
+
+
+def test_printing_opens_every_claim(tmp_path):
+    # printed, the page shows every claim's evidence: it runs to more pages than the same page
+    # with its print rules taken out (closed rows then print as their summary line only)
+    import re
+    out = tmp_path / "demo.html"
+    assert run_cli("check", str(ROOT / "cases" / "demo.cnl"), "--html", str(out)).returncode == 1
+    text = out.read_text(encoding="utf-8")
+    bare = tmp_path / "bare.html"
+    stripped = text.replace('d.setAttribute("open", "")', "0")
+    stripped = re.sub(r"details::details-content \{[^}]*\}", "", stripped)
+    assert stripped != text
+    bare.write_text(stripped, encoding="utf-8")
+
+    def pages(page: Path) -> int:
+        pdf = tmp_path / (page.stem + ".pdf")
+        p = browse(page, tmp_path, f"--print-to-pdf={pdf}", "--no-pdf-header-footer")
+        assert p.returncode == 0 and pdf.is_file(), p.stderr[-2000:]
+        return len(re.findall(rb"/Type\s*/Page[^s]", pdf.read_bytes()))
+
+    assert pages(out) > pages(bare) >= 1
