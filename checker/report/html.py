@@ -37,6 +37,9 @@ DRAW_LIMIT = 300
 WAVE_LIMIT = 256
 """Most clocks of a trace drawn in one waveform (the last ones)."""
 
+MAX_BARS = 40
+"""Most bars in the summary's chart of recovery depths (more depths are grouped in ranges)."""
+
 LIST_LIMIT = 64
 """Most codes written out in one locked set or run of the summary."""
 
@@ -201,17 +204,37 @@ def diagram(g: StateGraph, radix: str, key: str) -> dict:
 
 
 def bars(depth_counts: dict, width: int = 640) -> dict:
-    """A bar chart of unused codes per recovery depth (and those that can stay unused)."""
-    items = sorted((k, v) for k, v in depth_counts.items() if k is not None)
+    """A bar chart of unused codes per recovery depth (and those that can stay unused).
+
+    Up to :data:`MAX_BARS` depths get a bar each; more are grouped into
+    :data:`MAX_BARS` ranges of equal span (``lo``..``hi`` clocks, inclusive).
+    """
+    known = sorted((k, v) for k, v in depth_counts.items() if k is not None)
+    groups: list[tuple[int, int, int]] = []  # (lo, hi, count)
+    if len(known) <= MAX_BARS:
+        groups = [(k, k, v) for k, v in known]
+    else:
+        lo, hi = known[0][0], known[-1][0]
+        raw = -(-(hi - lo + 1) // MAX_BARS)
+        span = min(m * 10 ** e for e in range(20) for m in (1, 2, 2.5, 5) if m * 10 ** e >= raw and (m * 10 ** e) % 1 == 0)
+        span = int(span)  # a round width: 1, 2, 5, 10, 20, 25, 50 ...
+        for k, v in known:
+            start = lo + (k - lo) // span * span
+            if groups and groups[-1][0] == start:
+                groups[-1] = (start, groups[-1][1], groups[-1][2] + v)
+            else:
+                groups.append((start, min(hi, start + span - 1), v))
+    items: list[tuple[str, bool, int, Optional[int], Optional[int]]] = [
+        (f"{a} clock{'s' if a != 1 else ''}" if a == b else f"{a}\u2013{b} clocks", False, v, a, b)
+        for a, b, v in groups]
     if None in depth_counts:
-        items.append((None, depth_counts[None]))
-    top = max((v for _, v in items), default=1) or 1
+        items.append(("can stay unused", True, depth_counts[None], None, None))
+    top = max((it[2] for it in items), default=1) or 1
     row = 20
-    label_w = 130
+    label_w = 150
     out = []
-    for i, (k, v) in enumerate(items):
-        out.append({"label": "can stay unused" if k is None else f"{k} clock{'s' if k != 1 else ''}",
-                    "stay": k is None, "count": v, "y": 8 + i * row,
+    for i, (label, stay, v, a, b) in enumerate(items):
+        out.append({"label": label, "stay": stay, "count": v, "lo": a, "hi": b, "y": 8 + i * row,
                     "w": round(max(1.0, (width - label_w - 80) * v / top), 1)})
     return {"rows": out, "width": width, "height": 16 + len(items) * row, "label_w": label_w}
 
