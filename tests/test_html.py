@@ -331,3 +331,29 @@ def test_settling_events_are_drawn_in_time(filed_on):
     page = Page(H.check_page([Result(path, "batch", "settle", 1, "refuted", trace=tr)], [], {0: w},
                              H.RunFacts([path], ["case_count"], ["batch"], "0", "s", "auto", None, "dec")))
     assert len(page.find("rect", "settle")) == 1
+
+
+ROTATOR = """
+# a nine-station rotary table's position ring: one-hot, rotated every clock, no correction
+design rotator
+  flop r[8:0] : D (d = {r[7:0], r[8]})
+end
+check stations of rotator
+  code r
+  count ring
+  recover
+end
+"""
+
+
+def test_summary_lists_locked_sets_with_a_cap(write):
+    # a bare 9-bit rotation: every necklace of 9 beads in two colours is a cycle, 60 of them
+    # (OEIS A000031, a(9) = 60); all but the ring's own are locked sets of unused codes: 59
+    path = write(ROTATOR)
+    run, text = check_page([path])
+    page = Page(text)
+    assert [r.status for r in run.results] == ["proved", "refuted"]
+    assert len(run.results[1].details["locked"]) == 59
+    items = page.find("li", "lockedset")
+    assert len(items) == H.SET_LIMIT
+    assert f"and {59 - H.SET_LIMIT} more locked sets" in "".join(page.text)

@@ -40,6 +40,9 @@ WAVE_LIMIT = 256
 MAX_BARS = 40
 """Most bars in the summary's chart of recovery depths (more depths are grouped in ranges)."""
 
+SET_LIMIT = 20
+"""Most locked sets listed in a summary."""
+
 LIST_LIMIT = 64
 """Most codes written out in one locked set or run of the summary."""
 
@@ -266,10 +269,12 @@ def picture(pic: CheckPicture, radix: str, key: str) -> dict:
     if g is not None and g.complete and (1 << g.width) <= DRAW_LIMIT:
         view["diagram"] = diagram(g, radix, key)
         return view
-    summary: dict[str, Any] = {"bars": None, "locked": [], "paths": [], "facts": []}
+    summary: dict[str, Any] = {"bars": None, "locked": [], "more_sets": 0, "paths": [], "facts": []}
     if g is not None and g.depth_counts:
         summary["bars"] = bars(g.depth_counts)
-    for s in (doc.get("locked") or []):
+    sets = doc.get("locked") or []
+    summary["more_sets"] = max(0, len(sets) - SET_LIMIT)
+    for s in sets[:SET_LIMIT]:
         summary["locked"].append({"size": len(s), "codes": [fmt_code(c, pic.width, radix) for c in s[:LIST_LIMIT]],
                                   "more": len(s) > LIST_LIMIT})
     for e in doc.get("unused", [])[:WORST_PATHS]:
@@ -437,6 +442,10 @@ def _env() -> jinja2.Environment:
                               undefined=jinja2.StrictUndefined, keep_trailing_newline=True)
 
 
+def _clip(text: str, most: int = 300) -> str:
+    return text if len(text) <= most else text[:most] + " \u2026"
+
+
 def _claim_view(i: int, r: Result, wave: Optional[dict], pic_key: Optional[str]) -> dict:
     skip = {"trace", "locked"}
     facts = [(k, v) for k, v in r.to_json().items()
@@ -444,7 +453,7 @@ def _claim_view(i: int, r: Result, wave: Optional[dict], pic_key: Optional[str])
     return {"id": f"claim-{i}", "status": r.status, "mark": MARKS.get(r.status, "?"), "file": r.file,
             "check": r.check, "claim": r.claim, "line": r.line, "seconds": f"{r.seconds:.2f}",
             "summary": r.summary, "evidence": list(r.evidence), "advice": list(r.advice),
-            "facts": [(k, v if isinstance(v, (int, float, str)) or v is None else str(v)) for k, v in facts],
+            "facts": [(k, v if isinstance(v, (int, float)) or v is None else _clip(str(v))) for k, v in facts],
             "wave": wave, "picture": pic_key}
 
 
