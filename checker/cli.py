@@ -120,7 +120,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     def html_options(sp):
         sp.add_argument("--html", metavar="FILE", help="also write one self-contained HTML report")
-        sp.add_argument("--radix", choices=api.RADIXES, default="dec", help="how the HTML report shows codes (default dec)")
+        sp.add_argument("--radix", choices=api.RADIXES, default="dec",
+                        help="how the HTML report shows codes (default dec)")
 
     sp = sub.add_parser("check", help="every claim of every check block")
     sp.add_argument("paths", nargs="+", metavar="FILE|FOLDER")

@@ -219,8 +219,9 @@ def bars(depth_counts: dict, width: int = 640) -> dict:
     else:
         lo, hi = known[0][0], known[-1][0]
         raw = -(-(hi - lo + 1) // MAX_BARS)
-        span = min(m * 10 ** e for e in range(20) for m in (1, 2, 2.5, 5) if m * 10 ** e >= raw and (m * 10 ** e) % 1 == 0)
-        span = int(span)  # a round width: 1, 2, 5, 10, 20, 25, 50 ...
+        # a round width: 1, 2, 5, 10, 20, 25, 50 ...
+        span = int(min(w for e in range(20) for w in (10 ** e, 2 * 10 ** e, 2.5 * 10 ** e, 5 * 10 ** e)
+                       if w >= raw and w % 1 == 0))
         for k, v in known:
             start = lo + (k - lo) // span * span
             if groups and groups[-1][0] == start:

@@ -146,7 +146,8 @@ def trace_signals(chk: Check, result: Result) -> Signals:
     sig.outputs = {o: [row.get(o) for row in per_entry] for o in m.outputs}
     try:
         for i, ev in _events(tr).items():
-            sig.transients[i] = [{"code": int(_field(e, "code")), "flop": _field(e, "flop"), "depth": _field(e, "depth"),
+            sig.transients[i] = [{"code": int(_field(e, "code")), "flop": _field(e, "flop"),
+                                  "depth": _field(e, "depth"),
                                   "outputs": outputs_at(int(_field(e, "code")), tr[i].inputs)} for e in ev]
     except (TypeError, ValueError, KeyError):  # events in a shape this report does not know: leave them out
         sig.transients = {}
