@@ -357,3 +357,25 @@ def test_summary_lists_locked_sets_with_a_cap(write):
     items = page.find("li", "lockedset")
     assert len(items) == H.SET_LIMIT
     assert f"and {59 - H.SET_LIMIT} more locked sets" in "".join(page.text)
+
+
+def test_a_one_code_sequence_is_drawn(write):
+    # a hopper gate that only ever rests at code 2 of a 2-bit code: the sequence is one code on itself
+    path = write("""
+design gate
+  in go
+  flop g[1:0] : D (d = 0b10)
+end
+check rest of gate
+  code g
+  count 2
+  recover within 1
+end
+""")
+    run, text = check_page([path])
+    assert [r.status for r in run.results] == ["proved", "proved"]
+    nodes, edges = _diagram(Page(text), "d0")
+    assert nodes[2][0] == "sequence" and (2, 2, "count") in edges
+    assert {c: int(s) for c, (k, s, _) in nodes.items() if k == "unused"} == {0: 1, 1: 1, 3: 1}
+    loop = re.search(r'id="d0-e2-2"[^>]* d="M([\d.]+),([\d.]+) C([\d.]+),([\d.]+)', text)
+    assert loop and loop.group(2) != loop.group(4)  # the loop is drawn, not a point

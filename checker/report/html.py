@@ -180,8 +180,8 @@ def diagram(g: StateGraph, radix: str, key: str) -> dict:
     for x, y, kind in g.edges:
         (x1, y1), (x2, y2) = pos[x], pos[y]
         if x == y:
-            d = math.hypot(x1, y1) or 1.0
-            ox, oy = x1 / d, y1 / d  # a loop on the outside of the node
+            d = math.hypot(x1, y1)
+            ox, oy = (x1 / d, y1 / d) if d else (0.0, -1.0)  # a loop on the outside of the node
             cx, cy = x1 + extent, y1 + extent
             sx, sy = cx + ox * half - oy * 8, cy + oy * half + ox * 8
             ex, ey = cx + ox * half + oy * 8, cy + oy * half - ox * 8
