@@ -379,3 +379,14 @@ end
     assert {c: int(s) for c, (k, s, _) in nodes.items() if k == "unused"} == {0: 1, 1: 1, 3: 1}
     loop = re.search(r'id="d0-e2-2"[^>]* d="M([\d.]+),([\d.]+) C([\d.]+),([\d.]+)', text)
     assert loop and loop.group(2) != loop.group(4)  # the loop is drawn, not a point
+
+
+def test_map_page_of_a_wide_code(write, tmp_path):
+    # 32 bits: the map comes from the SAT engine and names only its runs; the page is a summary with them
+    path = write(tail_counter(32, 0xFFFFFFFE, "recover within 2"))
+    out = tmp_path / "m.html"
+    p = run_cli("map", path, "batches", "--html", str(out), "--radix", "hex", "--timeout", "60")
+    assert p.returncode == 0, p.stderr
+    page = Page(out.read_text(encoding="utf-8"))
+    assert not page.find("svg", "diagram") and len(page.find("div", "summary-picture")) == 1
+    assert "FFFFFFFF → 00000000" in "".join(page.text)
