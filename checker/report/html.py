@@ -157,6 +157,7 @@ def diagram(g: StateGraph, radix: str, key: str) -> dict:
             angles = [math.atan2(float(unit[c][1]), float(unit[c][0])) + (free[0] if free else 0.0) for c in codes]
         for c, a in zip(codes, angles):
             pos[c] = (math.cos(a) * r, math.sin(a) * r)
+    pos = {c: (y, -x) for c, (x, y) in pos.items()}  # a quarter turn: the first code at the top
     extent = max([r] + [abs(v) for p in pos.values() for v in p]) + 2 * half + 24
     size = 2 * extent
     nodes = []
@@ -201,7 +202,8 @@ def diagram(g: StateGraph, radix: str, key: str) -> dict:
         edges.append({"id": f"{key}-e{x}-{y}", "src": x, "dst": y, "kind": kind, "d": path})
     rings_out = [{"r": round(rr, 1), "label": ("stays unused" if k == "stay" else
                                                 f"{k} clock{'s' if k != 1 else ''}"),
-                  "x": extent, "y": round(extent - rr - 4, 1)} for k, rr in ring_radii]
+                  "x": round(extent - rr * 0.7071 - 4, 1), "y": round(extent + rr * 0.7071 + 4, 1)}
+                 for k, rr in ring_radii]  # at the lower left, where few edges run
     return {"key": key, "size": round(size, 1), "cx": extent, "cy": extent, "nodes": nodes, "edges": edges,
             "rings": rings_out, "font": 11 if chars <= 6 else 9}
 
