@@ -529,3 +529,57 @@ def write_svg(m: MapRun, path: str) -> None:
         report.dot.render_svg(report.dot.state_graph_dot(m.graph), path)
     except report.dot.RenderError as e:
         raise _cmdline(str(e)) from None
+
+
+# --- HTML -----------------------------------------------------------------------
+
+RADIXES = ("dec", "bin", "hex")
+"""How codes are shown in the HTML report (``--radix``)."""
+
+
+def _html_facts(files: list[str], checks: list[Check], opts: Options, radix: str):
+    from .report import html as H
+    if radix not in RADIXES:
+        raise _cmdline(f"unknown radix '{radix}'; the radixes are {', '.join(RADIXES)}")
+    return H.RunFacts(files=list(files), designs=sorted({c.design.name for c in checks}),
+                      checks=[c.name for c in checks], version=__version__, solver=opts.solver,
+                      engine=opts.engine, timeout=opts.timeout, radix=radix)
+
+
+def write_html_check(run: CheckRun, path: str, opts: Optional[Options] = None, radix: str = "dec") -> None:
+    """One self-contained HTML page of a check run: verdicts, a state picture per check, a waveform per trace.
+
+    Each check with a count line gets its unused-code map by exhaustive
+    search, bounded by ``opts.timeout`` like a claim; where that search cannot
+    run or runs out, its picture is a summary of what the claims found.
+    """
+    from .report import html as H
+    from .tools import pictures as P
+    opts = opts or Options()
+    checks = [c for f in run.files for c in load(f).namespace.checks]
+    facts = _html_facts(run.files, checks, opts, radix)
+    by_key = {(c.pos.file, c.name): c for c in checks}
+    pics = [P.check_picture(c, opts, [r for r in run.results if (r.file, r.check) == (c.pos.file, c.name)])
+            for c in checks]
+    waves = {}
+    for i, r in enumerate(run.results):
+        chk = by_key.get((r.file, r.check))
+        if not r.trace or chk is None:
+            continue
+        other = next((c.other.name for c in chk.claims if c.pos.line == r.line and c.other is not None), "")
+        waves[i] = H.waveform(P.trace_signals(chk, r), radix, f"w{i}", other)
+    Path(path).write_text(H.check_page(run.results, pics, waves, facts), encoding="utf-8")
+
+
+def write_html_map(m: MapRun, path: str, file: str, opts: Optional[Options] = None, radix: str = "dec") -> None:
+    """The map ``m`` (made by ``map_check(file, ..., graph=True)``) as one self-contained HTML page."""
+    from .report import html as H
+    from .tools import pictures as P
+    opts = opts or Options()
+    chk = load(file).find_check(m.doc["check"])
+    facts = _html_facts([file], [chk], opts, radix)
+    pic = P.CheckPicture(chk.pos.file, chk.name, chk.design.name, chk.width, m.doc.get("sequence_length"),
+                         doc=m.doc, graph=m.graph)
+    if m.doc.get("status") == "open":
+        pic.note = "the map ran out of time: nothing to draw"
+    Path(path).write_text(H.map_page(pic, facts), encoding="utf-8")

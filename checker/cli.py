@@ -37,6 +37,8 @@ def cmd_check(args) -> int:
     run = api.check_files(args.paths, _options(args))
     if args.junit:
         api.write_junit(run, args.junit)
+    if getattr(args, "html", None) and not run.errors:
+        api.write_html_check(run, args.html, _options(args), args.radix)
     if run.errors:  # every bad file is named; no claim ran
         status = _report_error(run.errors[0], args.json)
         for e in run.errors[1:]:
@@ -48,11 +50,13 @@ def cmd_check(args) -> int:
 
 def cmd_map(args) -> int:
     m = api.map_check(args.file, args.check, args.when, args.limit, _options(args),
-                      graph=bool(args.dot or args.svg))
+                      graph=bool(args.dot or args.svg or args.html))
     if args.dot:
         api.write_dot(m, args.dot)
     if args.svg:
         api.write_svg(m, args.svg)
+    if args.html:
+        api.write_html_map(m, args.html, args.file, _options(args), args.radix)
     _emit(args.json, api.json_map(m), api.render_map(m))
     return m.status
 
@@ -79,7 +83,7 @@ def cmd_demo(args) -> int:
         print(f"countersign {__version__}: checking the shipped example {path.name}")
         print("(the bottle-batch counter of a brewery filler line, with a re-implementation to compare)\n")
     args.paths = [str(path)]
-    args.junit = None
+    args.junit = args.html = None
     status = cmd_check(args)
     if not args.json:
         print("\nThe refuted always claim is deliberate: it shows what a refutation and its trace look like.")
@@ -121,9 +125,15 @@ def build_parser() -> argparse.ArgumentParser:
             sp.add_argument("--engine", choices=["auto", "sat", "explicit"], default="auto",
                             help="engine for recover claims and maps (default: chosen per claim)")
 
+    def html_options(sp):
+        sp.add_argument("--html", metavar="FILE", help="also write one self-contained HTML report")
+        sp.add_argument("--radix", choices=api.RADIXES, default="dec",
+                        help="how the HTML report shows codes (default dec)")
+
     sp = sub.add_parser("check", help="every claim of every check block")
     sp.add_argument("paths", nargs="+", metavar="FILE|FOLDER")
     sp.add_argument("--junit", metavar="FILE", help="also write a JUnit XML report, one test per claim")
+    html_options(sp)
     common(sp)
     sp.set_defaults(func=cmd_check)
 
@@ -134,6 +144,7 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--limit", type=int, default=256, metavar="N", help="list at most N unused codes (default 256)")
     sp.add_argument("--dot", metavar="FILE", help="write the state graph in Graphviz DOT")
     sp.add_argument("--svg", metavar="FILE", help="render the state graph to SVG (needs Graphviz's dot)")
+    html_options(sp)
     common(sp)
     sp.set_defaults(func=cmd_map)
 

@@ -41,6 +41,9 @@ class StateGraph:
     edges: list[tuple[int, int, str]] = field(default_factory=list)
     locked_sizes: list[int] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    first: Optional[int] = None  # the sequence's first code
+    depth_counts: Optional[dict[Optional[int], int]] = None  # recovery depth -> unused codes (None: can stay unused)
+    complete: bool = False  # every code of the width is among ``nodes``
 
 
 def _chosen(a: Analysis, max_nodes: int) -> np.ndarray:
@@ -86,11 +89,14 @@ def state_graph(check: Check, source: Union[Analysis, dict], max_nodes: int = MA
     g = a.graph
     seq = check.sequence
     assert seq is not None
-    out = StateGraph(check.name, g.width, locked_sizes=[int(s.size) for s in a.locked_sets])
+    out = StateGraph(check.name, g.width, locked_sizes=[int(s.size) for s in a.locked_sets], first=seq.first())
+    depths, counts = np.unique(a.steps[~g.member], return_counts=True)
+    out.depth_counts = {(None if d < 0 else int(d)): int(n) for d, n in zip(depths.tolist(), counts.tolist())}
     out.notes.append(f"{check.name}: {g.size} codes, {a.unused_count} unused, {len(a.locked_sets)} locked set(s)")
     drawn = {int(c) for c in _chosen(a, max_nodes)}
     if len(drawn) < g.size:
         out.notes.append(f"partial graph: {len(drawn)} of {g.size} codes drawn")
+    out.complete = len(drawn) == g.size
     locked_of = {int(c): i for i, s in enumerate(a.locked_sets) for c in s.tolist()}
     for c in sorted(drawn):
         if c in locked_of:
@@ -118,7 +124,7 @@ def _from_map(check: Check, doc: dict) -> StateGraph:
     seq = check.sequence
     assert seq is not None
     sets = doc.get("locked") or []
-    out = StateGraph(check.name, check.width, locked_sizes=[len(s) for s in sets])
+    out = StateGraph(check.name, check.width, locked_sizes=[len(s) for s in sets], first=seq.first())
     locked_of = {c: i for i, s in enumerate(sets) for c in s}
     nodes: set[int] = set(locked_of)
     edges: set[tuple[int, int]] = set()
