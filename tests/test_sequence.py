@@ -435,8 +435,8 @@ def test_powers_of_two_up_to_4096_are_factored():
     # large for galois's factoring; every prime is checked with its own
     # primality test instead, and the count against the known complete
     # factorisations (F0 .. F4 prime; F5 .. F11 have 2, 2, 2, 2, 3, 4 and 5
-    # prime factors: Brent, "Factorization of the tenth Fermat number", Math.
-    # Comp. 68 (1999), table 1).
+    # prime factors, as summed up in Brent, "Factorization of the tenth
+    # Fermat number", Math. Comp. 68 (1999)).
     for k in range(1, 13):
         primes = complete_factors(2**k)
         assert all(galois.is_prime(q) for q in primes)
