@@ -29,11 +29,10 @@ from checker.elab.sequence import (
 GF2 = galois.GF(2)
 
 # Maximal-length tap sets, numbered 1 (lsb) to n (msb), as in the widely
-# reproduced table of Xilinx application note XAPP052 ("Efficient Shift
-# Registers, LFSR Counters, and Long Pseudo-Random Sequence Generators").
+# reproduced published tables of LFSR feedback taps (a fact of the trade).
 # Written down from memory, not copied: each is confirmed below with the
 # galois package and, for small widths, by walking the register.
-XAPP052_TAPS = {
+PUBLISHED_TAPS = {
     3: [3, 2],
     4: [4, 3],
     5: [5, 3],
@@ -170,9 +169,9 @@ def test_bcd_consistent(width):
     check_consistent(make_sequence("bcd", [], width))
 
 
-@pytest.mark.parametrize("width", sorted(XAPP052_TAPS))
+@pytest.mark.parametrize("width", sorted(PUBLISHED_TAPS))
 def test_lfsr_consistent(width):
-    seq = make_sequence("lfsr", XAPP052_TAPS[width], width)
+    seq = make_sequence("lfsr", PUBLISHED_TAPS[width], width)
     assert isinstance(seq, LfsrSequence)
     check_consistent(seq)
 
@@ -286,9 +285,9 @@ def test_gray_is_reflected_binary(width):
         assert bin(a ^ b).count("1") == 1  # neighbours, wrap included, differ in one bit
 
 
-@pytest.mark.parametrize("width", sorted(XAPP052_TAPS))
+@pytest.mark.parametrize("width", sorted(PUBLISHED_TAPS))
 def test_xapp052_taps_are_maximal(width):
-    taps = XAPP052_TAPS[width]
+    taps = PUBLISHED_TAPS[width]
     assert galois_primitive(taps)
     assert lfsr_is_maximal(taps, width)
     seq = make_sequence("lfsr", taps, width)
@@ -373,7 +372,7 @@ def test_galois_primitive_polynomials(width, method):
 @given(st.integers(1, 60).flatmap(lambda n: st.integers(0, (1 << n) - 1).map(lambda low: (1 << n) | low | 1)))
 def test_irreducibility_matches_galois(poly):
     n = poly.bit_length() - 1
-    ours = gf2._irreducible(gf2._Gf2Modulus(poly), time.monotonic() + 60)
+    ours = gf2._irreducible(gf2._Gf2Modulus(poly))
     coeffs = [(poly >> i) & 1 for i in range(n, -1, -1)]
     assert ours == galois.Poly(coeffs, field=GF2).is_irreducible()
 
@@ -405,24 +404,174 @@ def test_irreducible_but_not_primitive_rejected(width, k):
         make_sequence("lfsr", [width, k], width)
 
 
-def test_factors_of_2n_minus_1_up_to_128():
-    deadline = time.monotonic() + 60
-    for n in range(1, 129):
-        primes = gf2._prime_factors_2n_minus_1(n, deadline)
-        rest = 2**n - 1
+def complete_factors(n: int) -> tuple[int, ...]:
+    """The primes of 2^n - 1 by checker.gf2, asserting that they are all of them."""
+    primes, unsplit = gf2.factors_2n_minus_1(n)
+    assert unsplit == (), n
+    rest = 2**n - 1
+    for q in primes:
+        assert rest % q == 0, (n, q)
+        while rest % q == 0:
+            rest //= q
+    assert rest == 1, n
+    return primes
+
+
+def test_every_width_up_to_136_is_factored_as_galois_says():
+    # galois's table of prime factors of 2^n - 1 (its prime_factors database)
+    # is the reference; the module's bounds promise every width up to 136.
+    for n in range(2, 137):
+        assert list(complete_factors(n)) == sorted(galois.factors(2**n - 1)[0]), n
+
+
+@pytest.mark.parametrize("n", [256, 512, 1000, 1024])
+def test_wide_factorisations_match_galois(n):
+    assert list(complete_factors(n)) == sorted(galois.factors(2**n - 1)[0])
+
+
+def test_powers_of_two_up_to_4096_are_factored():
+    # 2^4096 - 1 = F0 F1 ... F11 (the Fermat numbers F_m = 2^(2^m) + 1). Too
+    # large for galois's factoring; every prime is checked with its own
+    # primality test instead, and the count against the known complete
+    # factorisations (F0 .. F4 prime; F5 .. F11 have 2, 2, 2, 2, 3, 4 and 5
+    # prime factors, as summed up in Brent, "Factorization of the tenth
+    # Fermat number", Math. Comp. 68 (1999)).
+    for k in range(1, 13):
+        primes = complete_factors(2**k)
+        assert all(galois.is_prime(q) for q in primes)
+    assert len(complete_factors(4096)) == 5 + 2 + 2 + 2 + 2 + 3 + 4 + 5
+
+
+def test_published_fermat_factors_divide_and_are_prime():
+    for d, primes in gf2.PUBLISHED_FACTORS.items():
+        fermat = 2**(d // 2) + 1  # Phi_d(2) for d a power of two
         for q in primes:
-            assert rest % q == 0 and gf2._probable_prime(q)
-            while rest % q == 0:
-                rest //= q
-        assert rest == 1, n
+            assert fermat % q == 0 and galois.is_prime(q), (d, q)
 
 
-def test_factoring_out_of_time(monkeypatch):
-    monkeypatch.setattr(seqmod, "FACTOR_SECONDS", 0.0)
+# Primitive trinomials x^n + x^k + 1 whose degree n is a Mersenne exponent
+# (2^n - 1 prime, so irreducible means primitive), from N. Zierler and J.
+# Brillhart, "On primitive trinomials (mod 2)", Information and Control 13
+# (1968), and N. Zierler, "Primitive trinomials whose degree is a Mersenne
+# exponent", Information and Control 15 (1969). The first four are checked
+# with galois as well; above that galois takes too long for a unit test.
+MERSENNE_TRINOMIALS = [(127, 1), (521, 32), (607, 105), (1279, 216), (2281, 715), (3217, 67)]
+
+
+@pytest.mark.parametrize("n,k", MERSENNE_TRINOMIALS)
+def test_published_primitive_trinomials(n, k):
+    assert lfsr_is_maximal([n, k], n) and lfsr_is_maximal([n, n - k], n)  # and the reciprocal
+    if n < 2000:
+        assert galois_primitive([n, k])
+    # Next to it, k + 1 is not primitive (the table lists no such neighbour);
+    # whatever galois says, we say the same.
+    if n < 700:
+        assert lfsr_is_maximal([n, k + 1], n) == galois_primitive([n, k + 1])
+
+
+@pytest.mark.parametrize("taps,irreducible,maximal", [
+    # x^8 + x^4 + x^3 + x + 1: the field of AES (FIPS-197, section 4.2):
+    # irreducible, and x has order 51, so not primitive.
+    ([8, 4, 3, 1], True, False),
+    # x^8 + x^4 + x^3 + x^2 + 1: the Reed-Solomon field of QR codes (ISO/IEC
+    # 18004), whose log tables use x as a generator: primitive.
+    ([8, 4, 3, 2], True, True),
+    # x^128 + x^7 + x^2 + x + 1: the field of GCM (NIST SP 800-38D),
+    # irreducible there; primitive by galois.
+    ([128, 7, 2, 1], True, True),
+    # x^64 + x^4 + x^3 + x + 1: the 64-bit CRC of ISO 3309; primitive by galois.
+    ([64, 4, 3, 1], True, True),
+])
+def test_published_pentanomials(taps, irreducible, maximal):
+    poly = galois.Poly.Degrees(taps + [0], field=GF2)
+    assert poly.is_irreducible() == irreducible and galois_primitive(taps) == maximal
+    assert lfsr_is_maximal(taps, taps[0]) == maximal
+
+
+def test_a_4096_bit_lfsr_is_settled():
+    # x^4096 + x^27 + x^15 + x + 1 was found irreducible by the module's
+    # Rabin test (galois takes minutes at this degree); its order is then
+    # settled with the 25 primes of 2^4096 - 1 checked above.
+    assert lfsr_is_maximal([4096, 27, 15, 1], 4096)
+    assert lfsr_is_maximal([4096, 4096 - 27, 4096 - 15, 4095], 4096)  # reciprocal
+    assert not lfsr_is_maximal([4096, 27, 15, 2], 4096)
+
+
+# 2^1277 - 1 is composite with no known factor: no fixed amount of work
+# settles a width-1277 register whose polynomial is irreducible.
+# x^1277 + x^18 + x^11 + x^10 + 1 is irreducible (galois, below).
+IRREDUCIBLE_1277 = [1277, 18, 11, 10]
+
+
+def test_width_1277_cannot_be_settled():
+    assert galois.Poly.Degrees(IRREDUCIBLE_1277 + [0], field=GF2).is_irreducible()
+    e = error("lfsr", IRREDUCIBLE_1277, 1277)
+    assert "cannot tell whether lfsr 1277 18 11 10 is of maximal length" in e.message
+    assert "2^1277 - 1" in e.message and "385-digit" in e.message and e.arg is None
+    with pytest.raises(gf2.Unfactored):
+        gf2.primitive((1 << 1277) | (1 << 18) | (1 << 11) | (1 << 10) | 1)
+    # A reducible polynomial of that degree is answered: it factors.
+    e = error("lfsr", [1277, 18, 11], 1277)
+    assert "factors" in e.message
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(4, 16).flatmap(lambda n: st.integers(0, (1 << n) - 1).map(lambda low: (1 << n) | low | 1)))
+def test_without_factoring_work_never_a_guess(poly):
+    # With trial division and both rounds switched off, most parts of
+    # 2^n - 1 stay composite: the answer must then be galois's or Unfactored,
+    # and "primitive" only when every part was prime anyway.
+    n = poly.bit_length() - 1
+    saved = (gf2.WORK, gf2.TRIAL_LIMIT, gf2.TRIAL_CANDIDATES, gf2._FACTORS)
+    nothing = ((4096, 0, 0, (), 6),)
+    gf2.WORK, gf2.TRIAL_LIMIT, gf2.TRIAL_CANDIDATES, gf2._FACTORS = (nothing, nothing), 0, 0, {}
+    try:
+        _, unsplit = gf2.factors_2n_minus_1(n)
+        coeffs = [(poly >> i) & 1 for i in range(n, -1, -1)]
+        want = galois.Poly(coeffs, field=GF2).is_primitive()
+        try:
+            got = gf2.primitive(poly)[0]
+        except gf2.Unfactored:
+            assert unsplit
+            return
+        assert got == want
+        assert not got or not unsplit
+    finally:
+        gf2.WORK, gf2.TRIAL_LIMIT, gf2.TRIAL_CANDIDATES, gf2._FACTORS = saved
+
+
+def run_settled_cases() -> list:
+    """Verdicts (or error messages) of lfsr widths that take every path: p - 1,
+    the elliptic curve method, both rounds, a published factor, Unfactored."""
+    out = []
+    for taps, width in [([67, 10, 9, 1], 67), ([101, 7, 6, 1], 101), (IRREDUCIBLE_1277, 1277),
+                        ([256, 10, 5, 2], 256), ([28, 1], 28), ([137, 21], 137)]:
+        try:
+            out.append(lfsr_is_maximal(taps, width))
+        except SequenceError as e:
+            out.append(e.message)
+    return out
+
+
+def test_the_verdict_does_not_depend_on_the_clock(monkeypatch):
     monkeypatch.setattr(gf2, "_FACTORS", {})
-    with pytest.raises(SequenceError, match="took longer than") as e:
-        make_sequence("lfsr", XAPP052_TAPS[32], 32)
-    assert "2^32 - 1" in e.value.message and e.value.arg is None
+    before = run_settled_cases()
+    # 67 and 101: primitive by galois too; 137: galois knows the two prime
+    # factors of 2^137 - 1 (20 and 22 digits), the fixed work here does not.
+    assert galois_primitive([67, 10, 9, 1]) and galois_primitive([101, 7, 6, 1]) and galois_primitive([137, 21])
+    assert before[:2] == [True, True] and before[3:5] == [galois_primitive([256, 10, 5, 2]), False]
+    assert "cannot tell" in before[2] and "cannot tell" in before[5] and "2^137 - 1" in before[5]
+
+    # A machine an hour slower per clock reading, and one infinitely fast.
+    for name, fake in [("slow", lambda: next(ticks) * 3600.0), ("stopped", lambda: 0.0)]:
+        ticks = iter(range(10**9))
+        for f in ("monotonic", "perf_counter", "time", "process_time"):
+            monkeypatch.setattr(time, f, fake)
+        for f in ("monotonic_ns", "perf_counter_ns", "time_ns", "process_time_ns"):
+            monkeypatch.setattr(time, f, lambda: int(fake() * 1e9))
+        monkeypatch.setattr(gf2, "_FACTORS", {})  # nothing remembered from the run before
+        monkeypatch.setattr(gf2, "_CYCLOTOMIC", {})
+        assert run_settled_cases() == before, name
 
 
 # ---------------------------------------------------------------------------
@@ -444,7 +593,7 @@ def test_64bit_range_is_symbolic_and_fast():
 
 
 def test_wide_maximal_lfsr():
-    seq = make_sequence("lfsr", XAPP052_TAPS[64] + ["from", 0xDEADBEEF], 64)
+    seq = make_sequence("lfsr", PUBLISHED_TAPS[64] + ["from", 0xDEADBEEF], 64)
     assert seq.length() == 2**64 - 1 and seq.first() == 0xDEADBEEF
     assert seq.contains(2**64 - 1) and not seq.contains(0)
     check_consistent(seq)

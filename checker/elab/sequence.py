@@ -21,8 +21,8 @@ from typing import Iterable, Iterator
 
 import numpy as np
 
-from .gf2 import OutOfTime, primitive
 from ..model import FALSE, TRUE, Aig
+from .gf2 import Unfactored, primitive
 
 LIST_LIMIT = 65536
 """Most codes an explicit sequence may hold."""
@@ -32,9 +32,6 @@ MAX_WIDTH = 4096
 
 LFSR_WALK_LIMIT_BITS = 24
 """Above this width an lfsr must be of maximal length."""
-
-FACTOR_SECONDS = 5.0
-"""Time allowed for deciding that an lfsr is of maximal length."""
 
 
 class SequenceError(Exception):
@@ -984,8 +981,8 @@ def lfsr_is_maximal(taps: Iterable[int], width: int) -> bool:
     """Whether the Fibonacci lfsr with these taps (1 = lsb .. width = msb)
     runs through all 2^width - 1 nonzero codes.
 
-    Raises :class:`SequenceError` when the prime factors of 2^width - 1
-    cannot be found within :data:`FACTOR_SECONDS`.
+    Raises :class:`SequenceError` when the answer needs prime factors of
+    2^width - 1 that :mod:`checker.gf2` cannot find (see there).
     """
     taps = list(taps)
     if width not in taps:
@@ -1004,8 +1001,8 @@ def _lfsr_maximal(taps: list[int], width: int) -> tuple[bool, str]:
     second = lambda p: (p ^ (1 << width)).bit_length()  # noqa: E731
     poly = char if second(char) <= second(recip) else recip
     try:
-        return primitive(poly, FACTOR_SECONDS)
-    except OutOfTime as e:
+        return primitive(poly)
+    except Unfactored as e:
         raise SequenceError(
-            f"cannot confirm that lfsr {' '.join(map(str, taps))} is of maximal length: "
-            f"{e} took longer than {FACTOR_SECONDS:g} s") from None
+            f"cannot tell whether lfsr {' '.join(map(str, taps))} is of maximal length: "
+            f"its feedback polynomial is irreducible, but {e}") from None
