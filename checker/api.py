@@ -31,11 +31,13 @@ from .elab.spec import condition_literal, flop_indices
 from .engines.budget import run_bounded
 from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
+from .fileio import output_transaction, read_limited, write_output
 from .lang.parse import parse_expr
 from .model.simulate import Step, code_value, run, state_of_code
 from .tools import compare as _compare
 from .tools.codemap import MapDoc, recovery_map
 from .tools.export import export_cnf
+from .tools.loading import load_within
 from .tools.stategraph import StateGraph, state_graph
 
 __all__ = [
@@ -46,6 +48,9 @@ __all__ = [
 
 MAX_TIMEOUT = 1e6
 """Largest --timeout accepted, in seconds (about 11.5 days)."""
+
+MAX_CODE_BITS = 4096
+"""Widest code (the widest vector)."""
 
 MAX_CYCLES = 1_000_000
 """Most clocks ``simulate`` runs."""
@@ -117,8 +122,14 @@ def load(path: str) -> Program:
     return Program(load_namespace(str(path)))
 
 
-def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engine: str = "auto") -> Options:
-    """Validated run options; an InputError (at ``<command line>``) for a bad solver or timeout."""
+def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engine: str = "auto",
+            isolate: bool = False) -> Options:
+    """Validated run options; an InputError (at ``<command line>``) for a bad solver or timeout.
+
+    ``isolate`` runs every claim, map and comparison in a child process even
+    without a timeout, so that an interrupt (Ctrl-C) stops a solver call
+    cleanly; the command line asks for it.
+    """
     where = Pos("<command line>", 1, 1)
     if solver not in solver_names():
         raise InputError(where, f"unknown solver '{solver}'; python-sat offers: {', '.join(solver_names())}")
@@ -126,7 +137,7 @@ def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engin
         raise InputError(where, f"--timeout takes a number of seconds above 0 and at most {MAX_TIMEOUT:g}")
     if engine not in ("auto", "sat", "explicit"):
         raise InputError(where, f"unknown engine '{engine}'; the engines are auto, sat, explicit")
-    return Options(solver=solver, timeout=timeout, engine=engine)
+    return Options(solver=solver, timeout=timeout, engine=engine, isolate=isolate)
 
 
 def _skipped(folder: Path) -> bool:
@@ -186,7 +197,7 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRu
     programs = []
     for f in files:
         try:
-            programs.append(load(f))
+            programs.append(Program(load_within(f, opts.timeout)))
         except InputError as e:
             out.errors.append(e)
     if out.errors:
@@ -244,11 +255,11 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     opts = opts or Options()
     if limit < 0:
         raise InputError(Pos("<command line>", 1, 1), "--limit takes a count of 0 or more")
-    chk = load(path).find_check(check)
+    chk = Program(load_within(path, opts.timeout)).find_check(check)
     if chk.sequence is None:
         raise InputError(chk.pos, f"check {chk.name} has no count line, so it has no unused codes to map")
     cond = None if when is None else condition_literal(chk.design, parse_expr("--when", when))
-    value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout)
+    value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout, opts.isolate)
     if not finished:
         doc = MapDoc({"check": chk.name, "width": chk.width, "sequence_length": chk.sequence.length(),
                       "unused_count": (1 << chk.width) - chk.sequence.length(), "worst": None,
@@ -292,6 +303,8 @@ def _cmdline(message: str) -> InputError:
 
 def parse_number(text: str, what: str) -> int:
     """A number as the command line takes it: decimal, 0b binary or 0x hex."""
+    if len(text) > len(str(1 << MAX_CODE_BITS)) + 3:  # checked before conversion
+        raise _cmdline(f"{what}: a number of {len(text)} characters is wider than any code ({MAX_CODE_BITS} bits at most)")
     try:
         return int(text, 0)
     except ValueError:
@@ -322,17 +335,35 @@ def input_settings(settings: Iterable[str], design: Design) -> dict[str, int]:
     return fixed
 
 
+MAX_TRACE_BYTES = 32 * 1024 * 1024
+"""Largest trace file ``sim --trace`` reads (the source file limit)."""
+
+
+class _TraceNumber(ValueError):
+    pass
+
+
+def _trace_int(text: str) -> int:
+    """A JSON integer of a trace, refused (before conversion) when wider than any code can be."""
+    digits = text.lstrip("-").lstrip("0")
+    if len(digits) > len(str(1 << MAX_CODE_BITS)):
+        raise _TraceNumber(f"a number of {len(digits)} digits in the trace is wider than any code "
+                           f"({MAX_CODE_BITS} bits at most)")
+    return int(text)
+
+
 def read_trace(path: str, design: Design, want_code: bool) -> tuple[list[dict], Optional[list[int]]]:
     """The trace list of a trace file, and the code order of its check where it names one."""
     where = Pos(path, 1, 1)
+    raw = read_limited(path, MAX_TRACE_BYTES, where, "trace file")
     try:
-        data = json.loads(Path(path).read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError(where, f"no such file '{path}'") from None
-    except (OSError, UnicodeDecodeError) as e:
-        raise InputError(where, f"cannot read '{path}': {e}") from None
+        data = json.loads(raw.decode("utf-8"), parse_int=_trace_int)
+    except UnicodeDecodeError as e:
+        raise InputError(where, f"cannot read '{path}': not UTF-8 text (byte {e.start})") from None
     except json.JSONDecodeError as e:
         raise InputError(Pos(path, e.lineno, e.colno), f"not JSON: {e.msg}") from None
+    except _TraceNumber as e:
+        raise InputError(where, str(e)) from None
     code = None
     if isinstance(data, dict) and isinstance(data.get("claims"), list) and len(data["claims"]) == 1:
         data = data["claims"][0]
@@ -347,12 +378,14 @@ def read_trace(path: str, design: Design, want_code: bool) -> tuple[list[dict], 
         data = data.get("trace")
     if not isinstance(data, list) or not data or not all(isinstance(e, dict) for e in data):
         raise InputError(where, "a trace file holds a trace list, or a claim object with a 'trace'")
-    for e in data:
-        if not isinstance(e.get("code", 0), int) or not isinstance(e.get("inputs") or {}, dict):
-            raise InputError(where, "each trace entry has an integer 'code' and an 'inputs' object")
+    for i, e in enumerate(data):
+        code_i = e.get("code", 0)
+        if not isinstance(code_i, int) or not isinstance(e.get("inputs") or {}, dict):
+            raise InputError(where, f"trace entry {i}: each trace entry has an integer 'code' and an 'inputs' object")
         for k, v in (e.get("inputs") or {}).items():
             if k not in design.model.inputs or v not in (0, 1):
-                raise InputError(where, f"trace input '{k}'={v!r} is not an input bit of {design.name} set to 0 or 1")
+                raise InputError(where, f"trace entry {i}: input '{k}'={v!r} is not an input bit of {design.name} "
+                                        f"set to 0 or 1")
     return data, code
 
 
@@ -378,6 +411,9 @@ def simulate(path: str, design: str, start: Optional[str] = None, code: Optional
     if n < 0 or n > MAX_CYCLES:
         raise _cmdline(f"--cycles takes a number from 0 to {MAX_CYCLES}")
     if start_code < 0 or start_code >> len(idx):
+        if trace is not None:
+            raise InputError(Pos(trace, 1, 1), f"trace entry 0: code {start_code} does not fit the "
+                                               f"{len(idx)}-bit code of {d.name}")
         raise _cmdline(f"--from {start_code} does not fit the {len(idx)}-bit code")
     return SimRun(d, idx, run(model, state_of_code(model, idx, start_code), per_clock, n))
 
@@ -472,7 +508,7 @@ def write_vcd(s: SimRun, path: str) -> None:
 def write_dot(m: MapRun, path: str) -> None:
     """The map's state graph in Graphviz DOT."""
     assert m.graph is not None, "map_check(graph=True) draws the graph"
-    Path(path).write_text(report.dot.state_graph_dot(m.graph), encoding="utf-8")
+    write_output(path, report.dot.state_graph_dot(m.graph))
 
 
 def write_svg(m: MapRun, path: str) -> None:

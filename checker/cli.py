@@ -29,7 +29,7 @@ def _emit(as_json: bool, doc: str, text: str) -> None:
 
 
 def _options(args) -> api.Options:
-    return api.options(args.solver, args.timeout, getattr(args, "engine", "auto"))
+    return api.options(args.solver, args.timeout, getattr(args, "engine", "auto"), isolate=True)
 
 
 # --- commands --------------------------------------------------------------
@@ -173,6 +173,9 @@ def _report_error(e: InputError, as_json: bool) -> int:
 def main(argv: Optional[Sequence[str]] = None) -> int:
     """Run the command line; returns the exit status."""
     argv = list(sys.argv[1:] if argv is None else argv)
+    for stream in (sys.stdout, sys.stderr):  # a file name that is not UTF-8 prints as \xNN, never fails
+        if hasattr(stream, "reconfigure"):
+            stream.reconfigure(errors="backslashreplace")
     as_json = "--json" in argv
     try:
         parser = build_parser()
@@ -180,7 +183,8 @@ def main(argv: Optional[Sequence[str]] = None) -> int:
         if not getattr(args, "func", None):
             parser.print_help()
             return 2
-        return args.func(args)
+        with api.output_transaction():  # output files appear only when the command gets this far
+            return args.func(args)
     except InputError as e:
         return _report_error(e, as_json)
     except RecursionError:

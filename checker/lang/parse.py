@@ -26,6 +26,9 @@ RESERVED = frozenset(
 MAX_FILE_BYTES = 32 * 1024 * 1024
 MAX_NESTING = 200
 MAX_INDEX = 10**9
+MAX_LITERAL_BITS = 4096
+"""Widest number a literal may write: the widest vector it could fill (``elab.bits.MAX_VECTOR``)."""
+_MAX_DIGITS = {2: MAX_LITERAL_BITS, 16: MAX_LITERAL_BITS // 4, 10: len(str(1 << MAX_LITERAL_BITS))}
 
 
 # --- expressions ---------------------------------------------------------
@@ -272,9 +275,20 @@ class File:
 
 
 # --- the parser ----------------------------------------------------------
-def int_value(text: str) -> int:
-    """Value of a number token: ``0b..``, ``0x..`` or decimal (leading zeros allowed)."""
-    return int(text, 0) if text[:2].lower() in ("0b", "0x") else int(text, 10)
+def int_value(text: str, pos: Optional[Pos] = None) -> int:
+    """Value of a number token: ``0b..``, ``0x..`` or decimal (leading zeros allowed).
+
+    A number wider than :data:`MAX_LITERAL_BITS` is an InputError at ``pos``:
+    its digits are counted before any conversion, so a literal of a million
+    digits costs no more than reading it.
+    """
+    base = {"0b": 2, "0x": 16}.get(text[:2].lower(), 10)
+    digits = (text[2:] if base != 10 else text).lstrip("0") or "0"
+    if len(digits) > _MAX_DIGITS[base] or int(digits, base) >> MAX_LITERAL_BITS:
+        shown = text if len(text) <= 24 else f"{text[:12]}...{text[-6:]} ({len(text)} characters)"
+        raise InputError(pos or Pos("<number>", 1, 1),
+                         f"number {shown} is wider than {MAX_LITERAL_BITS} bits, the widest vector a number can fill")
+    return int(digits, base)
 
 
 def grammar_path() -> Path:
@@ -508,7 +522,7 @@ class _Builder:
         return s
 
     def small_int(self, tok: Token) -> int:
-        v = int_value(str(tok))
+        v = int_value(str(tok), self.pos(tok))
         if v > MAX_INDEX:
             raise InputError(self.pos(tok), f"bit index {tok} is too large (limit {MAX_INDEX})")
         return v
@@ -618,7 +632,7 @@ class _Builder:
         for it in t.children:
             tok = it.children[0]
             if tok.type == "INT":
-                items.append((int_value(str(tok)), self.pos(tok)))
+                items.append((int_value(str(tok), self.pos(tok)), self.pos(tok)))
             else:
                 items.append((str(tok), self.pos(tok)))
         return CountStmt(items, self.pos(t))
@@ -631,7 +645,7 @@ class _Builder:
 
     def c_recover_stmt(self, t: Tree) -> RecoverStmt:
         within, when = t.children
-        n = None if within is None else int_value(str(within.children[0]))
+        n = None if within is None else int_value(str(within.children[0]), self.pos(within.children[0]))
         cond = None if when is None else self.expr(when.children[0])
         return RecoverStmt(n, cond, self.pos(t))
 
@@ -639,7 +653,7 @@ class _Builder:
         return AlwaysStmt(self.expr(t.children[0]), self.pos(t))
 
     def c_settle_stmt(self, t: Tree) -> SettleStmt:
-        return SettleStmt(int_value(str(t.children[0])), self.pos(t))
+        return SettleStmt(int_value(str(t.children[0]), self.pos(t.children[0])), self.pos(t))
 
     def c_glitch_stmt(self, t: Tree) -> GlitchStmt:
         *sigs, when = t.children
@@ -661,7 +675,7 @@ class _Builder:
         d = t.data
         if d == "num":
             tok = t.children[0]
-            return Num(int_value(str(tok)), str(tok), self.pos(tok))
+            return Num(int_value(str(tok), self.pos(tok)), str(tok), self.pos(tok))
         if d == "ref":
             *names, idx = t.children
             return Ref([self.name(n) for n in names], self.index(idx), self.pos(t))

@@ -22,9 +22,10 @@ from typing import Optional
 from ..claims import run_check
 from ..claims.common import Options
 from ..claims.result import PROVED, Result
-from ..elab import Check, Design, load_namespace
+from ..elab import Check, Design
 from ..engines.budget import Budget, run_bounded
 from ..engines.miter import PairedMiter, paired_miter
+from .loading import load_within
 
 CUBE_LIMIT = 256  # cubes enumerated per question
 ESPRESSO_LIMIT = 256  # minimise covers of at most this many cubes
@@ -185,7 +186,7 @@ def compare_designs(old: Design, new: Design, checks: list[Check], opts: Options
 
 def bounded_compare(old: Design, new: Design, checks: list[Check], opts: Options) -> dict:
     """:func:`compare_designs` under ``opts.timeout`` with a hard stop; out of time is open, never equal."""
-    res, _, finished = run_bounded(lambda b: compare_designs(old, new, checks, opts, b), opts.timeout)
+    res, _, finished = run_bounded(lambda b: compare_designs(old, new, checks, opts, b), opts.timeout, opts.isolate)
     if finished:
         return res
     return {"name": new.name, "status": f"open (ran out of time after {opts.timeout:g} s)",
@@ -237,8 +238,8 @@ def compare_files(old_path: str, new_path: str, opts: Optional[Options] = None) 
     is False only when no design or claim behaves differently (exit 0);
     ``open`` is True when a claim of NEW was left open (time ran out)."""
     opts = opts or Options()
-    old = load_namespace(old_path)
-    new = load_namespace(new_path)
+    old = load_within(old_path, opts.timeout)
+    new = load_within(new_path, opts.timeout)
     common = [n for n in old.designs if n in new.designs]
     designs = []
     for n in common:

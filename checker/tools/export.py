@@ -11,6 +11,7 @@ bit after the edge, ``!NAME@0`` a variable that is the complement of NAME.
 from __future__ import annotations
 
 from ..elab import Check, Claim
+from ..fileio import atomic_output
 from ..engines.sat import Sat, Unrolling
 from ..claims.always import build_always
 from ..claims.count import build_count
@@ -105,6 +106,7 @@ def export_cnf(check: Check, claim: Claim, path: str) -> dict:
                              "proved: the property is 1 in every code of the sequence under every input")
             questions = 1
         _name_signals(check, frame)
-        sat.write_dimacs(path, header)
+        with atomic_output(path) as f:  # whole or not at all
+            sat.write_dimacs(f, header)
         return {"path": path, "check": check.name, "claim": claim.kind, "line": claim.pos.line,
                 "vars": sat.nvars, "clauses": len(sat.log or []), "questions": questions}
