@@ -31,7 +31,7 @@ from .elab.spec import condition_literal, flop_indices
 from .engines.budget import run_bounded
 from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
-from .fileio import output_transaction, read_limited, write_output
+from .fileio import output_transaction, read_limited, shown, write_output
 from .lang.parse import parse_expr
 from .model.simulate import Step, code_value, run, state_of_code
 from .tools import compare as _compare
@@ -43,7 +43,8 @@ from .tools.stategraph import StateGraph, state_graph
 __all__ = [
     "__version__", "DEFAULT_SOLVER", "OPEN", "PROVED", "REFUTED", "CheckHandle", "CheckRun", "InputError",
     "MapRun", "Options", "Pos", "Program", "Result", "SimRun", "check_files", "compare_files", "demo_path",
-    "exit_status", "expand_paths", "export_claim", "load", "map_check", "options", "simulate", "solver_names",
+    "exit_status", "expand_paths", "export_claim", "load", "map_check", "options", "output_transaction", "shown",
+    "simulate", "solver_names",
 ]
 
 MAX_TIMEOUT = 1e6

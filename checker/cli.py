@@ -25,7 +25,7 @@ class _Parser(argparse.ArgumentParser):
 
 
 def _emit(as_json: bool, doc: str, text: str) -> None:
-    sys.stdout.write(doc if as_json else text + ("\n" if text and not text.endswith("\n") else ""))
+    sys.stdout.write(doc if as_json else api.shown(text) + ("\n" if text and not text.endswith("\n") else ""))
 
 
 def _options(args) -> api.Options:
@@ -40,7 +40,7 @@ def cmd_check(args) -> int:
     if run.errors:  # every bad file is named; no claim ran
         status = _report_error(run.errors[0], args.json)
         for e in run.errors[1:]:
-            sys.stderr.write(f"{e.pos}: {e.message}\n")
+            sys.stderr.write(api.shown(f"{e.pos}: {e.message}") + "\n")
         return status
     _emit(args.json, api.json_check(run), api.render_check(run))
     return api.exit_status(run.results)
@@ -164,7 +164,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 def _report_error(e: InputError, as_json: bool) -> int:
     """``FILE:LINE:COL: message`` on stderr (and the JSON error on stdout); exit status 2."""
-    sys.stderr.write(f"{e.pos}: {e.message}\n")
+    sys.stderr.write(api.shown(f"{e.pos}: {e.message}") + "\n")
     if as_json:
         sys.stdout.write(api.json_error(e))
     return 2
