@@ -37,7 +37,7 @@ from .model.simulate import Step, code_value, run, state_of_code
 from .tools import compare as _compare
 from .tools.codemap import MapDoc, recovery_map
 from .tools.export import export_cnf
-from .tools.loading import load_within
+from .tools.loading import LoadTimeout, load_within
 from .tools.stategraph import StateGraph, state_graph
 
 __all__ = [
@@ -182,6 +182,13 @@ class CheckRun:
     errors: list[InputError] = field(default_factory=list)
     widths: dict[tuple[str, str], int] = field(default_factory=dict)  # (file, check) -> code width
     files: list[str] = field(default_factory=list)
+    unread: list[InputError] = field(default_factory=list)  # files not read within --timeout: open
+
+    @property
+    def status(self) -> int:
+        """Exit status: 1 a claim refuted, 3 a claim (or a whole file) open and none refuted, else 0."""
+        s = exit_status(self.results)
+        return 3 if s == 0 and self.unread else s
 
 
 def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRun:
@@ -199,12 +206,14 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRu
     for f in files:
         try:
             programs.append(Program(load_within(f, opts.timeout)))
+        except LoadTimeout as e:
+            out.unread.append(e)
         except InputError as e:
             out.errors.append(e)
     if out.errors:
         return out
     checks = [c for p in programs for c in p.namespace.checks]
-    if not any(c.claims for c in checks):
+    if not any(c.claims for c in checks) and not out.unread:
         where = ", ".join(paths) if paths else "the command line"
         raise InputError(Pos(files[0] if files else "<command line>", 1, 1), f"no claims in {where}")
     for c in checks:
@@ -256,7 +265,12 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     opts = opts or Options()
     if limit < 0:
         raise InputError(Pos("<command line>", 1, 1), "--limit takes a count of 0 or more")
-    chk = Program(load_within(path, opts.timeout)).find_check(check)
+    try:
+        chk = Program(load_within(path, opts.timeout)).find_check(check)
+    except LoadTimeout as e:  # open, like a map that runs out
+        return MapRun({"check": check, "width": None, "sequence_length": None, "unused_count": None,
+                       "worst": None, "locked": None, "unused": [], "status": "open",
+                       "summary": f"{e.pos.file}: {e.message}"})
     if chk.sequence is None:
         raise InputError(chk.pos, f"check {chk.name} has no count line, so it has no unused codes to map")
     cond = None if when is None else condition_literal(chk.design, parse_expr("--when", when))
@@ -452,7 +466,8 @@ def demo_path() -> Path:
 
 def render_check(run: CheckRun) -> str:
     """The readable report of a check run."""
-    return report.text.format_results(run.results, run.widths)
+    text = report.text.format_results(run.results, run.widths)
+    return "\n".join([f"{e.pos.file}: open: {e.message}" for e in run.unread] + [text])
 
 
 def render_map(m: MapRun) -> str:
@@ -471,8 +486,11 @@ def render_sim(s: SimRun) -> str:
 
 
 def json_check(run: CheckRun) -> str:
-    """``check --json``."""
-    return report.json.dumps(report.json.claims(run.results))
+    """``check --json``; files not read within the timeout are listed under ``unread``."""
+    doc = report.json.claims(run.results)
+    if run.unread:
+        doc["unread"] = [{"file": e.pos.file, "message": e.message} for e in run.unread]
+    return report.json.dumps(doc)
 
 
 def json_map(m: MapRun) -> str:
@@ -498,7 +516,7 @@ def json_error(e: InputError) -> str:
 def write_junit(run: CheckRun, path: str) -> None:
     """A JUnit XML report of a check run: one test per claim, one error case per unreadable file."""
     errors = [(str(e.pos.file), f"{e.pos}: {e.message}") for e in run.errors]
-    report.junit.write_junit(run.results, path, errors)
+    report.junit.write_junit(run.results, path, errors, [(str(e.pos.file), e.message) for e in run.unread])
 
 
 def write_vcd(s: SimRun, path: str) -> None:

@@ -43,7 +43,7 @@ def cmd_check(args) -> int:
             sys.stderr.write(api.shown(f"{e.pos}: {e.message}") + "\n")
         return status
     _emit(args.json, api.json_check(run), api.render_check(run))
-    return api.exit_status(run.results)
+    return run.status
 
 
 def cmd_map(args) -> int:

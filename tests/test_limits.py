@@ -314,13 +314,26 @@ def slow_loading(designs: int) -> str:
     return s + "check c of w0\n  code o\nend\n"
 
 
-def test_timeout_bounds_loading(write):
+def test_timeout_bounds_loading(write, tmp_path):
+    # what runs out of time is open (exit 3), for reading a file as for a claim
     p = write(slow_loading(100))
-    for argv in (["check", p], ["map", p, "c"], ["compare", p, p]):
+    junit = tmp_path / "j.xml"
+    docs = {}
+    for argv in (["check", p, "--junit", str(junit)], ["map", p, "c"], ["compare", p, p]):
         t0 = time.monotonic()
-        e = error_of(argv + ["--timeout", "1"])
+        rc, out, err = run(argv + ["--timeout", "1", "--json"])
         assert time.monotonic() - t0 < 30, argv
-        assert e["file"] == p and "took longer than --timeout 1 s" in e["message"]
+        assert rc == 3, (argv, err)
+        docs[argv[0]] = json.loads(out)
+    assert docs["check"]["claims"] == []
+    assert [u["file"] for u in docs["check"]["unread"]] == [p]
+    assert "took longer than --timeout 1 s" in docs["check"]["unread"][0]["message"]
+    assert docs["map"]["status"] == "open" and docs["map"]["worst"] is None
+    assert docs["compare"]["open"] is True and docs["compare"]["differs"] is False
+    case = ET.parse(junit).getroot().find("testsuite").find("testcase")
+    assert case.find("skipped") is not None
+    rc, out, _ = run(["check", p, CASE, "--timeout", "1"])  # the other file's claims still run
+    assert rc == 1 and "open: reading and elaborating" in out and "refuted" in out
 
 
 # --- 8. nothing half-written ---------------------------------------------------------------

@@ -40,9 +40,11 @@ def _case(r: Result) -> TestCase:
     return tc
 
 
-def junit_suites(results: Iterable[Result], errors: Sequence[tuple[str, str]] = ()) -> list[TestSuite]:
+def junit_suites(results: Iterable[Result], errors: Sequence[tuple[str, str]] = (),
+                 unread: Sequence[tuple[str, str]] = ()) -> list[TestSuite]:
     """Test suites (one per file, in first-seen order) for ``results``;
-    ``errors`` are (file, message) pairs for inputs that could not be checked."""
+    ``errors`` are (file, message) pairs for inputs that could not be checked,
+    ``unread`` those not read within the timeout (skipped, like an open claim)."""
     by_file: dict[str, list[TestCase]] = {}
     for r in results:
         by_file.setdefault(r.file, []).append(_case(r))
@@ -51,14 +53,21 @@ def junit_suites(results: Iterable[Result], errors: Sequence[tuple[str, str]] = 
         tc = TestCase(name="read", classname=f"{f}::(file)", elapsed_sec=0.0, file=f)
         tc.add_error_info(message=msg, error_type="input")
         by_file.setdefault(f, []).append(tc)
+    for f, msg in unread:
+        f, msg = shown(f), shown(msg)
+        tc = TestCase(name="read", classname=f"{f}::(file)", elapsed_sec=0.0, file=f)
+        tc.add_skipped_info(message=f"open: {msg}")
+        by_file.setdefault(f, []).append(tc)
     return [TestSuite(f"{SUITE_PREFIX}:{shown(f)}", cases, file=shown(f)) for f, cases in by_file.items()]
 
 
-def junit_text(results: Iterable[Result], errors: Sequence[tuple[str, str]] = ()) -> str:
+def junit_text(results: Iterable[Result], errors: Sequence[tuple[str, str]] = (),
+               unread: Sequence[tuple[str, str]] = ()) -> str:
     """The JUnit XML document as a string."""
-    return to_xml_report_string(junit_suites(results, errors), encoding="utf-8")
+    return to_xml_report_string(junit_suites(results, errors, unread), encoding="utf-8")
 
 
-def write_junit(results: Iterable[Result], path: str, errors: Optional[Sequence[tuple[str, str]]] = None) -> None:
+def write_junit(results: Iterable[Result], path: str, errors: Optional[Sequence[tuple[str, str]]] = None,
+                unread: Sequence[tuple[str, str]] = ()) -> None:
     """Write a JUnit XML report of ``results`` (one test case per claim) to ``path``."""
-    write_output(path, junit_text(list(results), errors or ()))
+    write_output(path, junit_text(list(results), errors or (), unread))

@@ -1,0 +1,100 @@
+"""Benchmark: how fast and how small the answer is at each limit (issue 14).
+
+Run:  .venv/bin/python tests/perf/bench_limits.py
+
+Each row runs one ``countersign`` command in a fresh process on a generated
+input (the reproductions of ``tests/test_limits.py``) and records its exit
+status, wall time and peak resident memory (the child's ``ru_maxrss``). The
+baseline row is ``--version``: Python starting and importing, the floor under
+every other row. Rows that refuse their input should sit near the baseline,
+whatever the size of what they refuse; the timeout rows near their deadline.
+
+Prints the table and writes tests/perf/RESULTS_limits.md. Every number is
+measured in the same run; times are medians of REPEAT runs.
+"""
+
+from __future__ import annotations
+
+import os
+import platform
+import signal
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT / "tests"))
+
+from test_limits import part_chain, part_tree, slow_loading  # noqa: E402
+from test_timeouts import multiplier  # noqa: E402
+
+REPEAT = 3
+
+
+def measure(argv: list[str], interrupt_after: float | None = None) -> tuple[int, float, float]:
+    """(exit status, seconds, peak MiB) of ``python -m checker ARGV`` in a fresh process."""
+    t0 = time.monotonic()
+    proc = subprocess.Popen([sys.executable, "-m", "checker", *argv], cwd=str(ROOT), stdout=subprocess.DEVNULL,
+                            stderr=subprocess.DEVNULL, start_new_session=True)
+    if interrupt_after is not None:
+        time.sleep(interrupt_after)
+        os.killpg(proc.pid, signal.SIGINT)
+        t0 = time.monotonic()  # measure from the interrupt
+    _, status, usage = os.wait4(proc.pid, 0)
+    proc.returncode = os.waitstatus_to_exitcode(status)
+    return proc.returncode, time.monotonic() - t0, usage.ru_maxrss / 1024
+
+
+def main() -> None:
+    tmp = Path(tempfile.mkdtemp(prefix="bench_limits_"))
+
+    def write(name: str, text: str) -> str:
+        p = tmp / name
+        p.write_text(text)
+        return str(p)
+
+    sparse = tmp / "big.cnl"
+    with open(sparse, "wb") as f:
+        f.truncate(512 * 1024 * 1024)  # 512 MiB, sparse
+    mul = write("mul.cnl", multiplier("mul_a", 12, False) + multiplier("mul_b", 12, True)
+                + "check same of mul_a\n  equal mul_b\nend\n")
+    rows = [
+        ("baseline: --version", ["--version"], None),
+        ("decimal literal of 1,000,000 digits", ["check", write("lit.cnl", "design a\n  in x\n  out o = 1"
+                                                                  + "0" * 1_000_000 + "\nend\n")], None),
+        ("/dev/zero as the file", ["check", "/dev/zero"], None),
+        ("512 MiB sparse file", ["check", str(sparse)], None),
+        ("tree of parts, 40 levels (2^41 instances)", ["check", write("tree.cnl", part_tree(40))], None),
+        ("chain of parts, 400 levels", ["check", write("chain.cnl", part_chain(400))], None),
+        ("chain of parts, 64 levels (the limit), checked", ["check", write("chain64.cnl", part_chain(64))], None),
+        ("slow loading (100 wide designs), --timeout 1", ["check", write("slow.cnl", slow_loading(100)),
+                                                          "--timeout", "1"], None),
+        ("12-bit multiplier miter, --timeout 2", ["check", mul, "--timeout", "2"], None),
+        ("12-bit multiplier miter, Ctrl-C after 3 s (time from the interrupt)", ["check", mul], 3.0),
+    ]
+    table = []
+    for label, argv, interrupt in rows:
+        runs = [measure(argv, interrupt) for _ in range(REPEAT)]
+        statuses = sorted({r[0] for r in runs})
+        secs = statistics.median(r[1] for r in runs)
+        mib = max(r[2] for r in runs)
+        table.append((label, "/".join(map(str, statuses)), secs, mib))
+        print(f"{label:70s} exit {table[-1][1]:>4s} {secs:8.2f} s {mib:8.1f} MiB", flush=True)
+    lines = ["# Limits benchmark", "",
+             f"Machine: {os.cpu_count()} cores shared; Python {platform.python_version()}; medians of {REPEAT} runs "
+             "(peak memory: the largest of them). Each row is one `countersign` process.", "",
+             "| input | exit | seconds | peak MiB |", "|---|---|---|---|"]
+    lines += [f"| {label} | {st} | {secs:.2f} | {mib:.0f} |" for label, st, secs, mib in table]
+    lines += ["", "Refusals cost about what starting the program costs, whatever the size of what they refuse. "
+              "A run under `--timeout S` ends within S plus the hard stop's grace (at most 2 s) plus start-up; "
+              "an interrupt ends the run at once, with exit 130."]
+    out = ROOT / "tests" / "perf" / "RESULTS_limits.md"
+    out.write_text("\n".join(lines) + "\n")
+    print(f"wrote {out}")
+
+
+if __name__ == "__main__":
+    main()
