@@ -17,12 +17,10 @@ from __future__ import annotations
 
 import os
 import platform
-import signal
 import statistics
 import subprocess
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -34,18 +32,30 @@ from test_timeouts import multiplier  # noqa: E402
 REPEAT = 3
 
 
+# A small launcher: Linux counts a child's peak memory from its parent's size
+# at the fork, so the command is started from a fresh interpreter that has
+# imported nothing, not from this one (which has imported the project).
+LAUNCHER = """
+import os, signal, subprocess, sys, time
+wait = float(sys.argv[1])
+t0 = time.monotonic()
+p = subprocess.Popen([sys.executable, "-m", "checker", *sys.argv[2:]], stdout=subprocess.DEVNULL,
+                     stderr=subprocess.DEVNULL, start_new_session=True)
+if wait >= 0:
+    time.sleep(wait)
+    os.killpg(p.pid, signal.SIGINT)
+    t0 = time.monotonic()
+_, status, usage = os.wait4(p.pid, 0)
+print(os.waitstatus_to_exitcode(status), time.monotonic() - t0, usage.ru_maxrss / 1024)
+"""
+
+
 def measure(argv: list[str], interrupt_after: float | None = None) -> tuple[int, float, float]:
     """(exit status, seconds, peak MiB) of ``python -m checker ARGV`` in a fresh process."""
-    t0 = time.monotonic()
-    proc = subprocess.Popen([sys.executable, "-m", "checker", *argv], cwd=str(ROOT), stdout=subprocess.DEVNULL,
-                            stderr=subprocess.DEVNULL, start_new_session=True)
-    if interrupt_after is not None:
-        time.sleep(interrupt_after)
-        os.killpg(proc.pid, signal.SIGINT)
-        t0 = time.monotonic()  # measure from the interrupt
-    _, status, usage = os.wait4(proc.pid, 0)
-    proc.returncode = os.waitstatus_to_exitcode(status)
-    return proc.returncode, time.monotonic() - t0, usage.ru_maxrss / 1024
+    wait = -1.0 if interrupt_after is None else interrupt_after
+    out = subprocess.run([sys.executable, "-c", LAUNCHER, str(wait), *argv], cwd=str(ROOT), capture_output=True,
+                         text=True, check=True).stdout.split()
+    return int(out[0]), float(out[1]), float(out[2])
 
 
 def main() -> None:
