@@ -389,3 +389,29 @@ def test_an_interrupted_write_leaves_nothing(tmp_path, monkeypatch):
                 f.write("new")
             raise KeyboardInterrupt  # after the file was written, before the command ended
     assert target.read_text() == "old" and leftovers(tmp_path) == []
+
+
+# --- 9. work that grew faster than the input ------------------------------------------------
+
+def test_a_single_bit_applied_to_a_wide_vector_is_built_once(write):
+    # 4,096 bits ANDed with one 10,000-term bit (issue 14, item 8): built once, not once per bit
+    from checker.model.simulate import run as clock
+
+    terms = 10_000
+    p = write("design wide\n  in v[4095:0], a, b\n  out o[4095:0] = v & (a" + " & b" * terms + ")\nend\n")
+    rc, out, err = run(["check", p, "--timeout", "30", "--json"])  # reading it took minutes
+    assert rc == 2 and "no claims in" in err  # read and elaborated in time: only then is this known
+    d = api.load(p).designs["wide"]
+    ins = {f"v[{i}]": i % 2 for i in range(4096)}
+    for a, b in ((1, 1), (1, 0), (0, 1)):
+        outs = clock(d.model, {}, [{**ins, "a": a, "b": b}], 0)[0].outputs
+        assert [outs[f"o[{i}]"] for i in range(8)] == [i % 2 & a & b for i in range(8)]
+
+
+def test_equal_between_designs_with_many_flops_reads_in_time(write):
+    # 4 x 4,096 flops on each side (issue 14, item 9): the name comparison was quadratic
+    body = "".join(f"  flop {n}[4095:0] : D (d = {n})\n" for n in "abce")
+    p = write(f"design p\n  in x\n{body}end\ndesign r\n  in x\n{body}end\ncheck k of p\n  equal r\nend\n")
+    rc, out, err = run(["check", p, "--timeout", "30", "--json"])
+    assert rc == 0, err
+    assert [c["status"] for c in json.loads(out)["claims"]] == ["proved"]

@@ -14,8 +14,8 @@ from typing import Optional
 from ..errors import InputError, Pos
 from ..lang import parse as P
 from ..model import FALSE, Model
-from .bits import (MAX_VECTOR, BExpr, bit_deps, bitwise, bnot, build, gate, kind_text, num_bits,
-                   select_bits)
+from .bits import (MAX_VECTOR, BExpr, bitwise, bnot, build, gate, kind_text, num_bits, select_bits,
+                   shared_deps)
 from .design import Design, Symbol
 
 MAX_BITS = 100_000
@@ -326,10 +326,9 @@ class _Flattener:
 def _comb_order(fl: _Flattener, leaves: set[str]) -> list[str]:
     """Combinational bits in dependency order; a cycle is an error naming it."""
     deps: dict[str, list[str]] = {}
+    memo: dict = {}  # a sub-expression shared by many bits is walked once
     for b, (x, _) in fl.comb.items():
-        d: list[str] = []
-        bit_deps(x, d)
-        deps[b] = [y for y in d if y not in leaves]
+        deps[b] = [y for y in shared_deps(x, memo) if y not in leaves]
     order: list[str] = []
     state: dict[str, int] = {}  # 1 on stack, 2 done
     for root in fl.comb:
@@ -371,11 +370,12 @@ def _to_model(name: str, fl: _Flattener, inputs: list[str], outputs: list[str]) 
         lit[b] = aig.leaf(b)
         m.states.append(b)
         m.state_lits.append(lit[b])
+    memo: dict = {}  # a sub-expression shared by many bits is built once
     for b in _comb_order(fl, set(lit)):
-        lit[b] = build(aig, fl.comb[b][0], lit)
+        lit[b] = build(aig, fl.comb[b][0], lit, memo)
     for b, fb in fl.flops.items():
         q = lit[b]
-        pin = {p: build(aig, x, lit) for p, (x, _) in fb.pins.items()}
+        pin = {p: build(aig, x, lit, memo) for p, (x, _) in fb.pins.items()}
         if fb.kind == "D":
             f = pin["d"]
         elif fb.kind == "T":
@@ -384,8 +384,8 @@ def _to_model(name: str, fl: _Flattener, inputs: list[str], outputs: list[str]) 
             f = aig.or_(aig.and_(pin["j"], q ^ 1), aig.and_(pin["k"] ^ 1, q))
         else:
             f = aig.or_(pin["s"], aig.and_(pin["r"] ^ 1, q))
-        clr = FALSE if fb.clear is None else build(aig, fb.clear, lit)
-        pre = FALSE if fb.preset is None else build(aig, fb.preset, lit)
+        clr = FALSE if fb.clear is None else build(aig, fb.clear, lit, memo)
+        pre = FALSE if fb.preset is None else build(aig, fb.preset, lit, memo)
         m.next_lits.append(aig.and_(clr ^ 1, aig.or_(pre, f)))
         if fb.kind == "SR":
             fault = aig.and_all([pin["s"], pin["r"], clr ^ 1, pre ^ 1])

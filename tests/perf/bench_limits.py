@@ -82,6 +82,12 @@ def main() -> None:
         ("chain of parts, 64 levels (the limit), checked", ["check", write("chain64.cnl", part_chain(64))], None),
         ("slow loading (100 wide designs), --timeout 1", ["check", write("slow.cnl", slow_loading(100)),
                                                           "--timeout", "1"], None),
+        ("4,096-bit vector & one 10,000-term bit, read", ["check", write("wide.cnl", "design wide\n  in v[4095:0], a, b\n"
+                                                                  "  out o[4095:0] = v & (a" + " & b" * 10_000
+                                                                  + ")\nend\n")], None),
+        ("equal, 4 x 4,096 flops a side, proved", ["check", write("eq.cnl", "".join(
+            f"design {d}\n  in x\n" + "".join(f"  flop {n}[4095:0] : D (d = {n})\n" for n in "abce") + "end\n"
+            for d in "pr") + "check k of p\n  equal r\nend\n")], None),
         ("12-bit multiplier miter, --timeout 2", ["check", mul, "--timeout", "2"], None),
         ("12-bit multiplier miter, Ctrl-C after 3 s (time from the interrupt)", ["check", mul], 3.0),
     ]
