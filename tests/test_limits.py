@@ -415,3 +415,21 @@ def test_equal_between_designs_with_many_flops_reads_in_time(write):
     rc, out, err = run(["check", p, "--timeout", "30", "--json"])
     assert rc == 0, err
     assert [c["status"] for c in json.loads(out)["claims"]] == ["proved"]
+
+
+def test_a_design_over_the_bit_limit_is_refused_while_reading(write):
+    # issue 14, item 10: the declared bits are counted as the file is read, so what follows the
+    # declaration that goes over is never parsed (here, a syntax error that would be reported first)
+    from checker.lang.parse import MAX_DESIGN_BITS
+
+    assert MAX_DESIGN_BITS == MAX_BITS
+    decls = "".join(f"  node n{i}[4095:0] = v\n" for i in range(30))
+    p = write("design wide\n  in v[4095:0]\n" + decls + "  out @@@\nend\n")
+    e = error_of(["check", p])
+    # v is 4,096 bits; 23 nodes make 98,304 in all; the 24th goes over
+    assert (e["line"], e["col"]) == (3 + 23, 8) and f"past {MAX_BITS} bits" in e["message"]
+    # pieces, lists and single bits count too; a declaration over the vector limit keeps its own message
+    p = write("design w\n  in a, b[3:0], " + ", ".join(f"c{i}[0:4095]" for i in range(25)) + "\nend\n")
+    assert f"past {MAX_BITS} bits" in error_of(["check", p])["message"]
+    p = write("design w\n  in x\n  node big[5000:0] = x\nend\n")
+    assert "limit is 4096 bits in one vector" in error_of(["check", p])["message"]

@@ -311,6 +311,72 @@ class _Dangling(Exception):
         self.comma, self.word = comma, word
 
 
+MAX_DESIGN_BITS = 100_000
+"""Most bits one design block may declare itself (the flattened-design limit, ``elab.flatten.MAX_BITS``)."""
+
+
+class _TooManyBits(Exception):
+    """A design block declared more than MAX_DESIGN_BITS bits; raised while the file is still being read."""
+
+    def __init__(self, design: Token, at: Token) -> None:
+        self.design, self.at = design, at
+
+
+class _DeclCounter:
+    """Counts the bits a design block declares (``in``, ``out``, ``node``, ``flop``) as the
+    tokens go by, so that a design over the limit is refused before the rest of the file is
+    parsed. Widths beyond the vector limit are left to the elaborator's own message."""
+
+    def __init__(self) -> None:
+        self.design: Optional[Token] = None
+        self.bits = 0
+        self.mode: Optional[str] = None  # 'in': a list of declarations; 'one': a single one
+        self.buf: list[Token] = []
+        self.depth = 0  # open '[' in the declaration
+
+    def feed(self, tok: Token) -> None:
+        t = tok.type
+        if t == "DESIGN":
+            self.design, self.bits, self.mode = tok, 0, None
+            return
+        if self.design is None:
+            return
+        if t == "END":
+            self.design, self.mode = None, None
+            return
+        if self.mode is None:
+            if t in ("IN", "OUT", "NODE", "FLOP"):
+                self.mode, self.buf, self.depth = ("in" if t == "IN" else "one"), [], 0
+            return
+        if t == "LSQB":
+            self.depth += 1
+        elif t == "RSQB":
+            self.depth -= 1
+        ends = t == "_NL" or (self.depth == 0 and (t in ("EQUAL", "COMMA") or (t == "COLON" and self.buf)))
+        if not ends:
+            if len(self.buf) < 6:
+                self.buf.append(tok)
+            return
+        self._count()
+        if t == "_NL" or self.mode == "one" or t != "COMMA":
+            self.mode = None
+        self.buf, self.depth = [], 0
+
+    def _count(self) -> None:
+        ints = [x for x in self.buf if x.type == "INT"]
+        if not self.buf:
+            return
+        width = 1
+        if len(ints) == 2 and max(len(str(i)) for i in ints) <= 12:
+            width = abs(int_value(str(ints[0])) - int_value(str(ints[1]))) + 1
+        if width > MAX_LITERAL_BITS:
+            return  # the elaborator names the vector limit at the declaration
+        self.bits += width
+        if self.bits > MAX_DESIGN_BITS:
+            assert self.design is not None
+            raise _TooManyBits(self.design, self.buf[0])
+
+
 class _Continuation:
     """Post-lexer: a line break inside an open ``( { [`` or after a trailing comma is not a break.
 
@@ -325,6 +391,7 @@ class _Continuation:
 
     def process(self, stream):
         self.open = []
+        counter = _DeclCounter()
         prev = None
         joined = None  # the comma whose line break was dropped
         for tok in stream:
@@ -340,6 +407,7 @@ class _Continuation:
                 self.open.append(tok)
             elif t in _CLOSERS and self.open:
                 self.open.pop()
+            counter.feed(tok)
             prev = tok
             yield tok
 
@@ -440,6 +508,11 @@ def parse_text(path: str, text: str) -> File:
         tree = _parser().parse(text, start="start")
     except UnexpectedInput as e:
         raise _unclosed(path, e) or _syntax_error(path, text, e) from None
+    except _TooManyBits as b:
+        name = b.design
+        raise InputError(Pos(path, b.at.line, b.at.column),
+                         f"this declaration takes the design declared at line {name.line} past "
+                         f"{MAX_DESIGN_BITS} bits of its own (the limit); the rest of the file was not read") from None
     except _Dangling as d:
         raise InputError(Pos(path, d.comma.line, d.comma.column),
                          f"the line ends with ',' so the statement goes on, but the next line starts "
