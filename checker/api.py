@@ -56,6 +56,9 @@ MAX_CODE_BITS = 4096
 MAX_CYCLES = 1_000_000
 """Most clocks ``simulate`` runs."""
 
+MAX_SIM_VALUES = 20_000_000
+"""Most bit values a simulated run holds: (clocks + 1) x (flops + inputs + outputs), checked before it starts."""
+
 SKIPPED_FOLDERS = frozenset({"node_modules", "site-packages", "__pycache__"})
 """Folder names a folder scan never enters (besides hidden folders and virtual environments)."""
 
@@ -425,6 +428,12 @@ def simulate(path: str, design: str, start: Optional[str] = None, code: Optional
         n = 16 if cycles is None else cycles
     if n < 0 or n > MAX_CYCLES:
         raise _cmdline(f"--cycles takes a number from 0 to {MAX_CYCLES}")
+    width = len(model.states) + len(model.inputs) + len(model.outputs)
+    if (n + 1) * width > MAX_SIM_VALUES:  # the cost, said before the run rather than found during it
+        most = max(0, MAX_SIM_VALUES // max(1, width) - 1)
+        where = Pos(trace, 1, 1) if trace is not None and cycles is None else Pos("<command line>", 1, 1)
+        raise InputError(where, f"{n} clocks of {d.name} ({width} bits a clock) would hold {(n + 1) * width:,} "
+                                f"bit values; the limit is {MAX_SIM_VALUES:,}: run at most {most} clocks")
     if start_code < 0 or start_code >> len(idx):
         if trace is not None:
             raise InputError(Pos(trace, 1, 1), f"trace entry 0: code {start_code} does not fit the "

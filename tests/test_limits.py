@@ -433,3 +433,17 @@ def test_a_design_over_the_bit_limit_is_refused_while_reading(write):
     assert f"past {MAX_BITS} bits" in error_of(["check", p])["message"]
     p = write("design w\n  in x\n  node big[5000:0] = x\nend\n")
     assert "limit is 4096 bits in one vector" in error_of(["check", p])["message"]
+
+
+def test_a_simulation_too_large_to_hold_is_refused_before_it_starts(write):
+    # issue 14, item 11: a million clocks of a 4,096-bit design would take hours and 120 GiB
+    from checker.api import MAX_SIM_VALUES
+
+    p = write("design wide\n  in go\n  flop q[4095:0] : D (d = {q[4094:0], go})\n  out o = q[4095]\nend\n")
+    t0 = time.monotonic()
+    e = error_of(["sim", p, "wide", "--cycles", "1000000"])
+    assert time.monotonic() - t0 < 20
+    most = MAX_SIM_VALUES // (4096 + 1 + 1) - 1
+    assert e["file"] == "<command line>" and f"run at most {most} clocks" in e["message"]
+    rc, out, _ = run(["sim", p, "wide", "--cycles", "3", "--set", "go=1", "--json"])
+    assert rc == 0 and [t["code"] for t in json.loads(out)["trace"]] == [0, 1, 3, 7]
