@@ -73,7 +73,7 @@ def read_limited(path: str, limit: int, where: Optional[Pos] = None, what: str =
             kind = _kind(st.st_mode)
             if kind == "a folder":
                 raise InputError(where, f"'{shown(path)}' is a folder, not a file")
-            raise InputError(where, f"'{shown(path)}' is {kind}, not a regular file; only a regular file is read as a {what}")
+            raise InputError(where, f"'{shown(path)}' is {kind}, not a regular file; a {what} must be a regular file")
         if st.st_size > limit:
             raise InputError(where, f"'{shown(path)}' is larger than {mib} (the limit for a {what})")
         chunks: list[bytes] = []

@@ -23,7 +23,7 @@ def read_file(path: str, pos: Optional[Pos] = None) -> P.File:
     """Read and parse one file; a missing or unreadable file, or one that is not a regular
     file (a device, a FIFO), is an InputError, and so is one over the size limit, checked
     before reading."""
-    data = read_limited(path, P.MAX_FILE_BYTES, pos or Pos(path, 1, 1))
+    data = read_limited(path, P.MAX_FILE_BYTES, pos or Pos(path, 1, 1), "source file")
     return P.parse_text(path, P.decode_source(path, data))
 
 
