@@ -102,8 +102,8 @@ def main() -> None:
         print(f"{label:70s} exit {table[-1][1]:>4s} {secs:8.2f} s {mib:8.1f} MiB", flush=True)
     lines = ["# Limits benchmark", "",
              f"Machine: {os.cpu_count()} cores shared; Python {platform.python_version()}; medians of {REPEAT} runs "
-             "(peak memory: the largest of them, of the main process; the forked workers that run claims "
-             "and timed loads are not counted). Each row is one `countersign` process.", "",
+             "(peak memory: the largest of them, over the process and the forked workers it waited for, "
+             "which run claims and timed loads). Each row is one `countersign` process.", "",
              "| input | exit | seconds | peak MiB |", "|---|---|---|---|"]
     lines += [f"| {label} | {st} | {secs:.2f} | {mib:.0f} |" for label, st, secs, mib in table]
     # what isolating every claim in a child costs (the command line does it so that Ctrl-C is clean)
