@@ -122,7 +122,7 @@ def atomic_output(path: str, binary: bool = False) -> Iterator[IO]:
     except OSError:
         st = None
     mode = "wb" if binary else "w"
-    kw = {} if binary else {"encoding": "utf-8", "newline": ""}
+    kw = {} if binary else {"encoding": "utf-8", "newline": "", "errors": "backslashreplace"}
     if st is not None and not stat.S_ISREG(st.st_mode):
         if stat.S_ISDIR(st.st_mode):
             raise OSError(errno.EISDIR, "it is a folder", path)

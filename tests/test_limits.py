@@ -148,6 +148,10 @@ def test_non_utf8_file_names_in_every_report(tmp_path):
     assert rc == 0
     out.encode("utf-8")  # valid Unicode throughout: no lone surrogate
     assert json.loads(out)["claims"][0]["file"].endswith("fl\\xffp.cnl")
+    cnf = tmp_path / os.fsdecode(b"out\xfd.cnf")
+    rc, out, err = run(["export", str(src), "flips", "--claim", "8", "-o", str(cnf)])
+    assert rc == 0, err
+    assert "fl\\xffp.cnl:8" in cnf.read_text(encoding="utf-8")
     bad = tmp_path / os.fsdecode(b"b\xfead.cnl")
     bad.write_text("design b\n  out y = z\nend\n")
     rc, out, err = run(["check", str(bad), "--json"])
@@ -191,6 +195,29 @@ def test_ctrl_c_during_a_solve_is_exit_130_with_no_partial_file(tmp_path, timeou
     assert not junit.exists() and leftovers(tmp_path) == []
     time.sleep(0.5)
     assert _processes_mentioning(str(src)) == []  # the worker went with it
+
+
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="the worker asks Linux to end it with its parent")
+def test_a_worker_does_not_outlive_a_killed_command(tmp_path):
+    # the worker leaves the terminal's process group (so that Ctrl-C reaches only the parent);
+    # killed outright, the parent cannot kill it, so the worker must end by itself
+    from test_timeouts import multiplier
+
+    src = tmp_path / "mulk.cnl"
+    src.write_text(multiplier("mul_a", 12, False) + multiplier("mul_b", 12, True)
+                   + "check same of mul_a\n  equal mul_b\nend\n")
+    proc = subprocess.Popen([sys.executable, "-m", "checker", "check", str(src)], cwd=str(ROOT),
+                            stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    deadline = time.monotonic() + 60
+    while len(_processes_mentioning(str(src))) < 2 and time.monotonic() < deadline:
+        time.sleep(0.2)
+    assert len(_processes_mentioning(str(src))) >= 2  # the command and its worker
+    proc.kill()
+    proc.wait()
+    deadline = time.monotonic() + 20
+    while _processes_mentioning(str(src)) and time.monotonic() < deadline:
+        time.sleep(0.2)
+    assert _processes_mentioning(str(src)) == []
 
 
 # --- 5. what is not a regular file ------------------------------------------------------

@@ -11,7 +11,7 @@ bit after the edge, ``!NAME@0`` a variable that is the complement of NAME.
 from __future__ import annotations
 
 from ..elab import Check, Claim
-from ..fileio import atomic_output
+from ..fileio import atomic_output, shown
 from ..engines.sat import Sat, Unrolling
 from ..claims.always import build_always
 from ..claims.count import build_count
@@ -54,7 +54,7 @@ def _header(check: Check, claim: Claim, sat_means: str, unsat_means: str) -> lis
     code_names = [check.design.model.states[i] for i in check.code]
     return [
         f"countersign: check {check.name} of design {check.design.name}, "
-        f"{claim.kind} claim at {claim.pos.file}:{claim.pos.line}",
+        f"{claim.kind} claim at {shown(claim.pos.file)}:{claim.pos.line}",
         f"sequence: {seq.describe() if seq is not None else '-'}",
         f"code, most significant first: {' '.join(code_names)}",
         f"SAT means: {sat_means}",
