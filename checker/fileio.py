@@ -67,6 +67,8 @@ def read_limited(path: str, limit: int, where: Optional[Pos] = None, what: str =
         raise InputError(where, f"cannot read '{shown(path)}': permission denied") from None
     except OSError as e:
         raise InputError(where, f"cannot read '{shown(path)}': {e.strerror or e}") from None
+    except ValueError:  # a NUL character: no file system has such a name
+        raise InputError(where, f"no such file {shown(path)!r}: a file name holds no NUL character") from None
     try:
         st = os.fstat(fd)
         if not stat.S_ISREG(st.st_mode):

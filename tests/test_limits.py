@@ -251,6 +251,16 @@ def test_trace_files_are_refused_when_not_regular(write, tmp_path):
     assert rc == 0 and [e["code"] for e in json.loads(out)["trace"]] == [1, 0]
 
 
+def test_a_name_with_a_nul_character_is_no_file(write, tmp_path):
+    p = write(FLIP)
+    trace = tmp_path / "t.json"
+    trace.write_text(json.dumps({"file": "a\x00b", "check": "flips", "trace": [{"clock": 0, "code": 1}]}))
+    rc, out, err = run(["sim", p, "flip", "--trace", str(trace), "--json"])
+    assert rc == 0, err  # the trace's file cannot be read: the design's own code order
+    e = error_of(["check", "a\x00b"])
+    assert "NUL" in e["message"] or "no such file" in e["message"]
+
+
 def test_size_is_checked_before_reading(tmp_path):
     big = tmp_path / "big.cnl"
     with open(big, "wb") as f:  # sparse: 1 byte over the limit costs no disk and, refused, no memory
