@@ -3,7 +3,8 @@
 Each example takes one file of ``cases/``, applies a few byte and token
 mutations (delete, duplicate or swap a span; insert a reserved word,
 punctuation, a number far too wide, a bad byte, a line break), and runs
-``check --json`` on it. Whatever the mutant, the run must end with a verdict
+``check --json`` on it, then ``sim --vcd`` on the first design it still
+names. Whatever the mutant, the run must end with a verdict
 or a positioned error: exit 0, 1, 2 or 3, never 70; no traceback; and every
 error names a file, a line and a column inside it.
 
@@ -18,6 +19,7 @@ from __future__ import annotations
 import contextlib
 import io
 import json
+import re
 import shutil
 from pathlib import Path
 
@@ -78,21 +80,35 @@ def mutate(data: bytes, muts) -> bytes:
 @given(st.sampled_from(CASES), st.lists(mutation, min_size=1, max_size=4))
 def test_mutants_get_a_verdict_or_a_positioned_error(workdir, case, muts):
     mutant = workdir / "mutant.cnl"
-    mutant.write_bytes(mutate((workdir / case).read_bytes(), muts))
+    data = mutate((workdir / case).read_bytes(), muts)
+    mutant.write_bytes(data)
+    rc, doc = _run(["check", str(mutant), "--json", "--timeout", "20"], case, muts)
+    if rc != 2:
+        assert all(c["status"] in ("proved", "refuted", "open") for c in doc["claims"])
+    # the first design the mutant still names, clocked a few times with a dump
+    names = re.findall(rb"^design ([A-Za-z_]\w*)", data, re.M)
+    if names:
+        vcd = workdir / "mutant.vcd"
+        rc, doc = _run(["sim", str(mutant), names[0].decode(), "--cycles", "3", "--vcd", str(vcd), "--json"],
+                       case, muts)
+        assert (rc == 0) == vcd.exists()  # an output exists exactly when the command succeeded
+        vcd.unlink(missing_ok=True)
+
+
+def _run(argv, case, muts):
     out, err = io.StringIO(), io.StringIO()
     with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-        rc = main(["check", str(mutant), "--json", "--timeout", "20"])
+        rc = main(argv)
     err_text = err.getvalue()
-    assert rc in (0, 1, 2, 3), (case, muts, rc, err_text)
-    assert "Traceback" not in err_text and "internal error" not in err_text, (case, muts, err_text)
+    assert rc in (0, 1, 2, 3), (case, muts, argv, rc, err_text)
+    assert "Traceback" not in err_text and "internal error" not in err_text, (case, muts, argv, err_text)
     doc = json.loads(out.getvalue())
     if rc == 2:
         e = doc["error"]
-        assert e["file"] != "<command line>" and Path(e["file"]).name.endswith(".cnl"), e
+        assert e["file"] != "<command line>" and Path(e["file"]).name.endswith(".cnl"), (argv, e)
         assert isinstance(e["line"], int) and e["line"] >= 1 and isinstance(e["col"], int) and e["col"] >= 1, e
         assert err_text.startswith(f"{e['file']}:{e['line']}:{e['col']}: "), err_text
-    else:
-        assert all(c["status"] in ("proved", "refuted", "open") for c in doc["claims"])
+    return rc, doc
 
 
 def test_the_mutator_mutates():
