@@ -134,6 +134,8 @@ def atomic_output(path: str, binary: bool = False) -> Iterator[IO]:
         except OSError as e:
             raise _named(e, path) from None
         return
+    if st is not None and not os.access(target, os.W_OK):  # a read-only file stays as it is
+        raise OSError(errno.EACCES, "permission denied", path)
     folder, name = os.path.split(target)
     try:
         fd, tmp = tempfile.mkstemp(dir=folder or ".", prefix=f".{name}.", suffix=".part")

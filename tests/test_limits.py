@@ -397,6 +397,19 @@ def test_outputs_appear_whole_when_the_command_succeeds(tmp_path):
     assert vcd.stat().st_mode & 0o777 == 0o640
 
 
+def test_a_read_only_output_is_not_replaced(tmp_path, monkeypatch):
+    import checker.fileio
+
+    vcd = tmp_path / "r.vcd"
+    vcd.write_text("keep")
+    os.chmod(vcd, 0o444)
+    if os.access(vcd, os.W_OK):  # root may write anything: ask as a user would be answered
+        monkeypatch.setattr(checker.fileio.os, "access", lambda p, mode: False)
+    e = error_of(["sim", CASE, "sixpack_t", "--vcd", str(vcd)])
+    assert e["file"] == str(vcd) and "permission denied" in e["message"]
+    assert vcd.read_text() == "keep"
+
+
 def test_an_output_that_is_a_device_is_written_not_replaced(tmp_path):
     rc, _, err = run(["sim", CASE, "sixpack_t", "--vcd", "/dev/null"])
     assert rc == 0, err
