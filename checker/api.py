@@ -31,25 +31,34 @@ from .elab.spec import condition_literal, flop_indices
 from .engines.budget import run_bounded
 from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
+from .fileio import output_transaction, read_limited, shown, write_output
 from .lang.parse import parse_expr
 from .model.simulate import Step, code_value, run, state_of_code
 from .tools import compare as _compare
 from .tools.codemap import MapDoc, recovery_map
 from .tools.export import export_aiger, export_cnf
+from .tools.loading import LoadTimeout, load_within
 from .tools.netlists import FORMATS as DESIGN_FORMATS, write_design
 from .tools.stategraph import StateGraph, state_graph
 
 __all__ = [
     "__version__", "DEFAULT_SOLVER", "OPEN", "PROVED", "REFUTED", "CheckHandle", "CheckRun", "InputError",
     "MapRun", "Options", "Pos", "Program", "Result", "SimRun", "check_files", "compare_files", "demo_path",
-    "exit_status", "expand_paths", "export_claim", "export_design", "load", "map_check", "options", "simulate", "solver_names",
+    "exit_status", "expand_paths", "export_claim", "export_design", "load", "map_check", "options",
+    "output_transaction", "shown", "simulate", "solver_names",
 ]
 
 MAX_TIMEOUT = 1e6
 """Largest --timeout accepted, in seconds (about 11.5 days)."""
 
+MAX_CODE_BITS = 4096
+"""Widest code (the widest vector)."""
+
 MAX_CYCLES = 1_000_000
 """Most clocks ``simulate`` runs."""
+
+MAX_SIM_VALUES = 20_000_000
+"""Most bit values a simulated run holds: (clocks + 1) x (flops + inputs + outputs), checked before it starts."""
 
 SKIPPED_FOLDERS = frozenset({"node_modules", "site-packages", "__pycache__"})
 """Folder names a folder scan never enters (besides hidden folders and virtual environments)."""
@@ -122,8 +131,14 @@ def load(path: str) -> Program:
     return Program(load_namespace(str(path)))
 
 
-def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engine: str = "auto") -> Options:
-    """Validated run options; an InputError (at ``<command line>``) for a bad solver or timeout."""
+def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engine: str = "auto",
+            isolate: bool = False) -> Options:
+    """Validated run options; an InputError (at ``<command line>``) for a bad solver or timeout.
+
+    ``isolate`` runs every claim, map and comparison in a child process even
+    without a timeout, so that an interrupt (Ctrl-C) stops a solver call
+    cleanly; the command line asks for it.
+    """
     where = Pos("<command line>", 1, 1)
     if solver not in solver_names():
         raise InputError(where, f"unknown solver '{solver}'; python-sat offers: {', '.join(solver_names())}")
@@ -131,7 +146,7 @@ def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engin
         raise InputError(where, f"--timeout takes a number of seconds above 0 and at most {MAX_TIMEOUT:g}")
     if engine not in ("auto", "sat", "explicit"):
         raise InputError(where, f"unknown engine '{engine}'; the engines are auto, sat, explicit")
-    return Options(solver=solver, timeout=timeout, engine=engine)
+    return Options(solver=solver, timeout=timeout, engine=engine, isolate=isolate)
 
 
 def _skipped(folder: Path) -> bool:
@@ -175,6 +190,13 @@ class CheckRun:
     errors: list[InputError] = field(default_factory=list)
     widths: dict[tuple[str, str], int] = field(default_factory=dict)  # (file, check) -> code width
     files: list[str] = field(default_factory=list)
+    unread: list[InputError] = field(default_factory=list)  # files not read within --timeout: open
+
+    @property
+    def status(self) -> int:
+        """Exit status: 1 a claim refuted, 3 a claim (or a whole file) open and none refuted, else 0."""
+        s = exit_status(self.results)
+        return 3 if s == 0 and self.unread else s
 
 
 def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRun:
@@ -191,13 +213,15 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRu
     programs = []
     for f in files:
         try:
-            programs.append(load(f))
+            programs.append(Program(load_within(f, opts.timeout)))
+        except LoadTimeout as e:
+            out.unread.append(e)
         except InputError as e:
             out.errors.append(e)
     if out.errors:
         return out
     checks = [c for p in programs for c in p.namespace.checks]
-    if not any(c.claims for c in checks):
+    if not any(c.claims for c in checks) and not out.unread:
         where = ", ".join(paths) if paths else "the command line"
         raise InputError(Pos(files[0] if files else "<command line>", 1, 1), f"no claims in {where}")
     for c in checks:
@@ -249,11 +273,16 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     opts = opts or Options()
     if limit < 0:
         raise InputError(Pos("<command line>", 1, 1), "--limit takes a count of 0 or more")
-    chk = load(path).find_check(check)
+    try:
+        chk = Program(load_within(path, opts.timeout)).find_check(check)
+    except LoadTimeout as e:  # open, like a map that runs out
+        return MapRun({"check": check, "width": None, "sequence_length": None, "unused_count": None,
+                       "worst": None, "locked": None, "unused": [], "status": "open",
+                       "summary": f"{e.pos.file}: {e.message}"})
     if chk.sequence is None:
         raise InputError(chk.pos, f"check {chk.name} has no count line, so it has no unused codes to map")
     cond = None if when is None else condition_literal(chk.design, parse_expr("--when", when))
-    value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout)
+    value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout, opts.isolate)
     if not finished:
         doc = MapDoc({"check": chk.name, "width": chk.width, "sequence_length": chk.sequence.length(),
                       "unused_count": (1 << chk.width) - chk.sequence.length(), "worst": None,
@@ -307,6 +336,8 @@ def _cmdline(message: str) -> InputError:
 
 def parse_number(text: str, what: str) -> int:
     """A number as the command line takes it: decimal, 0b binary or 0x hex."""
+    if len(text) > len(str(1 << MAX_CODE_BITS)) + 3:  # checked before conversion
+        raise _cmdline(f"{what}: a number of {len(text)} characters is wider than any code ({MAX_CODE_BITS} bits at most)")
     try:
         return int(text, 0)
     except ValueError:
@@ -337,17 +368,35 @@ def input_settings(settings: Iterable[str], design: Design) -> dict[str, int]:
     return fixed
 
 
+MAX_TRACE_BYTES = 32 * 1024 * 1024
+"""Largest trace file ``sim --trace`` reads (the source file limit)."""
+
+
+class _TraceNumber(ValueError):
+    pass
+
+
+def _trace_int(text: str) -> int:
+    """A JSON integer of a trace, refused (before conversion) when wider than any code can be."""
+    digits = text.lstrip("-").lstrip("0")
+    if len(digits) > len(str(1 << MAX_CODE_BITS)):
+        raise _TraceNumber(f"a number of {len(digits)} digits in the trace is wider than any code "
+                           f"({MAX_CODE_BITS} bits at most)")
+    return int(text)
+
+
 def read_trace(path: str, design: Design, want_code: bool) -> tuple[list[dict], Optional[list[int]]]:
     """The trace list of a trace file, and the code order of its check where it names one."""
     where = Pos(path, 1, 1)
+    raw = read_limited(path, MAX_TRACE_BYTES, where, "trace file")
     try:
-        data = json.loads(Path(path).read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError(where, f"no such file '{path}'") from None
-    except (OSError, UnicodeDecodeError) as e:
-        raise InputError(where, f"cannot read '{path}': {e}") from None
+        data = json.loads(raw.decode("utf-8"), parse_int=_trace_int)
+    except UnicodeDecodeError as e:
+        raise InputError(where, f"cannot read '{path}': not UTF-8 text (byte {e.start})") from None
     except json.JSONDecodeError as e:
         raise InputError(Pos(path, e.lineno, e.colno), f"not JSON: {e.msg}") from None
+    except _TraceNumber as e:
+        raise InputError(where, str(e)) from None
     code = None
     if isinstance(data, dict) and isinstance(data.get("claims"), list) and len(data["claims"]) == 1:
         data = data["claims"][0]
@@ -362,12 +411,14 @@ def read_trace(path: str, design: Design, want_code: bool) -> tuple[list[dict], 
         data = data.get("trace")
     if not isinstance(data, list) or not data or not all(isinstance(e, dict) for e in data):
         raise InputError(where, "a trace file holds a trace list, or a claim object with a 'trace'")
-    for e in data:
-        if not isinstance(e.get("code", 0), int) or not isinstance(e.get("inputs") or {}, dict):
-            raise InputError(where, "each trace entry has an integer 'code' and an 'inputs' object")
+    for i, e in enumerate(data):
+        code_i = e.get("code", 0)
+        if not isinstance(code_i, int) or not isinstance(e.get("inputs") or {}, dict):
+            raise InputError(where, f"trace entry {i}: each trace entry has an integer 'code' and an 'inputs' object")
         for k, v in (e.get("inputs") or {}).items():
             if k not in design.model.inputs or v not in (0, 1):
-                raise InputError(where, f"trace input '{k}'={v!r} is not an input bit of {design.name} set to 0 or 1")
+                raise InputError(where, f"trace entry {i}: input '{k}'={v!r} is not an input bit of {design.name} "
+                                        f"set to 0 or 1")
     return data, code
 
 
@@ -395,7 +446,16 @@ def simulate(path: str, design: str, start: Optional[str] = None, code: Optional
         n = 16 if cycles is None else cycles
     if n < 0 or n > MAX_CYCLES:
         raise _cmdline(f"--cycles takes a number from 0 to {MAX_CYCLES}")
+    width = len(model.states) + len(model.inputs) + len(model.outputs)
+    if (n + 1) * width > MAX_SIM_VALUES:  # the cost, said before the run rather than found during it
+        most = max(0, MAX_SIM_VALUES // max(1, width) - 1)
+        where = Pos(trace, 1, 1) if trace is not None and cycles is None else Pos("<command line>", 1, 1)
+        raise InputError(where, f"{n} clocks of {d.name} ({width} bits a clock) would hold {(n + 1) * width:,} "
+                                f"bit values; the limit is {MAX_SIM_VALUES:,}: run at most {most} clocks")
     if start_code < 0 or start_code >> len(idx):
+        if trace is not None:
+            raise InputError(Pos(trace, 1, 1), f"trace entry 0: code {start_code} does not fit the "
+                                               f"{len(idx)}-bit code of {d.name}")
         raise _cmdline(f"--from {start_code} does not fit the {len(idx)}-bit code")
     if orders is not None:
         for k, order in enumerate(orders):
@@ -461,7 +521,8 @@ def demo_path() -> Path:
 
 def render_check(run: CheckRun) -> str:
     """The readable report of a check run."""
-    return report.text.format_results(run.results, run.widths)
+    text = report.text.format_results(run.results, run.widths)
+    return "\n".join([f"{e.pos.file}: open: {e.message}" for e in run.unread] + [text])
 
 
 def render_map(m: MapRun) -> str:
@@ -481,8 +542,11 @@ def render_sim(s: SimRun, events: bool = False) -> str:
 
 
 def json_check(run: CheckRun) -> str:
-    """``check --json``."""
-    return report.json.dumps(report.json.claims(run.results))
+    """``check --json``; files not read within the timeout are listed under ``unread``."""
+    doc = report.json.claims(run.results)
+    if run.unread:
+        doc["unread"] = [{"file": e.pos.file, "message": e.message} for e in run.unread]
+    return report.json.dumps(doc)
 
 
 def json_map(m: MapRun) -> str:
@@ -508,7 +572,7 @@ def json_error(e: InputError) -> str:
 def write_junit(run: CheckRun, path: str) -> None:
     """A JUnit XML report of a check run: one test per claim, one error case per unreadable file."""
     errors = [(str(e.pos.file), f"{e.pos}: {e.message}") for e in run.errors]
-    report.junit.write_junit(run.results, path, errors)
+    report.junit.write_junit(run.results, path, errors, [(str(e.pos.file), e.message) for e in run.unread])
 
 
 def write_vcd(s: SimRun, path: str) -> None:
@@ -519,7 +583,7 @@ def write_vcd(s: SimRun, path: str) -> None:
 def write_dot(m: MapRun, path: str) -> None:
     """The map's state graph in Graphviz DOT."""
     assert m.graph is not None, "map_check(graph=True) draws the graph"
-    Path(path).write_text(report.dot.state_graph_dot(m.graph), encoding="utf-8")
+    write_output(path, report.dot.state_graph_dot(m.graph))
 
 
 def write_svg(m: MapRun, path: str) -> None:
@@ -568,7 +632,7 @@ def write_html_check(run: CheckRun, path: str, opts: Optional[Options] = None, r
             continue
         other = next((c.other.name for c in chk.claims if c.pos.line == r.line and c.other is not None), "")
         waves[i] = H.waveform(P.trace_signals(chk, r), radix, f"w{i}", other)
-    Path(path).write_text(H.check_page(run.results, pics, waves, facts), encoding="utf-8")
+    write_output(path, H.check_page(run.results, pics, waves, facts))
 
 
 def write_html_map(m: MapRun, path: str, file: str, opts: Optional[Options] = None, radix: str = "dec") -> None:
@@ -582,4 +646,4 @@ def write_html_map(m: MapRun, path: str, file: str, opts: Optional[Options] = No
                          doc=m.doc, graph=m.graph)
     if m.doc.get("status") == "open":
         pic.note = "the map ran out of time: nothing to draw"
-    Path(path).write_text(H.map_page(pic, facts), encoding="utf-8")
+    write_output(path, H.map_page(pic, facts))

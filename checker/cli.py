@@ -25,11 +25,11 @@ class _Parser(argparse.ArgumentParser):
 
 
 def _emit(as_json: bool, doc: str, text: str) -> None:
-    sys.stdout.write(doc if as_json else text + ("\n" if text and not text.endswith("\n") else ""))
+    sys.stdout.write(doc if as_json else api.shown(text) + ("\n" if text and not text.endswith("\n") else ""))
 
 
 def _options(args) -> api.Options:
-    return api.options(args.solver, args.timeout, getattr(args, "engine", "auto"))
+    return api.options(args.solver, args.timeout, getattr(args, "engine", "auto"), isolate=True)
 
 
 # --- commands --------------------------------------------------------------
@@ -42,10 +42,10 @@ def cmd_check(args) -> int:
     if run.errors:  # every bad file is named; no claim ran
         status = _report_error(run.errors[0], args.json)
         for e in run.errors[1:]:
-            sys.stderr.write(f"{e.pos}: {e.message}\n")
+            sys.stderr.write(api.shown(f"{e.pos}: {e.message}") + "\n")
         return status
     _emit(args.json, api.json_check(run), api.render_check(run))
-    return api.exit_status(run.results)
+    return run.status
 
 
 def cmd_map(args) -> int:
@@ -185,7 +185,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 def _report_error(e: InputError, as_json: bool) -> int:
     """``FILE:LINE:COL: message`` on stderr (and the JSON error on stdout); exit status 2."""
-    sys.stderr.write(f"{e.pos}: {e.message}\n")
+    sys.stderr.write(api.shown(f"{e.pos}: {e.message}") + "\n")
     if as_json:
         sys.stdout.write(api.json_error(e))
     return 2
@@ -194,6 +194,9 @@ def _report_error(e: InputError, as_json: bool) -> int:
 def main(argv: Optional[Sequence[str]] = None) -> int:
     """Run the command line; returns the exit status."""
     argv = list(sys.argv[1:] if argv is None else argv)
+    for stream in (sys.stdout, sys.stderr):  # a file name that is not UTF-8 prints as \xNN, never fails
+        if hasattr(stream, "reconfigure"):
+            stream.reconfigure(errors="backslashreplace")
     as_json = "--json" in argv
     try:
         parser = build_parser()
@@ -201,7 +204,8 @@ def main(argv: Optional[Sequence[str]] = None) -> int:
         if not getattr(args, "func", None):
             parser.print_help()
             return 2
-        return args.func(args)
+        with api.output_transaction():  # output files appear only when the command gets this far
+            return args.func(args)
     except InputError as e:
         return _report_error(e, as_json)
     except RecursionError:

@@ -20,7 +20,7 @@ PKG = Path(__file__).resolve().parent.parent / "checker"
 
 FLOORS = {
     "checker.errors": 0, "checker.about": 0,
-    "checker.lang": 1, "checker.model": 1,
+    "checker.lang": 1, "checker.model": 1, "checker.fileio": 1,
     "checker.elab": 2,
     "checker.engines": 3,
     "checker.claims": 4,

@@ -25,7 +25,7 @@ def run_claim(check: Check, claim: Claim, opts: Options) -> Result:
     """Prove or refute one claim within ``opts.timeout`` seconds."""
     prove = PROVERS[claim.kind]
     t0 = time.perf_counter()
-    res, progress, finished = run_bounded(lambda b: prove(check, claim, opts, b), opts.timeout)
+    res, progress, finished = run_bounded(lambda b: prove(check, claim, opts, b), opts.timeout, opts.isolate)
     if not finished:
         res = make_result(check, claim, OPEN, f"ran out of time after {opts.timeout:g} s",
                           details={k: v for k, v in progress.items()})

@@ -21,6 +21,7 @@ class Options:
     solver: str = DEFAULT_SOLVER
     timeout: Optional[float] = None
     engine: str = "auto"  # auto, sat, explicit
+    isolate: bool = False  # run every claim in a child process, so that Ctrl-C ends it cleanly
 
 
 class ReplayError(AssertionError):

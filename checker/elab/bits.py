@@ -117,19 +117,40 @@ def bit_deps(x: BExpr, out: list[str]) -> None:
             stack.extend(y[1])
 
 
-def build(aig: Aig, x: BExpr, lit: dict[str, int]) -> int:
+def shared_deps(x: BExpr, memo: dict[int, tuple[str, ...]]) -> tuple[str, ...]:
+    """The named bits ``x`` reads, each once; ``memo`` (by object identity) makes a
+    sub-expression shared by many bits (a single bit applied to a whole vector) cost once."""
+    t = x[0]
+    if t == "r":
+        return (x[1],)
+    if t == "c":
+        return ()
+    key = id(x)
+    got = memo.get(key)
+    if got is None:
+        kids = [x[1]] if t == "n" else list(x[1:]) if t == "m" else x[1]
+        got = tuple(dict.fromkeys(d for k in kids for d in shared_deps(k, memo)))
+        memo[key] = got
+    return got
+
+
+def build(aig: Aig, x: BExpr, lit: dict[str, int], memo: Optional[dict[int, int]] = None) -> int:
+    """The literal of ``x``; with ``memo`` (by object identity, for one model build) a shared
+    sub-expression is built once, however many bits read it."""
     t = x[0]
     if t == "c":
         return TRUE if x[1] else FALSE
     if t == "r":
         return lit[x[1]]
     if t == "n":
-        return build(aig, x[1], lit) ^ 1
+        return build(aig, x[1], lit, memo) ^ 1
+    if memo is not None and id(x) in memo:
+        return memo[id(x)]
     if t == "m":
-        return aig.mux(build(aig, x[1], lit), build(aig, x[2], lit), build(aig, x[3], lit))
-    args = [build(aig, a, lit) for a in x[1]]
-    if t == "&":
-        return aig.and_all(args)
-    if t == "|":
-        return aig.or_all(args)
-    return aig.xor_all(args)
+        v = aig.mux(build(aig, x[1], lit, memo), build(aig, x[2], lit, memo), build(aig, x[3], lit, memo))
+    else:
+        args = [build(aig, a, lit, memo) for a in x[1]]
+        v = aig.and_all(args) if t == "&" else aig.or_all(args) if t == "|" else aig.xor_all(args)
+    if memo is not None:
+        memo[id(x)] = v
+    return v

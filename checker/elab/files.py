@@ -10,9 +10,10 @@ from pathlib import Path
 from typing import Optional
 
 from ..errors import InputError, Pos
+from ..fileio import read_limited
 from ..lang import parse as P
 from .design import Design, Namespace
-from .flatten import ClockFromInput, elaborate_design
+from .flatten import ClockFromInput, check_hierarchy, elaborate_design
 from .spec import elaborate_check
 
 MAX_USE_FILES = 1000
@@ -38,20 +39,11 @@ NETLIST_READERS = {".v": _verilog, ".blif": _blif, ".aag": _aiger, ".aig": _aige
 
 
 def read_file(path: str, pos: Optional[Pos] = None) -> P.File:
-    """Read and parse one file; a missing or unreadable file is an InputError."""
-    where = pos or Pos(path, 1, 1)
-    p = Path(path)
-    try:
-        if p.is_dir():
-            raise InputError(where, f"'{path}' is a folder, not a file")
-        data = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError(where, f"no such file '{path}'") from None
-    except PermissionError:
-        raise InputError(where, f"cannot read '{path}': permission denied") from None
-    except OSError as e:
-        raise InputError(where, f"cannot read '{path}': {e.strerror or e}") from None
-    reader = NETLIST_READERS.get(p.suffix.lower())
+    """Read and parse one file; a missing or unreadable file, or one that is not a regular
+    file (a device, a FIFO), is an InputError, and so is one over the size limit, checked
+    before reading."""
+    data = read_limited(path, P.MAX_FILE_BYTES, pos or Pos(path, 1, 1), "source file")
+    reader = NETLIST_READERS.get(Path(path).suffix.lower())
     if reader is not None:
         return reader(path, data)
     return P.parse_text(path, P.decode_source(path, data))
@@ -104,6 +96,7 @@ def load_namespace(path: str) -> Namespace:
             if old is not None:
                 raise InputError(d.pos, f"design '{d.name}' is defined twice (first at {old.pos})")
             blocks[d.name] = d
+    check_hierarchy(blocks)  # depth, instances and bits, before anything is flattened
     designs: dict[str, Design] = {}
     part_only: dict[str, InputError] = {}
     for name in blocks:

@@ -14,11 +14,15 @@ from typing import Optional
 from ..errors import InputError, Pos
 from ..lang import parse as P
 from ..model import FALSE, Model
-from .bits import (MAX_VECTOR, BExpr, bit_deps, bitwise, bnot, build, gate, kind_text, num_bits,
-                   select_bits)
+from .bits import (MAX_VECTOR, BExpr, bitwise, bnot, build, gate, kind_text, num_bits, select_bits,
+                   shared_deps)
 from .design import Design, Symbol
 
 MAX_BITS = 100_000
+MAX_PART_DEPTH = 64
+"""Deepest nesting of parts (a part of a part of ... a design)."""
+MAX_PARTS = 10_000
+"""Most part instances in one flattened design, counted before anything is flattened."""
 FLOP_PINS = {"D": ("d",), "T": ("t",), "JK": ("j", "k"), "SR": ("s", "r")}
 
 
@@ -345,10 +349,9 @@ class _Flattener:
 def _comb_order(fl: _Flattener, leaves: set[str]) -> list[str]:
     """Combinational bits in dependency order; a cycle is an error naming it."""
     deps: dict[str, list[str]] = {}
+    memo: dict = {}  # a sub-expression shared by many bits is walked once
     for b, (x, _) in fl.comb.items():
-        d: list[str] = []
-        bit_deps(x, d)
-        deps[b] = [y for y in d if y not in leaves]
+        deps[b] = [y for y in shared_deps(x, memo) if y not in leaves]
     order: list[str] = []
     state: dict[str, int] = {}  # 1 on stack, 2 done
     for root in fl.comb:
@@ -413,12 +416,13 @@ def _to_model(name: str, fl: _Flattener, inputs: list[str], outputs: list[str]) 
         lit[b] = aig.leaf(b)
         m.states.append(b)
         m.state_lits.append(lit[b])
+    memo: dict = {}  # a sub-expression shared by many bits is built once
     for b in _comb_order(fl, set(lit)):
-        lit[b] = build(aig, fl.comb[b][0], lit)
+        lit[b] = build(aig, fl.comb[b][0], lit, memo)
     index = {s: i for i, s in enumerate(m.states)}
     for b, fb in fl.flops.items():
         q = lit[b]
-        pin = {p: build(aig, x, lit) for p, (x, _) in fb.pins.items()}
+        pin = {p: build(aig, x, lit, memo) for p, (x, _) in fb.pins.items()}
         if fb.kind == "D":
             f = pin["d"]
         elif fb.kind == "T":
@@ -427,8 +431,8 @@ def _to_model(name: str, fl: _Flattener, inputs: list[str], outputs: list[str]) 
             f = aig.or_(aig.and_(pin["j"], q ^ 1), aig.and_(pin["k"] ^ 1, q))
         else:
             f = aig.or_(pin["s"], aig.and_(pin["r"] ^ 1, q))
-        clr = FALSE if fb.clear is None else build(aig, fb.clear, lit)
-        pre = FALSE if fb.preset is None else build(aig, fb.preset, lit)
+        clr = FALSE if fb.clear is None else build(aig, fb.clear, lit, memo)
+        pre = FALSE if fb.preset is None else build(aig, fb.preset, lit, memo)
         m.next_lits.append(aig.and_(clr ^ 1, aig.or_(pre, f)))
         m.async_clear.append(FALSE if fb.aclear is None else build(aig, fb.aclear, lit))
         m.async_preset.append(FALSE if fb.apreset is None else build(aig, fb.apreset, lit))
@@ -473,3 +477,75 @@ def elaborate_design(blocks: dict[str, P.DesignBlock], name: str) -> Design:
     vectors = {k: s for k, s in fl.syms.items() if s.kind != "part"}
     kinds = {b: fb.kind for b, fb in fl.flops.items()}
     return Design(name, block.pos, model, in_vec, out_vec, kinds, vectors, blocks)
+
+
+def check_hierarchy(blocks: dict[str, P.DesignBlock]) -> None:
+    """Refuse, before anything is flattened, a design whose parts nest deeper than
+    :data:`MAX_PART_DEPTH`, place more than :data:`MAX_PARTS` instances in all, or
+    declare more than :data:`MAX_BITS` bits once flattened (or a recursive part).
+
+    Sizes are counted per design from its declarations and its parts' sizes,
+    without recursion, so a tree of parts that would flatten into millions of
+    instances is refused in time proportional to the file.
+    """
+    depth: dict[str, int] = {}
+    parts: dict[str, int] = {}
+    nbits: dict[str, int] = {}
+
+    def own_bits(block: P.DesignBlock) -> int:
+        n = 0
+        pieces: dict[str, list[P.FlopDecl]] = {}
+        for st in block.stmts:
+            if isinstance(st, P.InDecl):
+                n += sum(len(_decl_bits(d, "")) for d in st.decls)
+            elif isinstance(st, (P.OutDecl, P.NodeDecl)):
+                n += len(_decl_bits(st.decl, ""))
+            elif isinstance(st, P.FlopDecl):
+                pieces.setdefault(st.decl.name, []).append(st)
+        return n + sum(len(_decl_bits(g.decl, "")) for group in pieces.values() for g in group)
+
+    def finish(block: P.DesignBlock) -> None:
+        d, n, b = 0, 0, own_bits(block)
+        for st in block.stmts:
+            if not isinstance(st, P.PartDecl) or st.design not in blocks:
+                continue  # an unknown design is reported where the part is flattened
+            sub = st.design
+            if depth[sub] + 1 > MAX_PART_DEPTH:
+                raise InputError(st.pos, f"parts nest more than {MAX_PART_DEPTH} levels deep (the limit): "
+                                         f"part {st.name} of design {block.name} places {sub}, "
+                                         f"whose parts nest {depth[sub]} deep")
+            d = max(d, depth[sub] + 1)
+            n += 1 + parts[sub]
+            if n > MAX_PARTS:
+                raise InputError(st.pos, f"design {block.name} would flatten into more than {MAX_PARTS} "
+                                         f"part instances (the limit), counting the parts of its parts")
+            b += nbits[sub]
+            if b > MAX_BITS:
+                raise InputError(st.pos, f"design {block.name} would flatten into more than {MAX_BITS} bits "
+                                         f"(the limit), counting the bits of its parts")
+        if b > MAX_BITS:
+            raise InputError(block.pos, f"design {block.name} declares more than {MAX_BITS} bits (the limit)")
+        depth[block.name], parts[block.name], nbits[block.name] = d, n, b
+
+    subs = {name: [st for st in b.stmts if isinstance(st, P.PartDecl) and st.design in blocks]
+            for name, b in blocks.items()}
+    for root in blocks:
+        if root in depth:
+            continue
+        stack: list[tuple[str, int]] = [(root, 0)]
+        on_stack, on_set = [root], {root}
+        while stack:
+            name, i = stack.pop()
+            if i < len(subs[name]):
+                stack.append((name, i + 1))
+                st = subs[name][i]
+                if st.design in on_set:
+                    chain = " -> ".join(on_stack[on_stack.index(st.design):] + [st.design])
+                    raise InputError(st.pos, f"recursive part: {chain}")
+                if st.design not in depth:
+                    stack.append((st.design, 0))
+                    on_stack.append(st.design)
+                    on_set.add(st.design)
+            else:
+                finish(blocks[name])
+                on_set.discard(on_stack.pop())

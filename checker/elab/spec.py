@@ -171,8 +171,9 @@ def _same_names(c: P.EqualStmt, a: Design, b: Design, paired: bool) -> None:
     for what, xa, xb in (("inputs", a.model.inputs, b.model.inputs),
                          ("outputs", a.model.outputs, b.model.outputs),
                          *((("flops", a.model.states, b.model.states),) if paired else ())):
-        only_a = [n for n in xa if n not in set(xb)]
-        only_b = [n for n in xb if n not in set(xa)]
+        sa, sb = set(xa), set(xb)  # once: built per name, the comparison was quadratic
+        only_a = [n for n in xa if n not in sb]
+        only_b = [n for n in xb if n not in sa]
         if only_a or only_b:
             parts = []
             for d, only in ((a, only_a), (b, only_b)):

@@ -10,6 +10,8 @@ interrupted (python-sat's CaDiCaL cannot) is still stopped: the claim is then
 from __future__ import annotations
 
 import multiprocessing as mp
+import os
+import signal
 import time
 from dataclasses import dataclass, field
 from typing import Any, Callable, Optional
@@ -56,7 +58,25 @@ class Budget:
                 pass
 
 
-def _child(conn, fn, deadline):
+def _die_with_parent() -> None:
+    """Ask Linux to kill this child when its parent dies (prctl PR_SET_PDEATHSIG); elsewhere a no-op."""
+    try:
+        import ctypes
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(1, signal.SIGKILL, 0, 0, 0)  # 1 = PR_SET_PDEATHSIG
+    except (OSError, AttributeError):
+        pass
+
+
+def _child(conn, fn, deadline, parent_pid):
+    # A terminal's Ctrl-C goes to its foreground process group. The child
+    # leaves that group, so an interrupt reaches only the parent, which kills
+    # the child: a solver is never interrupted half-way through its own
+    # bookkeeping (python-sat's interrupt handler can leave its heap corrupt).
+    os.setpgid(0, 0)
+    _die_with_parent()
+    if os.getppid() != parent_pid:  # the parent died before we asked
+        os._exit(1)
     b = Budget(deadline, {}, conn)
     try:
         res = fn(b)
@@ -67,32 +87,39 @@ def _child(conn, fn, deadline):
         conn.close()
 
 
-def run_bounded(fn: Callable[[Budget], Any], timeout: Optional[float]) -> tuple[Any, dict, bool]:
+def run_bounded(fn: Callable[[Budget], Any], timeout: Optional[float],
+                isolate: bool = False) -> tuple[Any, dict, bool]:
     """Run ``fn(budget)``; returns (result, progress, finished).
 
-    With no timeout ``fn`` runs here. With one, it runs in a forked child with
-    a cooperative deadline at the timeout and is killed shortly after it; a
-    killed run returns (None, last progress, False).
+    With no timeout and no ``isolate``, ``fn`` runs here. Otherwise it runs
+    in a forked child, with a cooperative deadline at the timeout (if any),
+    killed shortly after it; a killed run returns (None, last progress,
+    False). An interrupt (Ctrl-C, KeyboardInterrupt) in the parent kills the
+    child and is raised in the parent, whether or not there is a timeout.
     """
-    if timeout is None:
+    if timeout is None and not isolate:
         b = Budget()
         return fn(b), b.progress, True
     ctx = mp.get_context("fork")
     parent, child = ctx.Pipe(duplex=False)
     start = time.monotonic()
-    proc = ctx.Process(target=_child, args=(child, fn, start + timeout), daemon=True)
+    proc = ctx.Process(target=_child, args=(child, fn, None if timeout is None else start + timeout, os.getpid()),
+                       daemon=True)
     proc.start()
     child.close()
     progress: dict = {}
-    hard = start + timeout + min(2.0, 0.1 * timeout + 0.2)
+    hard = None if timeout is None else start + timeout + min(2.0, 0.1 * timeout + 0.2)
     try:
         while True:
-            left = hard - time.monotonic()
-            if left <= 0 or not parent.poll(left):
+            left = None if hard is None else hard - time.monotonic()
+            if left is not None and left <= 0 or not parent.poll(left):
                 break
             try:
                 kind, payload = parent.recv()
             except EOFError:
+                if hard is None:  # no deadline killed it: the child died on its own
+                    proc.join(5)
+                    raise RuntimeError(f"the worker process ended without an answer (exit code {proc.exitcode})") from None
                 break
             if kind == "progress":
                 progress = payload

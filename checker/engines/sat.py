@@ -104,17 +104,20 @@ class Sat:
     def core(self) -> list[int]:
         return list(self.solver.get_core() or [])
 
-    def write_dimacs(self, path: str, comments: Sequence[str] = ()) -> None:
-        """Write the recorded clauses as DIMACS CNF with comment lines first."""
+    def write_dimacs(self, out, comments: Sequence[str] = ()) -> None:
+        """Write the recorded clauses as DIMACS CNF with comment lines first, to a path or an open text file."""
         assert self.log is not None, "Sat(record=True) is needed to write DIMACS"
-        with open(path, "w", encoding="utf-8") as f:
-            for c in comments:
-                f.write(f"c {c}\n")
-            for v, n in sorted(self.names.items()):
-                f.write(f"c var {v} {n}\n")
-            f.write(f"p cnf {self.nvars} {len(self.log)}\n")
-            for cl in self.log:
-                f.write(" ".join(map(str, cl)) + " 0\n")
+        if isinstance(out, str):
+            with open(out, "w", encoding="utf-8") as f:
+                self.write_dimacs(f, comments)
+            return
+        for c in comments:
+            out.write(f"c {c}\n")
+        for v, n in sorted(self.names.items()):
+            out.write(f"c var {v} {n}\n")
+        out.write(f"p cnf {self.nvars} {len(self.log)}\n")
+        for cl in self.log:
+            out.write(" ".join(map(str, cl)) + " 0\n")
 
     def close(self) -> None:
         self.solver.delete()

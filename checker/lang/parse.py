@@ -26,6 +26,9 @@ RESERVED = frozenset(
 MAX_FILE_BYTES = 32 * 1024 * 1024
 MAX_NESTING = 200
 MAX_INDEX = 10**9
+MAX_LITERAL_BITS = 4096
+"""Widest number a literal may write: the widest vector it could fill (``elab.bits.MAX_VECTOR``)."""
+_MAX_DIGITS = {2: MAX_LITERAL_BITS, 16: MAX_LITERAL_BITS // 4, 10: len(str(1 << MAX_LITERAL_BITS))}
 
 
 # --- expressions ---------------------------------------------------------
@@ -278,9 +281,20 @@ class File:
 
 
 # --- the parser ----------------------------------------------------------
-def int_value(text: str) -> int:
-    """Value of a number token: ``0b..``, ``0x..`` or decimal (leading zeros allowed)."""
-    return int(text, 0) if text[:2].lower() in ("0b", "0x") else int(text, 10)
+def int_value(text: str, pos: Optional[Pos] = None) -> int:
+    """Value of a number token: ``0b..``, ``0x..`` or decimal (leading zeros allowed).
+
+    A number wider than :data:`MAX_LITERAL_BITS` is an InputError at ``pos``:
+    its digits are counted before any conversion, so a literal of a million
+    digits costs no more than reading it.
+    """
+    base = {"0b": 2, "0x": 16}.get(text[:2].lower(), 10)
+    digits = (text[2:] if base != 10 else text).lstrip("0") or "0"
+    if len(digits) > _MAX_DIGITS[base] or int(digits, base) >> MAX_LITERAL_BITS:
+        shown = text if len(text) <= 24 else f"{text[:12]}...{text[-6:]} ({len(text)} characters)"
+        raise InputError(pos or Pos("<number>", 1, 1),
+                         f"number {shown} is wider than {MAX_LITERAL_BITS} bits, the widest vector a number can fill")
+    return int(digits, base)
 
 
 def grammar_path() -> Path:
@@ -303,6 +317,72 @@ class _Dangling(Exception):
         self.comma, self.word = comma, word
 
 
+MAX_DESIGN_BITS = 100_000
+"""Most bits one design block may declare itself (the flattened-design limit, ``elab.flatten.MAX_BITS``)."""
+
+
+class _TooManyBits(Exception):
+    """A design block declared more than MAX_DESIGN_BITS bits; raised while the file is still being read."""
+
+    def __init__(self, design: Token, at: Token) -> None:
+        self.design, self.at = design, at
+
+
+class _DeclCounter:
+    """Counts the bits a design block declares (``in``, ``out``, ``node``, ``flop``) as the
+    tokens go by, so that a design over the limit is refused before the rest of the file is
+    parsed. Widths beyond the vector limit are left to the elaborator's own message."""
+
+    def __init__(self) -> None:
+        self.design: Optional[Token] = None
+        self.bits = 0
+        self.mode: Optional[str] = None  # 'in': a list of declarations; 'one': a single one
+        self.buf: list[Token] = []
+        self.depth = 0  # open '[' in the declaration
+
+    def feed(self, tok: Token) -> None:
+        t = tok.type
+        if t == "DESIGN":
+            self.design, self.bits, self.mode = tok, 0, None
+            return
+        if self.design is None:
+            return
+        if t == "END":
+            self.design, self.mode = None, None
+            return
+        if self.mode is None:
+            if t in ("IN", "OUT", "NODE", "FLOP"):
+                self.mode, self.buf, self.depth = ("in" if t == "IN" else "one"), [], 0
+            return
+        if t == "LSQB":
+            self.depth += 1
+        elif t == "RSQB":
+            self.depth -= 1
+        ends = t == "_NL" or (self.depth == 0 and (t in ("EQUAL", "COMMA") or (t == "COLON" and self.buf)))
+        if not ends:
+            if len(self.buf) < 6:
+                self.buf.append(tok)
+            return
+        self._count()
+        if t == "_NL" or self.mode == "one" or t != "COMMA":
+            self.mode = None
+        self.buf, self.depth = [], 0
+
+    def _count(self) -> None:
+        ints = [x for x in self.buf if x.type == "INT"]
+        if not self.buf:
+            return
+        width = 1
+        if len(ints) == 2 and max(len(str(i)) for i in ints) <= 12:
+            width = abs(int_value(str(ints[0])) - int_value(str(ints[1]))) + 1
+        if width > MAX_LITERAL_BITS:
+            return  # the elaborator names the vector limit at the declaration
+        self.bits += width
+        if self.bits > MAX_DESIGN_BITS:
+            assert self.design is not None
+            raise _TooManyBits(self.design, self.buf[0])
+
+
 class _Continuation:
     """Post-lexer: a line break inside an open ``( { [`` or after a trailing comma is not a break.
 
@@ -317,6 +397,7 @@ class _Continuation:
 
     def process(self, stream):
         self.open = []
+        counter = _DeclCounter()
         prev = None
         joined = None  # the comma whose line break was dropped
         for tok in stream:
@@ -332,6 +413,7 @@ class _Continuation:
                 self.open.append(tok)
             elif t in _CLOSERS and self.open:
                 self.open.pop()
+            counter.feed(tok)
             prev = tok
             yield tok
 
@@ -432,6 +514,11 @@ def parse_text(path: str, text: str) -> File:
         tree = _parser().parse(text, start="start")
     except UnexpectedInput as e:
         raise _unclosed(path, e) or _syntax_error(path, text, e) from None
+    except _TooManyBits as b:
+        name = b.design
+        raise InputError(Pos(path, b.at.line, b.at.column),
+                         f"this declaration takes the design declared at line {name.line} past "
+                         f"{MAX_DESIGN_BITS} bits of its own (the limit); the rest of the file was not read") from None
     except _Dangling as d:
         raise InputError(Pos(path, d.comma.line, d.comma.column),
                          f"the line ends with ',' so the statement goes on, but the next line starts "
@@ -514,7 +601,7 @@ class _Builder:
         return s
 
     def small_int(self, tok: Token) -> int:
-        v = int_value(str(tok))
+        v = int_value(str(tok), self.pos(tok))
         if v > MAX_INDEX:
             raise InputError(self.pos(tok), f"bit index {tok} is too large (limit {MAX_INDEX})")
         return v
@@ -624,7 +711,7 @@ class _Builder:
         for it in t.children:
             tok = it.children[0]
             if tok.type == "INT":
-                items.append((int_value(str(tok)), self.pos(tok)))
+                items.append((int_value(str(tok), self.pos(tok)), self.pos(tok)))
             else:
                 items.append((str(tok), self.pos(tok)))
         return CountStmt(items, self.pos(t))
@@ -637,7 +724,7 @@ class _Builder:
 
     def c_recover_stmt(self, t: Tree) -> RecoverStmt:
         within, when = t.children
-        n = None if within is None else int_value(str(within.children[0]))
+        n = None if within is None else int_value(str(within.children[0]), self.pos(within.children[0]))
         cond = None if when is None else self.expr(when.children[0])
         return RecoverStmt(n, cond, self.pos(t))
 
@@ -645,7 +732,7 @@ class _Builder:
         return AlwaysStmt(self.expr(t.children[0]), self.pos(t))
 
     def c_settle_stmt(self, t: Tree) -> SettleStmt:
-        return SettleStmt(int_value(str(t.children[0])), self.pos(t))
+        return SettleStmt(int_value(str(t.children[0]), self.pos(t.children[0])), self.pos(t))
 
     def c_glitch_stmt(self, t: Tree) -> GlitchStmt:
         *sigs, when = t.children
@@ -667,7 +754,7 @@ class _Builder:
         d = t.data
         if d == "num":
             tok = t.children[0]
-            return Num(int_value(str(tok)), str(tok), self.pos(tok))
+            return Num(int_value(str(tok), self.pos(tok)), str(tok), self.pos(tok))
         if d == "ref":
             *names, idx = t.children
             return Ref([self.name(n) for n in names], self.index(idx), self.pos(t))

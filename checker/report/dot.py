@@ -14,6 +14,7 @@ import shutil
 import subprocess
 from typing import Optional
 
+from ..fileio import write_output
 from ..tools.stategraph import StateGraph
 
 
@@ -73,10 +74,11 @@ def render_svg(dot_text: str, path: str, program: Optional[str] = None) -> None:
         raise RenderError("cannot write SVG: the Graphviz 'dot' program is not installed "
                           "(write the graph with --dot and render it where Graphviz is available)")
     try:
-        proc = subprocess.run([exe, "-Tsvg", "-o", path], input=dot_text.encode("utf-8"),
+        proc = subprocess.run([exe, "-Tsvg"], input=dot_text.encode("utf-8"),
                               capture_output=True, timeout=120)
     except (OSError, subprocess.TimeoutExpired) as e:
         raise RenderError(f"cannot write SVG: running {exe} failed: {e}") from None
     if proc.returncode != 0:
         msg = proc.stderr.decode("utf-8", "replace").strip().splitlines()
         raise RenderError(f"cannot write SVG: {exe} failed: {msg[0] if msg else 'exit ' + str(proc.returncode)}")
+    write_output(path, proc.stdout)  # whole or not at all

@@ -12,6 +12,7 @@ from typing import Iterable
 
 from ..claims.result import Result
 from ..errors import InputError
+from ..fileio import shown
 
 
 def claims(results: Iterable[Result]) -> dict:
@@ -29,6 +30,17 @@ def error(e: InputError) -> dict:
     return e.to_json()
 
 
+def _printable(x):
+    """``x`` with every string made valid Unicode (a non-UTF-8 file name's bytes as ``\\xNN``)."""
+    if isinstance(x, str):
+        return shown(x)
+    if isinstance(x, dict):
+        return {_printable(k): _printable(v) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return [_printable(v) for v in x]
+    return x
+
+
 def dumps(doc: dict) -> str:
-    """One JSON document as text, newline-terminated."""
-    return json.dumps(doc, indent=1) + "\n"
+    """One JSON document as text, newline-terminated; strings are always valid Unicode."""
+    return json.dumps(_printable(doc), indent=1) + "\n"

@@ -17,18 +17,20 @@ from typing import Iterable, Optional, Sequence
 from junit_xml import TestCase, TestSuite, to_xml_report_string
 
 from ..claims.result import OPEN, REFUTED, Result
+from ..fileio import shown, write_output
 
 SUITE_PREFIX = "countersign"
 
 
 def _case(r: Result) -> TestCase:
-    tc = TestCase(name=f"{r.claim} line {r.line}", classname=f"{r.file}::{r.check}",
-                  elapsed_sec=round(r.seconds, 6), file=r.file, line=r.line)
-    body = list(r.evidence)
+    f = shown(r.file)  # a file name that is not UTF-8 shows its bytes as \xNN
+    tc = TestCase(name=f"{r.claim} line {r.line}", classname=f"{f}::{r.check}",
+                  elapsed_sec=round(r.seconds, 6), file=f, line=r.line)
+    body = [shown(e) for e in r.evidence]
     if r.trace:
         body.append("trace: " + json.dumps([t.to_json() for t in r.trace]))
     if r.status == REFUTED:
-        tc.add_failure_info(message=r.summary or "refuted", output="\n".join(body), failure_type="refuted")
+        tc.add_failure_info(message=shown(r.summary or "refuted"), output="\n".join(body), failure_type="refuted")
     elif r.status == OPEN:
         if r.details.get("depth") is not None:
             body.append(f"depth reached: {r.details['depth']}")
@@ -38,26 +40,34 @@ def _case(r: Result) -> TestCase:
     return tc
 
 
-def junit_suites(results: Iterable[Result], errors: Sequence[tuple[str, str]] = ()) -> list[TestSuite]:
+def junit_suites(results: Iterable[Result], errors: Sequence[tuple[str, str]] = (),
+                 unread: Sequence[tuple[str, str]] = ()) -> list[TestSuite]:
     """Test suites (one per file, in first-seen order) for ``results``;
-    ``errors`` are (file, message) pairs for inputs that could not be checked."""
+    ``errors`` are (file, message) pairs for inputs that could not be checked,
+    ``unread`` those not read within the timeout (skipped, like an open claim)."""
     by_file: dict[str, list[TestCase]] = {}
     for r in results:
         by_file.setdefault(r.file, []).append(_case(r))
     for f, msg in errors:
+        f, msg = shown(f), shown(msg)
         tc = TestCase(name="read", classname=f"{f}::(file)", elapsed_sec=0.0, file=f)
         tc.add_error_info(message=msg, error_type="input")
         by_file.setdefault(f, []).append(tc)
-    return [TestSuite(f"{SUITE_PREFIX}:{f}", cases, file=f) for f, cases in by_file.items()]
+    for f, msg in unread:
+        f, msg = shown(f), shown(msg)
+        tc = TestCase(name="read", classname=f"{f}::(file)", elapsed_sec=0.0, file=f)
+        tc.add_skipped_info(message=f"open: {msg}")
+        by_file.setdefault(f, []).append(tc)
+    return [TestSuite(f"{SUITE_PREFIX}:{shown(f)}", cases, file=shown(f)) for f, cases in by_file.items()]
 
 
-def junit_text(results: Iterable[Result], errors: Sequence[tuple[str, str]] = ()) -> str:
+def junit_text(results: Iterable[Result], errors: Sequence[tuple[str, str]] = (),
+               unread: Sequence[tuple[str, str]] = ()) -> str:
     """The JUnit XML document as a string."""
-    return to_xml_report_string(junit_suites(results, errors), encoding="utf-8")
+    return to_xml_report_string(junit_suites(results, errors, unread), encoding="utf-8")
 
 
-def write_junit(results: Iterable[Result], path: str, errors: Optional[Sequence[tuple[str, str]]] = None) -> None:
+def write_junit(results: Iterable[Result], path: str, errors: Optional[Sequence[tuple[str, str]]] = None,
+                unread: Sequence[tuple[str, str]] = ()) -> None:
     """Write a JUnit XML report of ``results`` (one test case per claim) to ``path``."""
-    text = junit_text(list(results), errors or ())
-    with open(path, "w", encoding="utf-8") as f:
-        f.write(text)
+    write_output(path, junit_text(list(results), errors or (), unread))

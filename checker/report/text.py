@@ -65,6 +65,8 @@ def format_results(results: Sequence[Result], widths: dict[tuple[str, str], int]
 
 def map_lines(doc: dict) -> list[str]:
     """The map as a readable table (text report of the `map` command)."""
+    if doc.get("width") is None:  # the file was not read in the time given
+        return [f"check {doc['check']}: open: {doc.get('summary', 'undecided in the time given')}"]
     lines = [f"check {doc['check']}: {doc['width']}-bit code, {doc['sequence_length']} codes in the sequence, "
              f"{doc['unused_count']} unused"]
     if doc.get("status") == "open":

@@ -7,6 +7,7 @@ from typing import Sequence
 from vcd import VCDWriter
 
 from ..elab import Design
+from ..fileio import atomic_output
 from ..model.simulate import Step
 
 
@@ -14,7 +15,10 @@ def write_vcd(design: Design, steps: Sequence[Step], path: str, period_ns: int =
     """Write ``steps`` of ``design`` to ``path``: inputs, flops and outputs, one clock per period.
 
     Vectors are dumped as vectors; a part's signals sit in a scope named after
-    the part. A signal ``clk`` is added so a viewer shows the edges.
+    the part. A signal ``clk`` is added so a viewer shows the edges; when the
+    design has a signal of that name, the dump's own clock takes the first of
+    ``clk_``, ``clk__``, ... that it does not have. The file appears whole or
+    not at all.
     """
     groups: list[tuple[str, str, list[str]]] = []  # scope, name, bits msb first
     for name, sym in design.vectors.items():
@@ -24,10 +28,13 @@ def write_vcd(design: Design, steps: Sequence[Step], path: str, period_ns: int =
             continue
         scope, _, short = name.rpartition(".")
         groups.append((scope, short, sym.bits))
-    with open(path, "w", encoding="utf-8") as f, VCDWriter(f, timescale="1 ns", date="today",
-                                                           version="countersign") as w:
+    taken = {short for scope, short, _ in groups if not scope}
+    clock_name = "clk"
+    while clock_name in taken:
+        clock_name += "_"
+    with atomic_output(path) as f, VCDWriter(f, timescale="1 ns", date="today", version="countersign") as w:
         top = design.name
-        clk = w.register_var(top, "clk", "wire", size=1, init=0)
+        clk = w.register_var(top, clock_name, "wire", size=1, init=0)
         vars_ = []
         for scope, short, bits in groups:
             full = top + ("." + scope if scope else "")

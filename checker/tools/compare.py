@@ -22,9 +22,10 @@ from typing import Optional
 from ..claims import run_check
 from ..claims.common import Options
 from ..claims.result import PROVED, Result
-from ..elab import Check, Design, load_namespace
+from ..elab import Check, Design
 from ..engines.budget import Budget, run_bounded
 from ..engines.miter import PairedMiter, paired_miter
+from .loading import LoadTimeout, load_within
 
 CUBE_LIMIT = 256  # cubes enumerated per question
 ESPRESSO_LIMIT = 256  # minimise covers of at most this many cubes
@@ -189,7 +190,7 @@ def compare_designs(old: Design, new: Design, checks: list[Check], opts: Options
 
 def bounded_compare(old: Design, new: Design, checks: list[Check], opts: Options) -> dict:
     """:func:`compare_designs` under ``opts.timeout`` with a hard stop; out of time is open, never equal."""
-    res, _, finished = run_bounded(lambda b: compare_designs(old, new, checks, opts, b), opts.timeout)
+    res, _, finished = run_bounded(lambda b: compare_designs(old, new, checks, opts, b), opts.timeout, opts.isolate)
     if finished:
         return res
     return {"name": new.name, "status": f"open (ran out of time after {opts.timeout:g} s)",
@@ -241,8 +242,14 @@ def compare_files(old_path: str, new_path: str, opts: Optional[Options] = None) 
     is False only when no design or claim behaves differently (exit 0);
     ``open`` is True when a claim of NEW was left open (time ran out)."""
     opts = opts or Options()
-    old = load_namespace(old_path)
-    new = load_namespace(new_path)
+    try:
+        old = load_within(old_path, opts.timeout)
+        new = load_within(new_path, opts.timeout)
+    except LoadTimeout as e:  # open, like a comparison that runs out
+        claims = {k: [] for k in ("now_failing", "now_holding", "changed", "only_old", "only_new",
+                                  "results_old", "results_new")}
+        return {"old": old_path, "new": new_path, "designs": [], "only_old": [], "only_new": [], "claims": claims,
+                "differs": False, "reasons": [], "open": True, "unread": [{"file": e.pos.file, "message": e.message}]}
     common = [n for n in old.designs if n in new.designs]
     designs = []
     for n in common:
@@ -268,7 +275,7 @@ def format_compare(res: dict) -> str:
 
 def compare_lines(res: dict) -> list[str]:
     """A readable rendering of :func:`compare_files`' result."""
-    lines = []
+    lines = [f"{u['file']}: open: {u['message']}" for u in res.get("unread", [])]
     for d in res["designs"]:
         lines.append(f"design {d['name']}: {d['status']}")
         for k in ("inputs", "outputs", "flops"):
@@ -292,5 +299,5 @@ def compare_lines(res: dict) -> list[str]:
     for c in res["claims"]["now_holding"]:
         lines.append(f"claim {c['claim']} (check {c['check']}, line {c['line']}): {c['old']} in OLD, proved in NEW")
     n = len(res["reasons"])
-    lines.append("no design behaves differently" if not res["differs"] else f"{n} difference{'s' if n != 1 else ''}: " + "; ".join(res["reasons"]))
+    lines.append(("nothing compared" if res.get("unread") else "no design behaves differently") if not res["differs"] else f"{n} difference{'s' if n != 1 else ''}: " + "; ".join(res["reasons"]))
     return lines

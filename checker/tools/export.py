@@ -11,6 +11,7 @@ bit after the edge, ``!NAME@0`` a variable that is the complement of NAME.
 from __future__ import annotations
 
 from ..elab import Check, Claim
+from ..fileio import atomic_output, shown, write_output
 from ..model import TRUE, Aig
 from .netlists import Circuit, aiger_bytes
 from ..engines.sat import Sat, Unrolling
@@ -55,7 +56,7 @@ def _header(check: Check, claim: Claim, sat_means: str, unsat_means: str) -> lis
     code_names = [check.design.model.states[i] for i in check.code]
     return [
         f"countersign: check {check.name} of design {check.design.name}, "
-        f"{claim.kind} claim at {claim.pos.file}:{claim.pos.line}",
+        f"{claim.kind} claim at {shown(claim.pos.file)}:{claim.pos.line}",
         f"sequence: {seq.describe() if seq is not None else '-'}",
         f"code, most significant first: {' '.join(code_names)}",
         f"SAT means: {sat_means}",
@@ -110,7 +111,8 @@ def export_cnf(check: Check, claim: Claim, path: str) -> dict:
                              "proved: the property is 1 in every code of the sequence under every input")
             questions = 1
         _name_signals(check, frame)
-        sat.write_dimacs(path, header)
+        with atomic_output(path) as f:  # whole or not at all
+            sat.write_dimacs(f, header)
         return {"path": path, "check": check.name, "claim": claim.kind, "line": claim.pos.line,
                 "vars": sat.nvars, "clauses": len(sat.log or []), "questions": questions}
 
@@ -281,7 +283,7 @@ def export_aiger(check: Check, claim: Claim, path: str) -> dict:
     c.comments = head
     ext = Path(path).suffix.lower()
     data = aiger_bytes(c, binary=ext == ".aig")
-    Path(path).write_bytes(data)
+    write_output(path, data)
     prop = "a bad-state output" if c.bad else "a justice property"
     return {"path": path, "check": check.name, "claim": claim.kind, "line": claim.pos.line, "format": "aiger",
             "inputs": len(c.inputs), "latches": len(c.latches), "ands": _ands(data),

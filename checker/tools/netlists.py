@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Optional
 
 from ..elab import Design
+from ..fileio import write_output
 from ..lang import parse as P
 from ..lang.netlist import Vectors, fresh_prefix
 from ..lang.unparse import unparse_file
@@ -394,7 +395,7 @@ def write_design(design: Design, path: str) -> dict:
         data = cnl_text(design).encode("utf-8")
     else:
         raise ValueError(f"'{path}': the design formats are {', '.join(FORMATS)}")
-    Path(path).write_bytes(data)
+    write_output(path, data)
     m = design.model
     return {"path": path, "design": design.name, "format": ext[1:], "inputs": len(m.inputs),
             "flops": len(m.states), "outputs": len(m.outputs), "bytes": len(data)}
