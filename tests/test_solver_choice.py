@@ -41,27 +41,46 @@ end
 """
 
 
+class _Seen:
+    """The solver names written to a file by every process of the test (the command line runs
+    each claim in a forked child, which inherits the spy but not the parent's memory)."""
+
+    def __init__(self, path: Path) -> None:
+        self.path = path
+
+    def names(self) -> list[str]:
+        return self.path.read_text().split() if self.path.exists() else []
+
+    def __iter__(self):
+        return iter(self.names())
+
+    def __len__(self) -> int:
+        return len(self.names())
+
+
 @pytest.fixture
-def built(monkeypatch):
-    """Names of the solvers constructed while the test runs."""
-    names: list[str] = []
+def built(monkeypatch, tmp_path):
+    """Names of the solvers constructed while the test runs, in this process or its children."""
+    seen = _Seen(tmp_path / "solvers.txt")
     orig = pysat.solvers.Solver.__init__
 
     def spy(self, name="m22", *args, **kwargs):
-        names.append(name)
+        with open(seen.path, "a") as f:
+            f.write(name + "\n")
         orig(self, name, *args, **kwargs)
 
     monkeypatch.setattr(pysat.solvers.Solver, "__init__", spy)
-    return names
+    return seen
 
 
-def calls_of(monkeypatch, module, attr: str) -> list:
-    """Count the calls of ``module.attr`` (to show that a path was taken)."""
-    seen: list = []
+def calls_of(monkeypatch, module, attr: str, where: Path) -> _Seen:
+    """The calls of ``module.attr``, in this process or its children (to show that a path was taken)."""
+    seen = _Seen(where / f"calls-{attr}.txt")
     orig = getattr(module, attr)
 
     def wrapper(*args, **kwargs):
-        seen.append(args)
+        with open(seen.path, "a") as f:
+            f.write(attr + "\n")
         return orig(*args, **kwargs)
 
     monkeypatch.setattr(module, attr, wrapper)
@@ -74,10 +93,10 @@ def test_the_spy_sees_the_default(built):
 
 
 @pytest.mark.parametrize("engine", ["auto", "sat", "explicit"])
-def test_check_uses_only_the_chosen_solver(built, monkeypatch, capsys, engine):
+def test_check_uses_only_the_chosen_solver(built, monkeypatch, capsys, tmp_path, engine):
     # With no enumeration the admissible input rows come from SAT as well.
     monkeypatch.setattr(X, "ENUMERATE_LIMIT", 0)
-    rows = calls_of(monkeypatch, X, "_rows_by_sat")
+    rows = calls_of(monkeypatch, X, "_rows_by_sat", tmp_path)
     files = sorted(CASES.glob("*.cnl"))
     for f in files:
         # explicit: some checks are too wide for it, an input error (2) there
@@ -90,8 +109,8 @@ def test_check_uses_only_the_chosen_solver(built, monkeypatch, capsys, engine):
 
 def test_map_and_repair_use_only_the_chosen_solver(built, monkeypatch, capsys, tmp_path):
     monkeypatch.setattr(X, "ENUMERATE_LIMIT", 0)
-    rows = calls_of(monkeypatch, X, "_rows_by_sat")
-    exact = calls_of(monkeypatch, repair, "_exact_fvs")
+    rows = calls_of(monkeypatch, X, "_rows_by_sat", tmp_path)
+    exact = calls_of(monkeypatch, repair, "_exact_fvs", tmp_path)
     vent = tmp_path / "vent.cnl"
     vent.write_text(VENT, encoding="utf-8")
     for f, chk in [(vent, "stepper"), (CASES / "washer_jets.cnl", "jets"), (CASES / "mash_timer_fault.cnl", "rest")]:
