@@ -31,7 +31,7 @@ from .elab.spec import condition_literal, flop_indices
 from .engines.budget import run_bounded
 from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
-from .fileio import output_transaction, read_limited, shown, write_output
+from .fileio import collected, output_transaction, read_limited, shown, write_output
 from .lang.parse import parse_expr
 from .model.simulate import Step, code_value, run, state_of_code
 from .tools import compare as _compare
@@ -43,7 +43,7 @@ from .tools.stategraph import StateGraph, state_graph
 
 __all__ = [
     "__version__", "DEFAULT_SOLVER", "OPEN", "PROVED", "REFUTED", "CheckHandle", "CheckRun", "InputError",
-    "MapRun", "Options", "Pos", "Program", "Result", "SimRun", "check_files", "compare_files", "demo_path",
+    "MapRun", "Options", "Pos", "Program", "Result", "SimRun", "Unfinished", "check_files", "compare_files", "demo_path",
     "exit_status", "expand_paths", "export_claim", "export_design", "load", "map_check", "options",
     "output_transaction", "shown", "simulate", "solver_names",
 ]
@@ -423,9 +423,16 @@ def read_trace(path: str, design: Design, want_code: bool) -> tuple[list[dict], 
 
 
 def simulate(path: str, design: str, start: Optional[str] = None, code: Optional[str] = None,
-             settings: Sequence[str] = (), cycles: Optional[int] = None, trace: Optional[str] = None) -> SimRun:
+             settings: Sequence[str] = (), cycles: Optional[int] = None, trace: Optional[str] = None,
+             timeout: Optional[float] = None) -> SimRun:
     """Clock design ``design`` of ``path``: from code ``start`` with inputs held at ``settings``
-    for ``cycles`` clocks (default 16), or replaying the start and inputs of a JSON ``trace``."""
+    for ``cycles`` clocks (default 16), or replaying the start and inputs of a JSON ``trace``.
+    ``timeout`` bounds reading the file and the run."""
+    return _within(timeout, "sim", lambda: _simulate(path, design, start, code, settings, cycles, trace))
+
+
+def _simulate(path: str, design: str, start: Optional[str], code: Optional[str], settings: Sequence[str],
+              cycles: Optional[int], trace: Optional[str]) -> SimRun:
     d = load(path).find_design(design)
     model = d.model
     idx = list(range(len(model.states))) if code is None else flop_indices(d, parse_expr("--code", code))
@@ -470,11 +477,38 @@ def simulate(path: str, design: str, start: Optional[str] = None, code: Optional
 
 # --- export ---------------------------------------------------------------------
 
-def export_claim(path: str, check: str, line: int, output: str) -> dict:
-    """Write the claim of check ``check`` on line ``line`` to ``output`` (DIMACS ``.cnf``).
+class Unfinished(Exception):
+    """A command ran past its ``--timeout``: nothing it would have written was written (exit 3)."""
 
-    Satisfiable exactly when the claim is refuted. Returns the counts written.
-    """
+
+def _within(timeout: Optional[float], what: str, work):
+    """``work()`` under ``timeout`` through the hard stop; the files it writes are written here,
+    only when it finished in time."""
+    if timeout is None:
+        return work()
+
+    def child(_budget):
+        with collected() as outs:
+            value = work()
+        return value, list(outs)
+
+    value, _, finished = run_bounded(child, timeout)
+    if not finished:
+        raise Unfinished(f"{what} ran out of time after {timeout:g} s; nothing was written")
+    result, outs = value
+    for p, data in outs:
+        write_output(p, data)
+    return result
+
+
+def export_claim(path: str, check: str, line: int, output: str, timeout: Optional[float] = None) -> dict:
+    """Write the claim of check ``check`` on line ``line`` to ``output`` (DIMACS ``.cnf``, or
+    AIGER ``.aag``/``.aig``): satisfiable (reachable) exactly when the claim is refuted.
+    Returns the counts written. ``timeout`` bounds reading, building and writing."""
+    return _within(timeout, "export", lambda: _export_claim(path, check, line, output))
+
+
+def _export_claim(path: str, check: str, line: int, output: str) -> dict:
     chk = load(path).find_check(check)
     claims = [c for c in chk.claims if c.pos.line == line]
     if not claims:
@@ -492,9 +526,14 @@ def export_claim(path: str, check: str, line: int, output: str) -> dict:
         raise InputError(claims[0].pos, str(e)) from None
 
 
-def export_design(path: str, design: str, output: str) -> dict:
+def export_design(path: str, design: str, output: str, timeout: Optional[float] = None) -> dict:
     """Write design ``design`` of ``path`` (and its uses) to ``output``, in the format of
-    its extension: .aag/.aig AIGER, .blif, .v structural Verilog, .cnl. Returns what was written."""
+    its extension: .aag/.aig AIGER, .blif, .v structural Verilog, .cnl. Returns what was written.
+    ``timeout`` bounds reading, building and writing."""
+    return _within(timeout, "export", lambda: _export_design(path, design, output))
+
+
+def _export_design(path: str, design: str, output: str) -> dict:
     d = load(path).find_design(design)
     if Path(output).suffix.lower() not in DESIGN_FORMATS:
         raise _cmdline(f"a design is written as {', '.join(DESIGN_FORMATS)}: give -o a name ending in one "

@@ -69,8 +69,14 @@ def cmd_compare(args) -> int:
     return 3 if doc.get("open") else 0
 
 
+def _seconds(args) -> Optional[float]:
+    """A validated --timeout (the same bounds as check's)."""
+    return api.options(timeout=args.timeout).timeout
+
+
 def cmd_sim(args) -> int:
-    run = api.simulate(args.file, args.design, args.start, args.code, args.set or [], args.cycles, args.trace)
+    run = api.simulate(args.file, args.design, args.start, args.code, args.set or [], args.cycles, args.trace,
+                       timeout=_seconds(args))
     if args.vcd:
         api.write_vcd(run, args.vcd)
     _emit(args.json, api.json_sim(run), api.render_sim(run, args.events))
@@ -94,12 +100,12 @@ def cmd_demo(args) -> int:
 
 def cmd_export(args) -> int:
     if args.claim is None:
-        stats = api.export_design(args.file, args.name, args.output)
+        stats = api.export_design(args.file, args.name, args.output, timeout=_seconds(args))
         _emit(args.json, api.report.json.dumps(stats),
               f"wrote {args.output}: design {stats['design']}, {stats['inputs']} input bits, "
               f"{stats['flops']} flops, {stats['outputs']} output bits")
         return 0
-    stats = api.export_claim(args.file, args.name, args.claim, args.output)
+    stats = api.export_claim(args.file, args.name, args.claim, args.output, timeout=_seconds(args))
     if stats.get("format") == "aiger":
         text = (f"wrote {args.output}: {stats['latches']} latches, {stats['ands']} AND gates; "
                 f"{stats['property']} (the comments say more)")
@@ -166,6 +172,8 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--events", action="store_true",
                     help="an asynchronous design: print the firings between clocks (unit delays)")
     sp.add_argument("--json", action="store_true", help="one JSON document on stdout")
+    sp.add_argument("--timeout", type=float, default=None, metavar="S",
+                    help="seconds for the whole run, reading the file included; past it nothing is written (exit 3)")
     sp.set_defaults(func=cmd_sim)
 
     sp = sub.add_parser("demo", help="check the shipped example")
@@ -179,6 +187,8 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--claim", type=int, metavar="LINE", help="the claim's line number")
     sp.add_argument("-o", "--output", required=True, metavar="OUT", help="where to write; the extension picks the format")
     sp.add_argument("--json", action="store_true", help="one JSON document on stdout")
+    sp.add_argument("--timeout", type=float, default=None, metavar="S",
+                    help="seconds for the whole export, reading the file included; past it nothing is written (exit 3)")
     sp.set_defaults(func=cmd_export)
     return p
 
@@ -208,6 +218,11 @@ def main(argv: Optional[Sequence[str]] = None) -> int:
             return args.func(args)
     except InputError as e:
         return _report_error(e, as_json)
+    except api.Unfinished as e:  # sim or export past --timeout: open, nothing written
+        sys.stderr.write(f"{CMDLINE}:1:1: {e}\n")
+        if as_json:
+            sys.stdout.write(api.report.json.dumps({"status": "open", "message": str(e)}))
+        return 3
     except RecursionError:
         return _report_error(InputError(Pos(CMDLINE, 1, 1), "input nests too deeply to process"), as_json)
     except OSError as e:  # an output file (--vcd, --dot, --svg, --junit, -o) that cannot be written

@@ -17,6 +17,7 @@ user gave, never the temporary file.
 from __future__ import annotations
 
 import contextlib
+import io
 import errno
 import os
 import stat
@@ -26,6 +27,7 @@ from typing import IO, Iterator, Optional
 from .errors import InputError, Pos
 
 _pending: Optional[list[tuple[str, str]]] = None  # (temporary, target) renames waiting for the command's end
+_collect: Optional[list[tuple[str, str | bytes]]] = None  # outputs kept in memory (see collected)
 
 
 def shown(text: str) -> str:
@@ -116,8 +118,14 @@ def atomic_output(path: str, binary: bool = False) -> Iterator[IO]:
     A path that exists and is not a regular file (``/dev/null``, a FIFO, a
     terminal) is written directly, since renaming over it would replace it. A
     symbolic link is followed: the file it points to is replaced. Any OSError
-    names ``path``.
+    names ``path``. Inside :func:`collected` the contents are kept in memory
+    for the caller to write instead.
     """
+    if _collect is not None:
+        buf: IO = io.BytesIO() if binary else io.StringIO()
+        yield buf
+        _collect.append((path, buf.getvalue()))
+        return
     target = os.path.realpath(path)
     try:
         st = os.stat(target)
@@ -165,6 +173,19 @@ def _rename(tmp: str, target: str, path: str) -> None:
         with contextlib.suppress(OSError):
             os.unlink(tmp)
         raise _named(e, path) from None
+
+
+@contextlib.contextmanager
+def collected() -> Iterator[list[tuple[str, str | bytes]]]:
+    """Outputs written inside the block are kept as (path, contents) in the list it gives,
+    not written: work run in a child process hands them to its parent, which writes them
+    (:func:`write_output`) only when the work finished in time."""
+    global _collect
+    outer, _collect = _collect, []
+    try:
+        yield _collect
+    finally:
+        _collect = outer
 
 
 @contextlib.contextmanager

@@ -82,3 +82,26 @@ def test_multiplier_generator_multiplies(tmp_path):
 def test_timeout_values_are_checked():
     for bad in ("0", "-1", "inf", "nan", "1e10"):
         assert main(["map", "x.cnl", "c", "--timeout", bad]) == 2
+
+
+def test_sim_and_export_honour_timeout(tmp_path):
+    # a 64-bit shift-and-add multiplier takes seconds to read; with a short --timeout the command
+    # is open (exit 3) and writes nothing
+    big = tmp_path / "mul.cnl"
+    big.write_text(multiplier("mul", 64, swap=False))
+    out = tmp_path / "mul.v"
+    assert main(["export", str(big), "mul", "-o", str(out), "--timeout", "0.3"]) == 3
+    assert not out.exists() and not any(p.name.endswith(".part") for p in tmp_path.iterdir())
+    vcd = tmp_path / "run.vcd"
+    assert main(["sim", str(big), "mul", "--cycles", "2", "--vcd", str(vcd), "--timeout", "0.3"]) == 3
+    assert not vcd.exists()
+
+
+def test_sim_and_export_within_their_timeout_write_as_usual(tmp_path, capsys):
+    small = tmp_path / "mul.cnl"
+    small.write_text(multiplier("mul", 3, swap=False))
+    out = tmp_path / "mul.blif"
+    assert main(["export", str(small), "mul", "-o", str(out), "--timeout", "60"]) == 0
+    assert out.read_text().startswith(".model") or ".model mul" in out.read_text()
+    assert main(["sim", str(small), "mul", "--cycles", "1", "--set", "a=3,b=5", "--json", "--timeout", "60"]) == 0
+    assert '"trace"' in capsys.readouterr().out
