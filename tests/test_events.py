@@ -407,3 +407,14 @@ def test_recover_reads_settled_codes_of_every_order(tmp_path):
     r = run_claim(chk, chk.claims[-1], Options())
     assert r.status == REFUTED and r.details["locked"] == [[12, 13]]
     assert all(t.events is not None for t in r.trace[:-1])  # each step shows an order that settles there
+
+
+def test_map_marks_codes_where_an_asynchronous_clear_holds(tmp_path):
+    # ten = q[3] & q[1] holds in 1010, 1011, 1110 and 1111: those codes are not stable
+    from checker import api
+
+    p = tmp_path / "d.cnl"
+    p.write_text(DECADE)
+    m = api.map_check(str(p), "tens")
+    assert {e["code"] for e in m.doc["unused"] if e.get("unstable")} == {10, 11, 14, 15}
+    assert m.doc["locked"] == [[12, 13]]

@@ -76,6 +76,9 @@ def map_lines(doc: dict) -> list[str]:
         lines.extend(set_lines(doc["locked"]))
     else:
         lines.append(f"worst: {doc['worst']} clock(s)")
+    unstable = [e["code"] for e in doc.get("unused", []) if e.get("unstable")]
+    if unstable:
+        lines.append("not stable (an asynchronous clear or preset holds there): " + ", ".join(map(str, unstable)))
     if doc["unused"]:
         lines.append(f"{'code':>10}  {'steps':>7}  {'next':>10}  run")
         for e in doc["unused"]:

@@ -27,6 +27,7 @@ from ..engines.budget import Budget, OutOfBudget
 from ..engines.sat import satisfiable
 from ..engines.unused_runs import sat_search
 from ..errors import InputError
+from ..model.events import EventModel
 
 PATH_LIMIT = 64
 """Most codes in one entry's ``path`` (then ``"path_truncated": true``)."""
@@ -127,6 +128,17 @@ def _run_entry(codes: list[int], steps: Optional[int]) -> dict:
     return entry
 
 
+def _mark_unstable(check: Check, a: X.Analysis, entries: list[dict]) -> None:
+    """Flag each listed code in which an asynchronous clear or preset holds under some admissible
+    input: such a code is not stable, and moves on within the clock that starts there."""
+    models = [EventModel(check.design.model, full) for full in a.graph.rows.full]
+    w = check.width
+    for e in entries:
+        state = sum(((e["code"] >> (w - 1 - k)) & 1) << i for k, i in enumerate(check.code))
+        if any(em.holds(state) for em in models):
+            e["unstable"] = True
+
+
 def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opts: Optional[Options] = None,
                  budget: Optional[Budget] = None, analysis: Optional[X.Analysis] = None) -> MapDoc:
     """Every unused code of ``check``: worst steps to the sequence, next code and run; totals.
@@ -160,6 +172,8 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
         if cut:
             doc["locked_complete"] = False
         doc["unused"] = _entries(analysis, _order(analysis, limit))
+        if not check.design.model.synchronous:
+            _mark_unstable(check, analysis, doc["unused"])
         return doc
     s = sat_search(check.space, lit, None, budget, opts.solver)
     if s.status == "open":
