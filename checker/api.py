@@ -23,7 +23,7 @@ from typing import Iterable, Optional, Sequence
 
 from . import report
 from .about import __version__
-from .claims import run_check
+from .claims import run_check, run_claims
 from .claims.common import Options
 from .claims.result import OPEN, PROVED, REFUTED, Result
 from .elab import Check, Design, Namespace, load_namespace
@@ -53,6 +53,9 @@ MAX_TIMEOUT = 1e6
 
 MAX_CODE_BITS = 4096
 """Widest code (the widest vector)."""
+
+MAX_JOBS = 256
+"""Most claims ``check --jobs`` runs at once."""
 
 MAX_CYCLES = 1_000_000
 """Most clocks ``simulate`` runs."""
@@ -199,8 +202,9 @@ class CheckRun:
         return 3 if s == 0 and self.unread else s
 
 
-def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRun:
-    """Read every file (folders searched for .cnl files), then prove or refute every claim.
+def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int = 1) -> CheckRun:
+    """Read every file (folders searched for .cnl files), then prove or refute every claim,
+    up to ``jobs`` claims at once (verdicts and their order do not depend on it).
 
     Every file is read before any claim runs; when some cannot be read, no
     claim runs and ``errors`` names each. A run whose files hold no claim at
@@ -224,9 +228,11 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRu
     if not any(c.claims for c in checks) and not out.unread:
         where = ", ".join(paths) if paths else "the command line"
         raise InputError(Pos(files[0] if files else "<command line>", 1, 1), f"no claims in {where}")
+    if not 1 <= jobs <= MAX_JOBS:
+        raise InputError(Pos("<command line>", 1, 1), f"--jobs takes a count from 1 to {MAX_JOBS}")
     for c in checks:
         out.widths[(c.pos.file, c.name)] = c.width
-        out.results.extend(run_check(c, opts))
+    out.results.extend(run_claims([(c, cl) for c in checks for cl in c.claims], opts, jobs))
     return out
 
 

@@ -34,7 +34,7 @@ def _options(args) -> api.Options:
 
 # --- commands --------------------------------------------------------------
 def cmd_check(args) -> int:
-    run = api.check_files(args.paths, _options(args))
+    run = api.check_files(args.paths, _options(args), getattr(args, "jobs", 1))
     if args.junit:
         api.write_junit(run, args.junit)
     if getattr(args, "html", None) and not run.errors:
@@ -139,6 +139,8 @@ def build_parser() -> argparse.ArgumentParser:
     sp = sub.add_parser("check", help="every claim of every check block")
     sp.add_argument("paths", nargs="+", metavar="FILE|FOLDER")
     sp.add_argument("--junit", metavar="FILE", help="also write a JUnit XML report, one test per claim")
+    sp.add_argument("--jobs", type=int, default=os.cpu_count() or 1, metavar="N",
+                    help="claims run at once (default: the number of cores); verdicts do not depend on it")
     html_options(sp)
     common(sp)
     sp.set_defaults(func=cmd_check)

@@ -6,7 +6,10 @@
 
 from __future__ import annotations
 
+import multiprocessing as mp
 import time
+from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures.process import BrokenProcessPool
 from typing import Callable
 
 from ..elab import Check, Claim
@@ -35,6 +38,40 @@ def run_claim(check: Check, claim: Claim, opts: Options) -> Result:
             res.details.setdefault("locked", None)
     res.seconds = time.perf_counter() - t0
     return res
+
+
+_WORK: list[tuple[Check, Claim]] = []  # the claims a pool's forked workers read by index
+
+
+def _pool_claim(index: int, opts: Options) -> Result:
+    check, claim = _WORK[index]
+    return run_claim(check, claim, opts)
+
+
+def run_claims(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int = 1) -> list[Result]:
+    """Every (check, claim) of ``pairs``, up to ``jobs`` at once, results in the order given.
+
+    Workers are forked from this process, so the files are read and elaborated
+    once, here; each claim still runs under its own budget. A worker that dies
+    leaves its claim ``open`` with what happened, never a hang or a lost result.
+    """
+    if jobs <= 1 or len(pairs) <= 1:
+        return [run_claim(c, cl, opts) for c, cl in pairs]
+    global _WORK
+    _WORK = list(pairs)
+    results: list[Result] = []
+    try:
+        with ProcessPoolExecutor(max_workers=min(jobs, len(pairs)), mp_context=mp.get_context("fork")) as pool:
+            futures = [pool.submit(_pool_claim, i, opts) for i in range(len(pairs))]
+            for (check, claim), f in zip(pairs, futures):
+                try:
+                    results.append(f.result())
+                except BrokenProcessPool as e:
+                    results.append(make_result(check, claim, OPEN, f"the worker running this claim stopped: "
+                                                                   f"{e or 'killed'}", details={"depth": None}))
+    finally:
+        _WORK = []
+    return results
 
 
 def run_check(check: Check, opts: Options | None = None) -> list[Result]:
