@@ -225,14 +225,9 @@ def verilog_text(design: Design) -> str:
         return "" if hi is None else f"[{hi}:{lo}] "
 
     def bit(n: str) -> str:
-        base, i = vec.where.get(n, (n, None))
-        return _vname(base) + ("" if i is None else f"[{i}]")
+        return _bit_text(vec, n, _vname)
 
-    sig: dict[int, str] = {}
-    for n, l in c.inputs:
-        sig[l >> 1] = bit(n)
-    for n, l, _, _ in c.latches:
-        sig[l >> 1] = bit(n)
+    sig = _leaf_texts(c, bit)
 
     def expr(l: int) -> str:
         if l >> 1 == 0:
@@ -341,14 +336,9 @@ def cnl_text(design: Design) -> str:
     lit_of_state = {n: l for n, l, _, _ in c.latches}
 
     def bit(n: str) -> str:
-        base, i = vec.where.get(n, (n, None))
-        return cname(base) + ("" if i is None else f"[{i}]")
+        return _bit_text(vec, n, cname)
 
-    sig: dict[int, str] = {}
-    for n, l in c.inputs:
-        sig[l >> 1] = bit(n)
-    for n, l, _, _ in c.latches:
-        sig[l >> 1] = bit(n)
+    sig = _leaf_texts(c, bit)
 
     def expr(l: int) -> str:
         if l >> 1 == 0:
@@ -379,6 +369,22 @@ def cnl_text(design: Design) -> str:
         lines.append(f"  out {cname(b)}{'' if hi is None else f'[{hi}:{lo}]'} = {rhs}")
     lines.append("end")
     return "\n".join(lines) + "\n"
+
+
+def _bit_text(vec, n: str, name) -> str:
+    """A netlist bit as written: ``name(base)`` with its index where it belongs to a vector."""
+    base, i = vec.where.get(n, (n, None))
+    return name(base) + ("" if i is None else f"[{i}]")
+
+
+def _leaf_texts(c, bit) -> dict[int, str]:
+    """The written name of every input and latch node of circuit ``c``."""
+    sig: dict[int, str] = {}
+    for n, l in c.inputs:
+        sig[l >> 1] = bit(n)
+    for n, l, _, _ in c.latches:
+        sig[l >> 1] = bit(n)
+    return sig
 
 
 def write_design(design: Design, path: str) -> dict:
