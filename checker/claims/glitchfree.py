@@ -30,7 +30,7 @@ from ..engines.sat import Encoder, Sat, Unrolling
 from ..model.events import EventModel, Firing
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, warning_lines)
-from .common import Options, ReplayError, inputs_text, make_result
+from .common import Options, ReplayError, inputs_text, make_result, replay
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 
@@ -143,6 +143,7 @@ def _refute(check: Check, claim: Claim, em: EventModel, start: int, inputs: dict
     code = code_of(check, start)
     entry = TraceEntry(0, code, dict(inputs), events=events_json(check, firings))
     trace = [entry, TraceEntry(1, code_of(check, codes[-1]))]
+    replay(check.design, check, trace)  # the order again, and the syntax tree at every firing
     warns = warning_lines(firings)
     lines = [f"from code {code} under {inputs_text(check, inputs)}, {name} goes "
              + " -> ".join(map(str, vals)) + " along this order:"]
