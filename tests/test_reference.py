@@ -651,3 +651,15 @@ def test_replay_catches_a_wrong_clock_in_the_graph():
     with pytest.raises(ReplayError, match=r"flop q\[3\] is clocked by rise of q\[2\] in the graph, by fall of "
                                           r"q\[2\] from the syntax tree"):
         replay(check.design, check, _async_trace(check, 3, {"en": 1}))
+
+
+def test_a_wrong_output_literal_of_a_ripple_is_caught_along_a_glitch():
+    ns = load_namespace(str(ROOT / "cases" / "bottle_ripple.cnl"))
+    check = next(c for c in ns.checks if c.name == "tray")
+    claim = next(c for c in check.claims if c.kind == "glitchfree" and dict(c.signals).keys() == {"empty"})
+    m = check.design.model
+    lit = m.output_lits[m.outputs.index("empty")]
+    claim.signals = [("empty", lit ^ 1)]  # the graph's `empty` inverted: it still glitches
+    from checker.claims import run_claim
+    with pytest.raises(ReplayError, match=r"empty is \d in the graph, \d from the syntax tree"):
+        run_claim(check, claim, Options())
