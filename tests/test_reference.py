@@ -453,3 +453,213 @@ def test_constants_in_single_bit_positions_equal_a_tied_high_input(write, one):
         # `clear ONE` on the vector r clears every bit, `preset ONE` sets every bit of w
         assert [nxt[f"r[{i}]"] for i in range(3)] == [0, 0, 0]
         assert [nxt[f"w[{i}]"] for i in range(3)] == [1, 1, 1]
+
+
+# --- (5) asynchronous designs: sample() and clock_sources() against the graph --
+# The contract (v2, "Clocks"): a clock is a flop bit, or a node, output or part
+# input that is a plain copy of one; bit i of a vector flop's clock clocks bit i;
+# `clear async` / `preset async` are level-sensitive. "The event model of an
+# asynchronous design": at an edge of its clock a flop loads what its pins and
+# synchronous clear/preset say, which is what EventModel.eval reads from the graph.
+from checker.claims.clocking import code_of, events_json, state_of  # noqa: E402
+from checker.errors import InputError  # noqa: E402
+from checker.model.events import EventModel, unit_delay  # noqa: E402
+
+
+@st.composite
+def _async_designs(draw):
+    """Text of a random asynchronous design ``ripple`` with a clocked part ``cell`` (part only)."""
+    ints = st.integers
+    cell_kind = draw(st.sampled_from(sorted(KINDS)))
+    cg = _Gen(draw, [("x", None, None), ("tick", None, None), ("c", None, None), ("y", None, None)])
+    cell_pins = ", ".join(f"{p} = {cg.bit(1)}" for p in KINDS[cell_kind])
+    cell_clock = draw(st.sampled_from(["tick", "tk"]))  # directly, or through a node that copies it
+    extra = ""
+    if draw(st.booleans()):
+        extra += f" clear {'async ' if draw(st.booleans()) else ''}{cg.bit(1)}"
+    if draw(st.booleans()):
+        extra += f" preset {'async ' if draw(st.booleans()) else ''}{cg.bit(1)}"
+    # `out c = c` makes the flop the output; `out y` is a plain copy of the flop
+    cell = ("design cell\n  in tick, x\n  node tk = tick\n"
+            f"  flop c : {cell_kind} ({cell_pins}) clock {draw(st.sampled_from(['rise', 'fall']))} {cell_clock}{extra}\n"
+            "  out c = c\n  out y = c\nend\n")
+    ins = [("i0", None, None), ("i1", None, None)]
+    flops = [("f0", None if draw(st.booleans()) else draw(ints(1, 2)))]
+    for k in range(1, draw(ints(2, 4))):
+        flops.append((f"f{k}", None if draw(st.booleans()) else draw(ints(1, 2))))
+    bits = []  # every flop bit, as text
+    for nm, msb in flops:
+        bits += [nm] if msb is None else [f"{nm}[{i}]" for i in range(msb + 1)]
+    copies = [(f"k{j}", draw(st.sampled_from(bits))) for j in range(draw(ints(0, 2)))]
+    n_parts = draw(ints(0, 2))
+    stmts = [f"node {c} = {b}" for c, b in copies]
+    clockable = bits + [c for c, _ in copies]
+    leaves = ins + [(nm, msb, None if msb is None else 0) for nm, msb in flops] + [(c, None, None) for c, _ in copies]
+    part_outs = []
+    for p in range(n_parts):
+        g = _Gen(draw, leaves)
+        tick = draw(st.sampled_from(clockable + [f"u{q}.{o}" for q in range(p) for o in ("c", "y")]))
+        stmts.append(f"part u{p} : cell (tick = {tick}, x = {g.bit(1)})")
+        part_outs += [(f"u{p}.c", None, None), (f"u{p}.y", None, None)]
+    clockable += [o for o, _, _ in part_outs]
+    g = _Gen(draw, leaves + part_outs)
+    for k, (nm, msb) in enumerate(flops):
+        kind = draw(st.sampled_from(sorted(KINDS)))
+        w = 1 if msb is None else msb + 1
+        pins = ", ".join(f"{p} = {g.vec(w, 2)}" for p in KINDS[kind])
+        extra = ""
+        if k and draw(ints(0, 3)):
+            src = [draw(st.sampled_from(clockable)) for _ in range(w)]
+            sig = src[0] if w == 1 else "{" + ", ".join(src) + "}"
+            extra += f" clock {draw(st.sampled_from(['rise', 'fall']))} {sig}"
+        for what in ("clear", "preset"):
+            r = draw(ints(0, 3))
+            if r == 1:
+                extra += f" {what} {g.bit(1)}"
+            elif r >= 2:  # a decode of flop bits, or any bit
+                dec = f"and({', '.join(draw(st.lists(st.sampled_from(bits), min_size=2, max_size=3)))})"
+                extra += f" {what} async {dec if r == 2 else g.bit(1)}"
+        stmts.append(f"flop {nm if msb is None else f'{nm}[{msb}:0]'} : {kind} ({pins}){extra}")
+    stmts.append(f"out o = {g.bit(2)}")
+    body = ["in i0, i1"] + draw(st.permutations(stmts))
+    top = "design ripple\n" + "".join(f"  {s}\n" for s in body) + "end\n"
+    return cell + top
+
+
+def _graph_clocks(m):
+    return {n: None if c is None else (c[0], m.states[c[1]]) for n, c in zip(m.states, m.clocks or [None] * len(m.states))}
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
+@given(text=_async_designs(), seed=st.integers(0, 2 ** 32 - 1))
+def test_random_asynchronous_designs_sample_equals_graph(tmp_path_factory, text, seed):
+    path = tmp_path_factory.mktemp("aref") / "a.cnl"
+    path.write_text(text, encoding="utf-8")
+    design = load_namespace(str(path)).designs["ripple"]
+    m = design.model
+    ref = Reference(design.source, "ripple")
+    assert ref.states == m.states and ref.inputs == m.inputs and ref.outputs == m.outputs
+    assert ref.synchronous == m.synchronous
+    assert ref.clock_sources() == _graph_clocks(m), text
+    rng = random.Random(seed)
+    for _ in range(16):
+        inputs = {i: rng.randint(0, 1) for i in m.inputs}
+        em = EventModel(m, inputs)
+        code = rng.randrange(1 << len(m.states))
+        nxt, clr, pre = em.eval(code)
+        r_nxt, r_clr, r_pre = ref.sample({s: (code >> i) & 1 for i, s in enumerate(m.states)}, inputs)
+        assert [r_nxt[s] for s in m.states] == list(nxt), (text, code, inputs)
+        assert [r_clr[s] for s in m.states] == list(clr), (text, code, inputs)
+        assert [r_pre[s] for s in m.states] == list(pre), (text, code, inputs)
+        if m.synchronous:
+            assert ref.step({s: (code >> i) & 1 for i, s in enumerate(m.states)}, inputs)[0] == r_nxt
+
+
+PLAIN = """\
+design cell
+  in tick
+  node tk = tick
+  flop c : T (t = 1) clock fall tk
+  out c = c
+end
+design plain
+  in en, z
+  flop a[1:0] : JK (j = {en, 1}, k = 0b01) clear z preset async a[0] & z
+  flop b[1:0] : D (d = !b) clock rise {a[0], u1.c} clear async and(a[1], b[0])
+  node cp = b[1]
+  part u1 : cell (tick = cp)
+  out w = u1.c
+end
+"""
+
+
+def test_sample_and_clock_sources_of_a_hand_design():
+    ref = _reference(PLAIN, "plain")
+    assert not ref.synchronous
+    assert ref.clock_sources() == {"a[1]": None, "a[0]": None, "b[1]": ("rise", "a[0]"),
+                                   "b[0]": ("rise", "u1.c"), "u1.c": ("fall", "b[1]")}
+    state = {"a[1]": 1, "a[0]": 1, "b[1]": 0, "b[0]": 1, "u1.c": 0}
+    nxt, clr, pre = ref.sample(state, {"en": 0, "z": 0})
+    # a: j = {0, 1}, k = {0, 1}: a[1] holds 1, a[0] resets; b loads !b; u1.c toggles
+    assert nxt == {"a[1]": 1, "a[0]": 0, "b[1]": 1, "b[0]": 0, "u1.c": 1}
+    assert clr == {"a[1]": 0, "a[0]": 0, "b[1]": 1, "b[0]": 1, "u1.c": 0}  # a[1] & b[0]
+    assert pre == {"a[1]": 0, "a[0]": 0, "b[1]": 0, "b[0]": 0, "u1.c": 0}
+    nxt, clr, pre = ref.sample(state, {"en": 1, "z": 1})
+    assert nxt["a[1]"] == 0 and nxt["a[0]"] == 0  # the synchronous clear is in what a loads
+    assert pre["a[1]"] == 1 and pre["a[0]"] == 1  # the asynchronous preset a[0] & z
+    with pytest.raises(NotImplementedError, match="asynchronous"):
+        ref.step(state, {"en": 0, "z": 0})
+
+
+@pytest.mark.parametrize("clock, why", [("!p", "gate"), ("p & 1", "gate"), ("0", "gate"), ("x", "input x"),
+                                        ("n", "input x")])
+def test_a_clock_that_is_no_plain_copy_of_a_flop_bit_is_refused(clock, why):
+    ref = _reference(f"design a\n  in x\n  node n = x\n  flop p : T (t = x)\n  flop q : T (t = 1) clock fall {clock}\nend\n", "a")
+    with pytest.raises(InputError, match=why):
+        ref.clock_sources()
+
+
+# --- (6) a wrong literal of an asynchronous graph is caught by replay ----------
+def _dock():
+    ns = load_namespace(str(ROOT / "cases" / "dock_decade_fault.cnl"))
+    return next(c for c in ns.checks if c.name == "turns")
+
+
+def _async_trace(check, code, inputs):
+    """One clock that the (possibly broken) model itself runs: the unit-delay order from ``code``."""
+    em = EventModel(check.design.model, inputs)
+    settled, times, done = unit_delay(em, state_of(check, code))
+    assert done
+    firings = [f for t in times for f in t]
+    return [TraceEntry(0, code, dict(inputs), events=events_json(check, firings)),
+            TraceEntry(1, code_of(check, settled))]
+
+
+def test_the_unbroken_decade_replays_through_the_reference():
+    check = _dock()
+    for code in range(16):
+        for en in (0, 1):
+            replay(check.design, check, _async_trace(check, code, {"en": en}))
+    assert reference_of(check.design) is not None
+
+
+def test_replay_catches_a_dropped_async_clear_in_the_graph():
+    check = _dock()
+    m = check.design.model
+    m.async_clear[m.states.index("q[1]")] = 0  # FALSE: q[1] no longer clears on ten
+    # 9 -> 10: q[0] falls, q[1] rises to 1010 where ten holds; the broken graph clears only q[3]
+    trace = _async_trace(check, 9, {"en": 1})
+    with pytest.raises(ReplayError, match=r"clock 0, before firing 2 .*code 10: asynchronous clear of q\[1\] "
+                                          r"is 0 in the graph, 1 from the syntax tree"):
+        replay(check.design, check, trace)
+
+
+def test_replay_catches_a_negated_next_literal_of_a_rippled_stage():
+    check = _dock()
+    m = check.design.model
+    m.next_lits[m.states.index("q[2]")] ^= 1  # q[2] holds instead of toggling at its clock
+    trace = _async_trace(check, 3, {"en": 1})
+    with pytest.raises(ReplayError, match=r"clock 0, before firing 0 .*sampled next value of q\[2\] is 0 in the "
+                                          r"graph, 1 from the syntax tree"):
+        replay(check.design, check, trace)
+
+
+def test_replay_catches_a_wrong_clock_in_the_graph():
+    check = _dock()
+    m = check.design.model
+    m.clocks[m.states.index("q[3]")] = ("rise", m.states.index("q[2]"))
+    with pytest.raises(ReplayError, match=r"flop q\[3\] is clocked by rise of q\[2\] in the graph, by fall of "
+                                          r"q\[2\] from the syntax tree"):
+        replay(check.design, check, _async_trace(check, 3, {"en": 1}))
+
+
+def test_a_wrong_output_literal_of_a_ripple_is_caught_along_a_glitch():
+    ns = load_namespace(str(ROOT / "cases" / "bottle_ripple.cnl"))
+    check = next(c for c in ns.checks if c.name == "tray")
+    claim = next(c for c in check.claims if c.kind == "glitchfree" and dict(c.signals).keys() == {"empty"})
+    m = check.design.model
+    lit = m.output_lits[m.outputs.index("empty")]
+    claim.signals = [("empty", lit ^ 1)]  # the graph's `empty` inverted: it still glitches
+    from checker.claims import run_claim
+    with pytest.raises(ReplayError, match=r"empty is \d in the graph, \d from the syntax tree"):
+        run_claim(check, claim, Options())

@@ -12,6 +12,7 @@ from ..engines.sat import DEFAULT_SOLVER
 from ..model.events import EventModel
 from ..model.simulate import code_value, state_of_code
 from .result import Result, TraceEntry
+from ..errors import InputError
 
 
 @dataclass
@@ -95,8 +96,9 @@ def stepping(check: Check) -> int:
 def reference_of(design: Design) -> Optional[Reference]:
     """The syntax-tree evaluator of ``design``, built once per design.
 
-    None when the design has no syntax blocks (it was not read from .cnl text)
-    or uses what the reference does not evaluate (``clock``, ``async``).
+    None when the design has no syntax blocks (it was not read from .cnl text).
+    Asynchronous designs get one too: replay compares its :meth:`Reference.sample`
+    and clock sources with the graph at every firing.
     """
     cache = design.__dict__
     if "_reference" not in cache:
@@ -128,6 +130,9 @@ def replay_events(design: Design, idx: Sequence[int], trace: Sequence[TraceEntry
     model = design.model
     index = {n: i for i, n in enumerate(model.states)}
     w = len(idx)
+    ref = reference_of(design)
+    if ref is not None:
+        _compare_clocks(design, ref)
 
     def to_state(c: int) -> int:
         return sum(((c >> (w - 1 - k)) & 1) << i for k, i in enumerate(idx))
@@ -144,7 +149,14 @@ def replay_events(design: Design, idx: Sequence[int], trace: Sequence[TraceEntry
         em = EventModel(model, {i: given.get(i, 0) & 1 for i in model.inputs})
         state = em.edge(to_state(entry.code))
         seen = {state.key()}
-        for e in entry.events:
+        checked: set[int] = set()
+        for j, e in enumerate(entry.events):
+            if ref is not None and state.code not in checked:
+                checked.add(state.code)
+                diff = _sample_difference(model, ref, em, state.code)
+                if diff is not None:
+                    raise ReplayError(f"{design.name} disagrees with its own source at clock {k}, before firing "
+                                      f"{j} ({e['flop']} -> {e['value']}), code {to_code(state.code)}: {diff}")
             f = index[e["flop"]]
             if not any(c.flop == f and c.value == e["value"] for c in state.pending):
                 raise ReplayError(f"clock {k}: {e['flop']} -> {e['value']} is not pending at its turn")
@@ -155,6 +167,11 @@ def replay_events(design: Design, idx: Sequence[int], trace: Sequence[TraceEntry
             if state.key() in seen and state.pending:
                 break
             seen.add(state.key())
+        if ref is not None and state.code not in checked:
+            diff = _sample_difference(model, ref, em, state.code)
+            if diff is not None:
+                raise ReplayError(f"{design.name} disagrees with its own source at clock {k}, after its last "
+                                  f"firing, code {to_code(state.code)}: {diff}")
         if k + 1 < len(trace):
             if state.pending:
                 raise ReplayError(f"clock {k}: the recorded order leaves changes pending")
@@ -164,6 +181,38 @@ def replay_events(design: Design, idx: Sequence[int], trace: Sequence[TraceEntry
         elif not state.pending:
             raise ReplayError(f"clock {k}: the last recorded order settles, so it does not show a cascade "
                               f"that never settles")
+
+
+def _compare_clocks(design: Design, ref: Reference) -> None:
+    """Every flop's clock in the graph (``Model.clocks``) against the syntax tree's."""
+    model = design.model
+    if ref.states != model.states or ref.inputs != model.inputs:
+        raise ReplayError(f"{design.name}: the graph and the syntax tree name different flop or input bits")
+    try:
+        sources = ref.clock_sources()
+    except InputError as e:
+        raise ReplayError(f"{design.name}: the graph accepted a clock that the syntax tree refuses: {e}") from None
+    clocks = model.clocks or [None] * len(model.states)
+    for name, c in zip(model.states, clocks):
+        graph = None if c is None else (c[0], model.states[c[1]])
+        if graph != sources[name]:
+            say = lambda x: "the system clock" if x is None else f"{x[0]} of {x[1]}"  # noqa: E731
+            raise ReplayError(f"{design.name} disagrees with its own source: flop {name} is clocked by "
+                              f"{say(graph)} in the graph, by {say(sources[name])} from the syntax tree")
+
+
+def _sample_difference(model, ref: Reference, em: EventModel, code: int) -> Optional[str]:
+    """The first flop whose sampled next value, asynchronous clear or preset at ``code`` (state
+    indices) differs between the graph's event model and the syntax tree; None if none does."""
+    nxt, clr, pre = em.eval(code)
+    state = {n: (code >> i) & 1 for i, n in enumerate(model.states)}
+    r_nxt, r_clr, r_pre = ref.sample(state, em.inputs)
+    for what, graph, tree in (("sampled next value", nxt, r_nxt), ("asynchronous clear", clr, r_clr),
+                              ("asynchronous preset", pre, r_pre)):
+        for i, n in enumerate(model.states):
+            if graph[i] != tree[n]:
+                return f"{what} of {n} is {graph[i]} in the graph, {tree[n]} from the syntax tree"
+    return None
 
 
 def replay(design: Design, check: Check, trace: Sequence[TraceEntry], code: Optional[Sequence[int]] = None) -> None:

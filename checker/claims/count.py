@@ -301,6 +301,7 @@ def _prove_settled(check: Check, claim: Claim, budget: Budget) -> Result:
                 summary = f"code {code} can settle in {actual}, the rules say {expected}"
                 details = {"engine": "explicit", "expected": expected, "actual": actual,
                            "settled": sorted(code_of(check, s) for s in out.settled), "warnings": warns}
+            replay(check.design, check, trace)  # the order again, and the syntax tree at every firing
             lines = [summary + "; the order of firings:"] + order_lines(check, root.code, order) + warns
             return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=lines)
     except (CascadeLimit, OutOfBudget) as e:

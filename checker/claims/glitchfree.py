@@ -30,7 +30,7 @@ from ..engines.sat import Encoder, Sat, Unrolling
 from ..model.events import EventModel, Firing
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, warning_lines)
-from .common import Options, ReplayError, inputs_text, make_result
+from .common import Options, ReplayError, inputs_text, make_result, reference_of, replay
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 
@@ -140,9 +140,18 @@ def _refute(check: Check, claim: Claim, em: EventModel, start: int, inputs: dict
     changes = sum(1 for a, b in zip(vals, vals[1:]) if a != b)
     if changes < 2:
         raise ReplayError(f"replay: {name} changes {changes} time(s) along the order, not a glitch")
+    ref = reference_of(check.design)
+    if ref is not None:  # the signal's values along the order, from the syntax tree
+        states = check.design.model.states
+        for j, c in enumerate(codes):
+            v = ref.values({n: (c >> i) & 1 for i, n in enumerate(states)}, inputs).get(name)
+            if v is not None and v != vals[j]:
+                raise ReplayError(f"{check.design.name} disagrees with its own source: {name} is {vals[j]} in the "
+                                  f"graph, {v} from the syntax tree, at code {code_of(check, c)} of the order")
     code = code_of(check, start)
     entry = TraceEntry(0, code, dict(inputs), events=events_json(check, firings))
     trace = [entry, TraceEntry(1, code_of(check, codes[-1]))]
+    replay(check.design, check, trace)  # the order again, and the syntax tree at every firing
     warns = warning_lines(firings)
     lines = [f"from code {code} under {inputs_text(check, inputs)}, {name} goes "
              + " -> ".join(map(str, vals)) + " along this order:"]

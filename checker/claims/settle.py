@@ -78,6 +78,7 @@ def _refute(check: Check, claim: Claim, em: EventModel, start: int, inputs: dict
     depth = max((f.depth for f in order), default=0)
     entry = TraceEntry(0, code, dict(inputs), events=events_json(check, order))
     trace = [entry] if never else [entry, TraceEntry(1, code_of(check, order[-1].code))]
+    replay(check.design, check, trace)  # the order again, and the syntax tree at every firing
     warns = warning_lines(order)
     if never:
         summary = f"from code {code} an order of firings never settles"

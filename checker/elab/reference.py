@@ -13,8 +13,13 @@ equations. It trusts that the design passed elaboration (widths agree, names
 exist, no combinational loop), but it never loops: combinational bits are put
 in dependency order once, and a loop is reported instead of followed.
 
-Synchronous designs only; a design with ``clock`` or ``async`` raises
-NotImplementedError (the elaborator does not accept those yet either).
+Asynchronous designs (``clock rise|fall BIT``, ``clear async``, ``preset
+async``) are read too, but one clock of theirs is a cascade of events that
+this module does not run: :meth:`Reference.sample` gives what the event model
+needs at one code (each flop's sampled next value, its asynchronous clear and
+preset) and :meth:`Reference.clock_sources` each flop's clock, and replay
+(``claims.common.replay_events``) compares both with the graph at every firing.
+:meth:`Reference.step` is for synchronous designs only.
 """
 
 from __future__ import annotations
@@ -106,6 +111,9 @@ class _Flop:
     k: int
     clear: Optional[P.Expr]
     preset: Optional[P.Expr]
+    clock: Optional[P.Clock] = None  # None: the system clock
+    aclear: Optional[P.Expr] = None  # `clear async`
+    apreset: Optional[P.Expr] = None  # `preset async`
 
 
 class Reference:
@@ -130,6 +138,7 @@ class Reference:
             elif isinstance(s, P.OutDecl):
                 self.outputs += _bit_names("", s.decl.name, s.decl.msb, s.decl.lsb)
         self.states = [f.name for f in self._flops]
+        self.synchronous = all(f.clock is None and f.aclear is None and f.apreset is None for f in self._flops)
         self._order = self._comb_order()
 
     # --- flattening ---------------------------------------------------
@@ -150,8 +159,6 @@ class Reference:
                     continue  # the flop of that name is the output
                 sc.syms[d.name] = _Sym("out" if isinstance(s, P.OutDecl) else "node", d.name, d.msb, d.lsb, prefix)
             elif isinstance(s, P.FlopDecl):
-                if s.clock is not None or s.clear_async or s.preset_async:
-                    raise NotImplementedError("the reference evaluates synchronous designs only")
                 d = s.decl
                 if d.msb is None:
                     sc.syms[d.name] = _Sym("flop", d.name, None, None, prefix)
@@ -169,8 +176,12 @@ class Reference:
             elif isinstance(s, P.FlopDecl):
                 bits = _bit_names(prefix, s.decl.name, s.decl.msb, s.decl.lsb)
                 pins = {p.name: p.expr for p in (s.pins or [])}
+                sync_clear = None if s.clear_async else s.clear
+                sync_preset = None if s.preset_async else s.preset
                 for k, b in enumerate(bits):
-                    self._flops.append(_Flop(b, s.kind, sc, pins, len(bits), k, s.clear, s.preset))
+                    self._flops.append(_Flop(b, s.kind, sc, pins, len(bits), k, sync_clear, sync_preset, s.clock,
+                                             s.clear if s.clear_async else None,
+                                             s.preset if s.preset_async else None))
             elif isinstance(s, P.PartDecl):
                 sub = self.blocks[s.design]
                 pre = f"{prefix}{s.name}."
@@ -325,9 +336,9 @@ class Reference:
             val[b] = self._bit(c.expr, c.scope, c.want, c.k, read)
         return val
 
-    def step(self, state: dict[str, int], inputs: dict[str, int]) -> tuple[dict[str, int], dict[str, int], list[str]]:
-        """(next state, outputs before the edge, SR bits with s = r = 1 while clear = preset = 0)."""
-        val = self.values(state, inputs)
+    def _loads(self, val: dict[str, int]) -> tuple[dict[str, int], list[str]]:
+        """What every flop loads at its own clock edge (pins, then synchronous clear and
+        preset, clear winning) in the named bits ``val``; and its SR faults."""
         read = val.__getitem__
         nxt: dict[str, int] = {}
         faults: list[str] = []
@@ -344,8 +355,80 @@ class Reference:
                 nxt[f.name] = _NEXT[f.kind](pins, q)
                 if f.kind == "SR" and pins["s"] and pins["r"]:
                     faults.append(f.name)
+        return nxt, faults
+
+    def step(self, state: dict[str, int], inputs: dict[str, int]) -> tuple[dict[str, int], dict[str, int], list[str]]:
+        """(next state, outputs before the edge, SR bits with s = r = 1 while clear = preset = 0).
+
+        Synchronous designs only: in an asynchronous one a clock is a cascade of
+        events, and :meth:`sample` gives what each event reads instead."""
+        if not self.synchronous:
+            raise NotImplementedError(f"{self.top} is asynchronous: one clock is a cascade of events, not one "
+                                      f"step; use sample() at each code of the cascade")
+        val = self.values(state, inputs)
+        nxt, faults = self._loads(val)
         outs = {n: val[n] for n in self.outputs}
         return nxt, outs, faults
+
+    # --- asynchronous designs -----------------------------------------
+    def sample(self, state: dict[str, int], inputs: dict[str, int]) -> tuple[dict[str, int], dict[str, int], dict[str, int]]:
+        """At the code ``state`` under ``inputs``: (what each flop would load at an edge of its
+        clock, from its pins and synchronous clear/preset only; whether its asynchronous clear
+        holds; whether its asynchronous preset holds), each keyed by flop bit name. A flop
+        without ``clear async`` (``preset async``) has 0 there."""
+        val = self.values(state, inputs)
+        read = val.__getitem__
+        nxt, _ = self._loads(val)
+        aclear = {f.name: 0 if f.aclear is None else self._bit(f.aclear, f.scope, 1, 0, read) for f in self._flops}
+        apreset = {f.name: 0 if f.apreset is None else self._bit(f.apreset, f.scope, 1, 0, read) for f in self._flops}
+        return nxt, aclear, apreset
+
+    def clock_sources(self) -> dict[str, Optional[tuple[str, str]]]:
+        """Each flop bit's clock: None for the system clock, else (edge, flop bit) with edge
+        'rise' or 'fall'. A clock is a flop bit or a plain copy of one through nodes, outputs
+        or part inputs (a brace list only selects bits); bit ``i`` of a vector flop's clock
+        clocks its bit ``i``. A clock through a gate or a constant, or one that traces to an
+        input of the top design, is an InputError."""
+        out: dict[str, Optional[tuple[str, str]]] = {}
+        flops = set(self.states)
+        for f in self._flops:
+            if f.clock is None:
+                out[f.name] = None
+                continue
+            e: P.Expr = f.clock.signal
+            sc, want, k = f.scope, f.want, f.k
+            seen: set[str] = set()
+            while True:
+                name = self._copied_bit(e, sc, want, k)
+                if name is None:
+                    raise InputError(f.clock.pos, f"the clock of flop {f.name} passes through a gate or a constant; "
+                                                  f"a clock is a flop bit or a plain copy of one")
+                if name in flops:
+                    out[f.name] = (f.clock.edge, name)
+                    break
+                c = self._comb.get(name)
+                if c is None:
+                    raise InputError(f.clock.pos, f"the clock of flop {f.name} traces to input {name} of the "
+                                                  f"top design, not to a flop bit")
+                if name in seen:  # pragma: no cover - a loop is refused when the order is built
+                    raise InputError(f.clock.pos, f"the clock of flop {f.name} runs in a loop")
+                seen.add(name)
+                e, sc, want, k = c.expr, c.scope, c.want, c.k
+        return out
+
+    def _copied_bit(self, e: P.Expr, sc: _Scope, want: Optional[int], k: int) -> Optional[str]:
+        """The named bit that bit ``k`` of ``e`` copies unchanged, or None when a gate or a
+        constant makes it (a name reads its bits; a brace list picks one of its items' bits)."""
+        while True:
+            if isinstance(e, P.Ref):
+                names = self._resolve(e, sc)
+                return names[k] if len(names) > 1 else names[0]
+            if isinstance(e, P.Cat):
+                offs = self._cat_offsets(e, sc)
+                i = bisect.bisect_right(offs, k) - 1
+                e, want, k = e.items[i], None, k - offs[i]
+                continue
+            return None
 
 
 def _flop_output(s: P.OutDecl, flop_names: set[str]) -> bool:
