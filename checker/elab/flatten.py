@@ -108,6 +108,7 @@ class _Flattener:
     def __init__(self, blocks: dict[str, P.DesignBlock]) -> None:
         self.blocks = blocks
         self.comb: dict[str, tuple[BExpr, Pos]] = {}
+        self.copies: set[str] = set()  # comb bits written as a plain copy of a bit (a clock may pass them)
         self.flops: dict[str, _FlopBit] = {}
         self.syms: dict[str, Symbol] = {}  # flattened vector name -> symbol
         self.nbits = 0
@@ -189,8 +190,10 @@ class _Flattener:
                 sym = self.syms[prefix + s.decl.name]
                 vals = self.vec(s.expr, prefix, len(sym.bits))
                 self.need_width(vals, len(sym.bits), s.expr, f"'{s.decl.name}'")
-                for b, v in zip(sym.bits, vals):
+                for b, v, plain in zip(sym.bits, vals, self.plain_bits(s.expr, prefix, len(vals))):
                     self.comb[b] = (v, s.pos)
+                    if plain:
+                        self.copies.add(b)
             elif isinstance(s, P.FlopDecl):
                 self.flop_decl(s, prefix)
         # parts after this design's flops, so flop order follows statement order
@@ -229,6 +232,12 @@ class _Flattener:
             if len(sig) == 1:
                 sig = sig * n
             self.need_width(sig, n, s.clock.signal, f"the clock of {local}")
+            plain = self.plain_bits(s.clock.signal, prefix, len(sig))
+            for x, ok in zip(sig, plain):
+                if not ok:
+                    raise InputError(s.clock.pos, f"the clock of flop {local} passes through a gate; a clock is "
+                                                  f"a flop bit or a plain copy of one (use 'clock fall' for an "
+                                                  f"inverted clock)")
             clock = [(s.clock.edge, x, s.clock.pos) for x in sig]
         pins: dict[str, list[BExpr]] = {}
         pin_pos: dict[str, Pos] = {}
@@ -252,6 +261,19 @@ class _Flattener:
         for k, b in enumerate(bits):
             self.flops[b] = _FlopBit(kind, s.pos, {p: (v[k], pin_pos[p]) for p, v in pins.items()},
                                      sync_clear, sync_preset, async_clear, async_preset, clock[k])
+
+    def plain_bits(self, e: P.Expr, prefix: str, n: int) -> list[bool]:
+        """For each of the ``n`` bits of ``e``, whether it is written as a plain bit (a name, a
+        slice, or a brace list of those), not through an operator, a gate (``buf`` included) or a
+        constant: the only way a clock may pass."""
+        if isinstance(e, P.Ref):
+            return [True] * n
+        if isinstance(e, P.Cat):
+            out: list[bool] = []
+            for item in e.items:
+                out += self.plain_bits(item, prefix, len(self.vec(item, prefix)))
+            return out if len(out) == n else [False] * n
+        return [False] * n
 
     def bit(self, e: P.Expr, prefix: str, what: str) -> BExpr:
         """A single-bit EXPR: a number in it is a bit, never widened."""
@@ -282,11 +304,13 @@ class _Flattener:
             bits = select_bits(tmp, c.index, c.port)
             vals = self.vec(c.expr, prefix, len(bits))
             self.need_width(vals, len(bits), c.expr, f"port {c.port}" if c.index is None else "the connected bits")
-            for b, v in zip(bits, vals):
+            for b, v, plain in zip(bits, vals, self.plain_bits(c.expr, prefix, len(vals))):
                 if b in driven:
                     raise InputError(c.pos, f"input {b[len(pre):]} of part {s.name} is connected twice (first at line {driven[b].line})")
                 driven[b] = c.pos
                 self.comb[b] = (v, c.pos)
+                if plain:
+                    self.copies.add(b)
         missing = [b[len(pre):] for d in ins for b in _decl_bits(d, pre) if b not in driven]
         if missing:
             more = f" and {len(missing) - 8} more" if len(missing) > 8 else ""
@@ -399,6 +423,9 @@ def _clock_source(fl: _Flattener, flop: str, x: BExpr, where: Pos) -> str:
         if name not in fl.comb:
             raise ClockFromInput(where, f"the clock of flop {flop} traces to input {name} of the top design; "
                                         f"flops on the system clock need no clock, and a clock is a flop bit")
+        if name not in fl.copies:
+            raise InputError(where, f"the clock of flop {flop} passes through a gate at {name}; a clock is a "
+                                    f"flop bit or a plain copy of one")
         x = fl.comb[name][0]
         if x is seen:  # pragma: no cover - combinational loops are refused before this
             raise InputError(where, f"the clock of flop {flop} runs in a loop")

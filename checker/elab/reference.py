@@ -426,7 +426,7 @@ class Reference:
             if isinstance(e, P.Cat):
                 offs = self._cat_offsets(e, sc)
                 i = bisect.bisect_right(offs, k) - 1
-                e, want, k = e.items[i], None, k - offs[i]
+                e, k = e.items[i], k - offs[i]
                 continue
             return None
 
