@@ -461,6 +461,7 @@ def _to_model(name: str, fl: _Flattener, inputs: list[str], outputs: list[str]) 
         clr = FALSE if fb.clear is None else build(aig, fb.clear, lit, memo)
         pre = FALSE if fb.preset is None else build(aig, fb.preset, lit, memo)
         m.next_lits.append(aig.and_(clr ^ 1, aig.or_(pre, f)))
+        m.declared_async = m.declared_async or fb.aclear is not None or fb.apreset is not None
         m.async_clear.append(FALSE if fb.aclear is None else build(aig, fb.aclear, lit))
         m.async_preset.append(FALSE if fb.apreset is None else build(aig, fb.apreset, lit))
         if fb.clock is None:

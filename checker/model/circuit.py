@@ -46,12 +46,14 @@ class Model:
     clocks: list = field(default_factory=list)
     async_clear: list[int] = field(default_factory=list)
     async_preset: list[int] = field(default_factory=list)
+    declared_async: bool = False  # some flop declares an asynchronous clear or preset (even a constant one)
 
     @property
     def synchronous(self) -> bool:
-        """Every flop on the system clock, no asynchronous clear or preset."""
-        return (all(c is None for c in self.clocks) and not any(self.async_clear)
-                and not any(self.async_preset))
+        """Every flop on the system clock, no asynchronous clear or preset (the contract's
+        definition: one written as a constant 0 still makes the design asynchronous)."""
+        return (all(c is None for c in self.clocks) and not self.declared_async
+                and not any(self.async_clear) and not any(self.async_preset))
 
     def step(self, state: dict[str, int], inputs: dict[str, int]) -> tuple[dict[str, int], dict[str, int], list[str]]:
         """One clock from concrete values: (next state, outputs, SR faults hit).
