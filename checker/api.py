@@ -569,10 +569,18 @@ def json_error(e: InputError) -> str:
     return report.json.dumps(report.json.error(e))
 
 
-def write_junit(run: CheckRun, path: str) -> None:
-    """A JUnit XML report of a check run: one test per claim, one error case per unreadable file."""
+def write_junit(run: CheckRun, path: str, open_ok: bool = False) -> None:
+    """A JUnit XML report of a check run: one test per claim, one error case per unreadable file.
+
+    An open claim is a failure of type ``open``; with ``open_ok`` it is skipped."""
     errors = [(str(e.pos.file), f"{e.pos}: {e.message}") for e in run.errors]
-    report.junit.write_junit(run.results, path, errors, [(str(e.pos.file), e.message) for e in run.unread])
+    report.junit.write_junit(run.results, path, errors, [(str(e.pos.file), e.message) for e in run.unread],
+                             open_ok)
+
+
+def write_junit_error(e: InputError, path: str) -> None:
+    """A JUnit XML report of a run that stopped on ``e`` (such as ``no claims in ...``): one error case."""
+    report.junit.write_junit([], path, [(str(e.pos.file), f"{e.pos}: {e.message}")])
 
 
 def write_vcd(s: SimRun, path: str) -> None:
