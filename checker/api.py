@@ -24,7 +24,7 @@ from typing import Iterable, Optional, Sequence
 from . import report
 from .about import __version__
 from .claims import run_check
-from .claims.common import Options
+from .claims.common import CODE_RADIXES, Options
 from .claims.result import OPEN, PROVED, REFUTED, Result
 from .elab import Check, Design, Namespace, load_namespace
 from .elab.spec import condition_literal, flop_indices
@@ -132,12 +132,13 @@ def load(path: str) -> Program:
 
 
 def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engine: str = "auto",
-            isolate: bool = False) -> Options:
+            isolate: bool = False, radix: str = "dec") -> Options:
     """Validated run options; an InputError (at ``<command line>``) for a bad solver or timeout.
 
     ``isolate`` runs every claim, map and comparison in a child process even
     without a timeout, so that an interrupt (Ctrl-C) stops a solver call
-    cleanly; the command line asks for it.
+    cleanly; the command line asks for it. ``radix`` is how evidence lines show codes
+    (``dec``, ``bin``, ``hex``, or ``auto``: binary up to 8 bits, hex above).
     """
     where = Pos("<command line>", 1, 1)
     if solver not in solver_names():
@@ -146,7 +147,9 @@ def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engin
         raise InputError(where, f"--timeout takes a number of seconds above 0 and at most {MAX_TIMEOUT:g}")
     if engine not in ("auto", "sat", "explicit"):
         raise InputError(where, f"unknown engine '{engine}'; the engines are auto, sat, explicit")
-    return Options(solver=solver, timeout=timeout, engine=engine, isolate=isolate)
+    if radix not in CODE_RADIXES:
+        raise InputError(where, f"unknown radix '{radix}'; the radixes are {', '.join(CODE_RADIXES)}")
+    return Options(solver=solver, timeout=timeout, engine=engine, isolate=isolate, radix=radix)
 
 
 def _skipped(folder: Path) -> bool:
@@ -519,15 +522,15 @@ def demo_path() -> Path:
 
 # --- reports --------------------------------------------------------------------
 
-def render_check(run: CheckRun) -> str:
-    """The readable report of a check run."""
-    text = report.text.format_results(run.results, run.widths)
+def render_check(run: CheckRun, radix: str = "dec") -> str:
+    """The readable report of a check run; ``radix`` (``auto``, ``dec``, ``bin``, ``hex``) shows its codes."""
+    text = report.text.format_results(run.results, run.widths, radix)
     return "\n".join([f"{e.pos.file}: open: {e.message}" for e in run.unread] + [text])
 
 
-def render_map(m: MapRun) -> str:
-    """The readable map table."""
-    return report.text.map_text(m.doc)
+def render_map(m: MapRun, radix: str = "dec") -> str:
+    """The readable map table; ``radix`` shows its codes."""
+    return report.text.map_text(m.doc, radix)
 
 
 def render_compare(doc: dict) -> str:
@@ -535,10 +538,10 @@ def render_compare(doc: dict) -> str:
     return _compare.format_compare(doc)
 
 
-def render_sim(s: SimRun, events: bool = False) -> str:
+def render_sim(s: SimRun, events: bool = False, radix: str = "bin") -> str:
     """The readable table of a simulated run; with ``events``, the firings between clocks
-    of an asynchronous design under each row."""
-    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps], events)
+    of an asynchronous design under each row; ``radix`` shows its codes."""
+    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps], events, radix)
 
 
 def json_check(run: CheckRun) -> str:
