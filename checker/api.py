@@ -522,9 +522,10 @@ def demo_path() -> Path:
 
 # --- reports --------------------------------------------------------------------
 
-def render_check(run: CheckRun, radix: str = "dec") -> str:
-    """The readable report of a check run; ``radix`` (``auto``, ``dec``, ``bin``, ``hex``) shows its codes."""
-    text = report.text.format_results(run.results, run.widths, radix)
+def render_check(run: CheckRun, radix: str = "dec", columns: Optional[int] = None) -> str:
+    """The readable report of a check run; ``radix`` (``auto``, ``dec``, ``bin``, ``hex``) shows its
+    codes; ``columns``, a terminal's width, is what the table of verdicts must fit."""
+    text = report.text.format_results(run.results, run.widths, radix, columns)
     return "\n".join([f"{e.pos.file}: open: {e.message}" for e in run.unread] + [text])
 
 

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import shutil
 import sys
 from typing import Optional, Sequence
 
@@ -38,6 +39,13 @@ def _radix(args) -> str:
     return getattr(args, "radix", None) or "auto"
 
 
+def _columns() -> Optional[int]:
+    """The terminal's width that tables must fit: when stdout is a terminal or COLUMNS is set."""
+    if "COLUMNS" in os.environ or sys.stdout.isatty():
+        return shutil.get_terminal_size().columns
+    return None
+
+
 def _html_radix(args) -> str:
     return getattr(args, "radix", None) or "dec"
 
@@ -60,7 +68,7 @@ def cmd_check(args) -> int:
         for e in run.errors[1:]:
             sys.stderr.write(api.shown(f"{e.pos}: {e.message}") + "\n")
         return status
-    _emit(args.json, api.json_check(run), api.render_check(run, _radix(args)))
+    _emit(args.json, api.json_check(run), api.render_check(run, _radix(args), _columns()))
     return run.status
 
 

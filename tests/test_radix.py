@@ -118,3 +118,18 @@ def test_locked_sets_cut_says_how_many_and_how_to_see_more(tmp_path, capsys):
     assert rc == 1
     note = [l for l in out.splitlines() if "unused codes listed" in l]
     assert len(note) == 1 and "5 of 58" in note[0] and "--limit" in note[0]
+
+
+def test_compare_cubes_cut_says_so():
+    from checker.tools.compare import CUBES_SHOWN, compare_lines
+    cubes = [{"text": f"q={i}"} for i in range(CUBES_SHOWN + 8)]
+    doc = {"designs": [{"name": "d", "status": "differs", "everywhere": False, "next_differs": ["q"],
+                        "outputs_differ": [], "cube_count": len(cubes), "complete": True, "cubes": cubes}],
+           "only_old": [], "only_new": [], "claims": {"now_failing": [], "now_holding": []},
+           "reasons": ["d differs"], "differs": True}
+    lines = compare_lines(doc)
+    assert sum(1 for l in lines if l.strip().startswith("q=")) == CUBES_SHOWN
+    note = [l for l in lines if "cubes shown" in l]
+    assert len(note) == 1 and f"{CUBES_SHOWN} of {CUBES_SHOWN + 8}" in note[0] and "--json" in note[0]
+    doc["designs"][0]["cubes"] = cubes[:3]
+    assert not any("cubes shown" in l for l in compare_lines(doc))

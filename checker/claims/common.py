@@ -280,5 +280,6 @@ def trace_lines(check: Optional[Check], trace: list[TraceEntry], width: Optional
 
 def make_result(check: Check, claim: Claim, status: str, summary: str = "", **kw) -> Result:
     """A :class:`Result` for ``claim`` of ``check`` (file, names and line filled in)."""
+    kw.setdefault("text", claim.text)
     return Result(file=claim.pos.file, check=check.name, claim=claim.kind, line=claim.pos.line,
                   status=status, summary=summary, **kw)

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import os
-from typing import Sequence
+from typing import Optional, Sequence
 
 from tabulate import tabulate
 
@@ -15,11 +15,95 @@ _MARK = {PROVED: "proved", REFUTED: "REFUTED", OPEN: "open"}
 
 
 def _short(path: str) -> str:
+    """``path`` relative to the current folder when it lies within it (or near it)."""
     try:
         rel = os.path.relpath(path)
     except ValueError:
         return path
-    return rel if not rel.startswith("..") else path
+    return rel if not rel.startswith(os.path.join("..", "..", "..")) else path
+
+
+def short_names(paths: Sequence[str]) -> dict[str, str]:
+    """How the result table names each file: relative to the current folder when it lies within
+    it or close by; otherwise (an installed example under site-packages, say) the fewest trailing
+    path components that tell it apart from every other file of the run."""
+    out: dict[str, str] = {}
+    far = []
+    for p in dict.fromkeys(paths):
+        q = _short(p)
+        if q == p and os.path.isabs(p):
+            far.append(p)
+        else:
+            out[p] = q
+    parts = {p: os.path.normpath(p).split(os.sep) for p in far}
+    for p in far:
+        for k in range(1, len(parts[p]) + 1):
+            tail = parts[p][-k:]
+            if all(parts[o][-k:] != tail for o in far if o != p) and os.path.join(*tail) not in out.values():
+                out[p] = os.path.join(*tail)
+                break
+        else:
+            out[p] = p
+    return out
+
+
+def _cut(text: str, room: int) -> str:
+    return text if len(text) <= room else text[:max(room - 3, 0)] + "..."
+
+
+TABLE_HEADERS = ["verdict", "file", "check", "claim", "line", "time", "summary"]
+LABEL_MIN = 20
+"""The narrowest the claim column is cut to when the terminal is narrow."""
+SUMMARY_MIN = 20
+"""The narrowest summary column; below it, each summary goes on a line of its own under its row."""
+
+
+def _tabulate(rows: list[list[str]], headers: list[str]) -> list[str]:
+    return [line.rstrip() for line in
+            tabulate(rows, headers=headers, tablefmt="simple", disable_numparse=True).splitlines()]
+
+
+def result_table(results: Sequence[Result], columns: Optional[int] = None) -> tuple[list[str], bool]:
+    """The table of verdicts, a row per claim, and whether any cell was cut to fit.
+
+    Claims are labelled as written (``recover within 4``, ``equal d after reset``), so two
+    claims of one kind differ. With ``columns`` (a terminal's width) no row is wider than the
+    terminal: the summary is shortened, then the claim labels (down to :data:`LABEL_MIN`),
+    and when even then the summary would be narrower than :data:`SUMMARY_MIN`, each summary
+    is printed on a line of its own under its row."""
+    if not results:
+        return [], False
+    names = short_names([r.file for r in results])
+    rows = [[_MARK.get(r.status, r.status), names[r.file], r.check, r.text or r.claim, str(r.line),
+             f"{r.seconds:.2f} s", r.summary] for r in results]
+    if columns is None:
+        return _tabulate(rows, TABLE_HEADERS), False
+    cut = False
+    bare = _tabulate([row[:6] + [""] for row in rows], TABLE_HEADERS[:6] + [""])
+    room = columns - max(len(line) for line in bare) - 2  # the summary column's room
+    if room < SUMMARY_MIN:
+        label = max(len(row[3]) for row in rows)
+        shorter = max(LABEL_MIN, label - (SUMMARY_MIN - room))
+        if shorter < label:
+            for row in rows:
+                if len(row[3]) > shorter:
+                    row[3], cut = _cut(row[3], shorter), True
+            room += label - max(shorter, len(TABLE_HEADERS[3]) + 2)
+    if room >= SUMMARY_MIN:
+        for row in rows:
+            if len(row[6]) > room:
+                row[6], cut = _cut(row[6], room), True
+        return _tabulate(rows, TABLE_HEADERS), cut
+    # too narrow for a summary column: the summary under its row, indented
+    lines = _tabulate([row[:6] for row in rows], TABLE_HEADERS[:6])
+    out = lines[:2]
+    for line, row in zip(lines[2:], rows):
+        out.append(line)
+        if row[6]:
+            summary = _cut(row[6], columns - 4)
+            cut = cut or summary != row[6]
+            out.append("    " + summary)
+    return out, cut
 
 
 def bits(code: int, width: int) -> str:
@@ -35,16 +119,14 @@ def summary_counts(results: Sequence[Result]) -> dict[str, int]:
 
 
 def format_results(results: Sequence[Result], widths: dict[tuple[str, str], int] | None = None,
-                   radix: str = "dec") -> str:
+                   radix: str = "dec", columns: Optional[int] = None) -> str:
     """The whole readable report; ``widths`` gives each (file, check)'s code width for traces,
-    ``radix`` how their codes are shown (see ``claims.common.code_text``)."""
+    ``radix`` how their codes are shown (see ``claims.common.code_text``), ``columns`` the
+    terminal's width that the table of verdicts must fit (None: no limit)."""
     widths = widths or {}
-    rows = [[_MARK.get(r.status, r.status), _short(r.file), r.check, r.claim, r.line,
-             f"{r.seconds:.2f} s", r.summary] for r in results]
-    out: list[str] = []
-    if rows:
-        out.extend(tabulate(rows, headers=["verdict", "file", "check", "claim", "line", "time", ""],
-                            tablefmt="simple").splitlines())
+    out, cut = result_table(results, columns)
+    if cut:
+        out.append(f"(cells cut to fit {columns} columns; the claims below and --json give them whole)")
     for r in results:
         if r.status == PROVED and not r.evidence and not r.advice:
             continue
