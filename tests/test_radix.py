@@ -133,3 +133,37 @@ def test_compare_cubes_cut_says_so():
     assert len(note) == 1 and f"{CUBES_SHOWN} of {CUBES_SHOWN + 8}" in note[0] and "--json" in note[0]
     doc["designs"][0]["cubes"] = cubes[:3]
     assert not any("cubes shown" in l for l in compare_lines(doc))
+
+
+SHADE = """
+# greenhouse shade motor, two builds whose `shut` output disagrees (and against or)
+design shade
+  in roll
+  flop s[1] : T (t = roll & s[0])
+  flop s[0] : T (t = roll)
+  out shut = s[1] & s[0]
+end
+design shade_d
+  in roll
+  flop s[1:0] : D (d = {s[1] ^ (roll & s[0]), s[0] ^ roll})
+  out shut = s[1] | s[0]
+end
+check shade_steps of shade
+  code s
+  count 0 .. 3
+  hold when !roll
+  equal shade_d
+end
+"""
+
+
+def test_equal_evidence_follows_radix(tmp_path, capsys):
+    p = tmp_path / "shade.cnl"
+    p.write_text(SHADE)
+    _, out = run(capsys, ["check", str(p), "--json"])
+    claim = [c for c in json.loads(out)["claims"] if c["claim"] == "equal"][0]
+    first = claim["trace"][0]
+    _, text = run(capsys, ["check", str(p), "--radix", "bin"])
+    assert f"clock 0: code {code_text(first['code'], 2, 'bin')} (shade_d: {code_text(first['other_code'], 2, 'bin')})" in text
+    _, text = run(capsys, ["check", str(p), "--radix", "dec"])
+    assert f"clock 0: code {first['code']} (shade_d: {first['other_code']})" in text
