@@ -202,11 +202,13 @@ class CheckRun:
         return 3 if s == 0 and self.unread else s
 
 
-def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRun:
+def check_files(paths: Sequence[str], opts: Optional[Options] = None, keep_going: bool = False) -> CheckRun:
     """Read every file (folders searched for .cnl files), then prove or refute every claim.
 
-    Every file is read before any claim runs; when some cannot be read, no
-    claim runs and ``errors`` names each. A run whose files hold no claim at
+    Every file is read before any claim runs; when some cannot be read,
+    ``errors`` names each and no claim runs, unless ``keep_going`` (the
+    command line's ``--junit``, whose report puts the unreadable files beside
+    the claims of the others). A run whose files hold no claim at
     all is an InputError (``no claims in ...``), so a CI job pointed at the
     wrong place fails.
     """
@@ -221,9 +223,11 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None) -> CheckRu
             out.unread.append(e)
         except InputError as e:
             out.errors.append(e)
-    if out.errors:
+    if out.errors and not keep_going:
         return out
     checks = [c for p in programs for c in p.namespace.checks]
+    if out.errors and not any(c.claims for c in checks):
+        return out
     if not any(c.claims for c in checks) and not out.unread:
         where = ", ".join(paths) if paths else "the command line"
         raise InputError(Pos(files[0] if files else "<command line>", 1, 1), f"no claims in {where}")

@@ -139,7 +139,8 @@ def test_cli_unreadable_files_each_give_an_error_case(tmp_path, capsys):
     bad2.write_text("check c of nowhere\n  code q\nend\n")
     path = tmp_path / "j.xml"
     assert _cli(["check", str(bad1), str(good), str(bad2), "--junit", str(path)]) == 2
-    capsys.readouterr()
+    out = capsys.readouterr()
+    assert out.out == "" and out.err.count(": ") >= 2  # both bad files named, no report on stdout
     root = ET.parse(path).getroot()
     errors = {}
     for s in root.findall("testsuite"):
@@ -148,6 +149,8 @@ def test_cli_unreadable_files_each_give_an_error_case(tmp_path, capsys):
             if e is not None:
                 errors[c.get("file")] = e.get("message")
     assert set(errors) == {str(bad1), str(bad2)}
+    ran = [c.get("name") for s in root.findall("testsuite") for c in s.findall("testcase") if c.find("error") is None]
+    assert ran == ["count line 9"]  # the good file's claim beside the errors
     for f, msg in errors.items():  # FILE:LINE:COL: message
         assert msg.startswith(f + ":") and msg.split(":")[1].isdigit() and msg.split(":")[2].isdigit()
 
@@ -156,8 +159,8 @@ def test_cli_open_claim_fails_unless_open_ok(tmp_path, capsys, monkeypatch):
     from checker import api
     real = api.check_files
 
-    def opened(paths, opts=None):  # every claim of the good file, made open as a timeout would
-        run = real(paths, opts)
+    def opened(paths, opts=None, **kw):  # every claim of the good file, made open as a timeout would
+        run = real(paths, opts, **kw)
         for r in run.results:
             r.status = OPEN
         return run
