@@ -24,7 +24,7 @@ from typing import Iterable, Optional, Sequence
 from . import report
 from .about import __version__
 from .claims import run_check, run_claims
-from .claims.common import Options
+from .claims.common import CODE_RADIXES, Options
 from .claims.result import OPEN, PROVED, REFUTED, Result
 from .elab import Check, Design, Namespace, load_namespace
 from .elab.spec import condition_literal, flop_indices
@@ -135,12 +135,13 @@ def load(path: str) -> Program:
 
 
 def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engine: str = "auto",
-            isolate: bool = False) -> Options:
+            isolate: bool = False, radix: str = "dec") -> Options:
     """Validated run options; an InputError (at ``<command line>``) for a bad solver or timeout.
 
     ``isolate`` runs every claim, map and comparison in a child process even
     without a timeout, so that an interrupt (Ctrl-C) stops a solver call
-    cleanly; the command line asks for it.
+    cleanly; the command line asks for it. ``radix`` is how evidence lines show codes
+    (``dec``, ``bin``, ``hex``, or ``auto``: binary up to 8 bits, hex above).
     """
     where = Pos("<command line>", 1, 1)
     if solver not in solver_names():
@@ -149,7 +150,9 @@ def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engin
         raise InputError(where, f"--timeout takes a number of seconds above 0 and at most {MAX_TIMEOUT:g}")
     if engine not in ("auto", "sat", "explicit"):
         raise InputError(where, f"unknown engine '{engine}'; the engines are auto, sat, explicit")
-    return Options(solver=solver, timeout=timeout, engine=engine, isolate=isolate)
+    if radix not in CODE_RADIXES:
+        raise InputError(where, f"unknown radix '{radix}'; the radixes are {', '.join(CODE_RADIXES)}")
+    return Options(solver=solver, timeout=timeout, engine=engine, isolate=isolate, radix=radix)
 
 
 def _skipped(folder: Path) -> bool:
@@ -202,12 +205,15 @@ class CheckRun:
         return 3 if s == 0 and self.unread else s
 
 
-def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int = 1) -> CheckRun:
+def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int = 1,
+                keep_going: bool = False) -> CheckRun:
     """Read every file (folders searched for .cnl files), then prove or refute every claim,
     up to ``jobs`` claims at once (verdicts and their order do not depend on it).
 
-    Every file is read before any claim runs; when some cannot be read, no
-    claim runs and ``errors`` names each. A run whose files hold no claim at
+    Every file is read before any claim runs; when some cannot be read,
+    ``errors`` names each and no claim runs, unless ``keep_going`` (the
+    command line's ``--junit``, whose report puts the unreadable files beside
+    the claims of the others). A run whose files hold no claim at
     all is an InputError (``no claims in ...``), so a CI job pointed at the
     wrong place fails.
     """
@@ -222,9 +228,11 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
             out.unread.append(e)
         except InputError as e:
             out.errors.append(e)
-    if out.errors:
+    if out.errors and not keep_going:
         return out
     checks = [c for p in programs for c in p.namespace.checks]
+    if out.errors and not any(c.claims for c in checks):
+        return out
     if not any(c.claims for c in checks) and not out.unread:
         where = ", ".join(paths) if paths else "the command line"
         raise InputError(Pos(files[0] if files else "<command line>", 1, 1), f"no claims in {where}")
@@ -564,15 +572,16 @@ def demo_path() -> Path:
 
 # --- reports --------------------------------------------------------------------
 
-def render_check(run: CheckRun) -> str:
-    """The readable report of a check run."""
-    text = report.text.format_results(run.results, run.widths)
+def render_check(run: CheckRun, radix: str = "dec", columns: Optional[int] = None) -> str:
+    """The readable report of a check run; ``radix`` (``auto``, ``dec``, ``bin``, ``hex``) shows its
+    codes; ``columns``, a terminal's width, is what the table of verdicts must fit."""
+    text = report.text.format_results(run.results, run.widths, radix, columns)
     return "\n".join([f"{e.pos.file}: open: {e.message}" for e in run.unread] + [text])
 
 
-def render_map(m: MapRun) -> str:
-    """The readable map table."""
-    return report.text.map_text(m.doc)
+def render_map(m: MapRun, radix: str = "dec") -> str:
+    """The readable map table; ``radix`` shows its codes."""
+    return report.text.map_text(m.doc, radix)
 
 
 def render_compare(doc: dict) -> str:
@@ -580,10 +589,10 @@ def render_compare(doc: dict) -> str:
     return _compare.format_compare(doc)
 
 
-def render_sim(s: SimRun, events: bool = False) -> str:
+def render_sim(s: SimRun, events: bool = False, radix: str = "bin") -> str:
     """The readable table of a simulated run; with ``events``, the firings between clocks
-    of an asynchronous design under each row."""
-    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps], events)
+    of an asynchronous design under each row; ``radix`` shows its codes."""
+    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps], events, radix)
 
 
 def json_check(run: CheckRun) -> str:
@@ -614,10 +623,18 @@ def json_error(e: InputError) -> str:
     return report.json.dumps(report.json.error(e))
 
 
-def write_junit(run: CheckRun, path: str) -> None:
-    """A JUnit XML report of a check run: one test per claim, one error case per unreadable file."""
+def write_junit(run: CheckRun, path: str, open_ok: bool = False) -> None:
+    """A JUnit XML report of a check run: one test per claim, one error case per unreadable file.
+
+    An open claim is a failure of type ``open``; with ``open_ok`` it is skipped."""
     errors = [(str(e.pos.file), f"{e.pos}: {e.message}") for e in run.errors]
-    report.junit.write_junit(run.results, path, errors, [(str(e.pos.file), e.message) for e in run.unread])
+    report.junit.write_junit(run.results, path, errors, [(str(e.pos.file), e.message) for e in run.unread],
+                             open_ok)
+
+
+def write_junit_error(e: InputError, path: str) -> None:
+    """A JUnit XML report of a run that stopped on ``e`` (such as ``no claims in ...``): one error case."""
+    report.junit.write_junit([], path, [(str(e.pos.file), f"{e.pos}: {e.message}")])
 
 
 def write_vcd(s: SimRun, path: str) -> None:

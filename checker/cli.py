@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import shutil
 import sys
 from typing import Optional, Sequence
 
@@ -29,22 +30,45 @@ def _emit(as_json: bool, doc: str, text: str) -> None:
 
 
 def _options(args) -> api.Options:
-    return api.options(args.solver, args.timeout, getattr(args, "engine", "auto"), isolate=True)
+    return api.options(args.solver, args.timeout, getattr(args, "engine", "auto"), isolate=True,
+                       radix=_radix(args))
+
+
+def _radix(args) -> str:
+    """How text output shows codes: --radix, else auto (binary up to 8 bits, hex above)."""
+    return getattr(args, "radix", None) or "auto"
+
+
+def _columns() -> Optional[int]:
+    """The terminal's width that tables must fit: when stdout is a terminal or COLUMNS is set."""
+    if "COLUMNS" in os.environ or sys.stdout.isatty():
+        return shutil.get_terminal_size().columns
+    return None
+
+
+def _html_radix(args) -> str:
+    return getattr(args, "radix", None) or "dec"
 
 
 # --- commands --------------------------------------------------------------
 def cmd_check(args) -> int:
-    run = api.check_files(args.paths, _options(args), getattr(args, "jobs", 1))
+    try:
+        run = api.check_files(args.paths, _options(args), getattr(args, "jobs", 1), keep_going=bool(args.junit))
+    except InputError as e:  # no claims at all, a missing path: a CI job still gets its report
+        if args.junit:
+            api.write_junit_error(e, args.junit)
+            return _report_error(e, args.json)
+        raise
     if args.junit:
-        api.write_junit(run, args.junit)
+        api.write_junit(run, args.junit, getattr(args, "open_ok", False))
     if getattr(args, "html", None) and not run.errors:
-        api.write_html_check(run, args.html, _options(args), args.radix)
-    if run.errors:  # every bad file is named; no claim ran
+        api.write_html_check(run, args.html, _options(args), _html_radix(args))
+    if run.errors:  # every bad file is named (with --junit the claims of the good ones ran for its report)
         status = _report_error(run.errors[0], args.json)
         for e in run.errors[1:]:
             sys.stderr.write(api.shown(f"{e.pos}: {e.message}") + "\n")
         return status
-    _emit(args.json, api.json_check(run), api.render_check(run))
+    _emit(args.json, api.json_check(run), api.render_check(run, _radix(args), _columns()))
     return run.status
 
 
@@ -56,8 +80,8 @@ def cmd_map(args) -> int:
     if args.svg:
         api.write_svg(m, args.svg)
     if args.html:
-        api.write_html_map(m, args.html, args.file, _options(args), args.radix)
-    _emit(args.json, api.json_map(m), api.render_map(m))
+        api.write_html_map(m, args.html, args.file, _options(args), _html_radix(args))
+    _emit(args.json, api.json_map(m), api.render_map(m, _radix(args)))
     return m.status
 
 
@@ -79,7 +103,7 @@ def cmd_sim(args) -> int:
                        timeout=_seconds(args))
     if args.vcd:
         api.write_vcd(run, args.vcd)
-    _emit(args.json, api.json_sim(run), api.render_sim(run, args.events))
+    _emit(args.json, api.json_sim(run), api.render_sim(run, args.events, _radix(args)))
     return 0
 
 
@@ -131,14 +155,21 @@ def build_parser() -> argparse.ArgumentParser:
             sp.add_argument("--engine", choices=["auto", "sat", "explicit"], default="auto",
                             help="engine for recover claims and maps (default: chosen per claim)")
 
+    def radix_option(sp):
+        sp.add_argument("--radix", choices=api.RADIXES, default=None,
+                        help="how codes are shown: text defaults to binary up to 8 bits and hex above, "
+                             "with the decimal beside it; the HTML report defaults to dec; JSON keeps integers")
+
     def html_options(sp):
         sp.add_argument("--html", metavar="FILE", help="also write one self-contained HTML report")
-        sp.add_argument("--radix", choices=api.RADIXES, default="dec",
-                        help="how the HTML report shows codes (default dec)")
+        radix_option(sp)
 
     sp = sub.add_parser("check", help="every claim of every check block")
     sp.add_argument("paths", nargs="+", metavar="FILE|FOLDER")
-    sp.add_argument("--junit", metavar="FILE", help="also write a JUnit XML report, one test per claim")
+    sp.add_argument("--junit", metavar="FILE", help="also write a JUnit XML report, one test per claim "
+                                                     "(an open claim is a failure of type open)")
+    sp.add_argument("--open-ok", action="store_true",
+                    help="in the JUnit report, an open claim is skipped rather than failed (the exit status stays 3)")
     sp.add_argument("--jobs", type=int, default=os.cpu_count() or 1, metavar="N",
                     help="claims run at once (default: the number of cores); verdicts do not depend on it")
     html_options(sp)
@@ -173,6 +204,7 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--vcd", metavar="FILE", help="write the run as an IEEE 1364 value change dump")
     sp.add_argument("--events", action="store_true",
                     help="an asynchronous design: print the firings between clocks (unit delays)")
+    radix_option(sp)
     sp.add_argument("--json", action="store_true", help="one JSON document on stdout")
     sp.add_argument("--timeout", type=float, default=None, metavar="S",
                     help="seconds for the whole run, reading the file included; past it nothing is written (exit 3)")

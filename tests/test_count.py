@@ -791,11 +791,16 @@ def test_solvers_agree(tmp_path, solver):
 
 def test_evidence_is_a_small_table(tmp_path):
     broken = load(tmp_path, DECADE.replace("en & q[0] & !q[3]", "en & q[0]")).checks[0]
-    res = prove_count(broken)
+    claim = next(c for c in broken.claims if c.kind == "count")
+    res = count.prove(broken, claim, Options(radix="bin"), Budget())
     assert res.evidence[0].split() == ["clock", "code", "decimal", "inputs"]
-    assert res.evidence[1].split() == ["0", "1001", "9", "en=1"]
-    assert res.evidence[2].split() == ["1", "0010", "2"]
-    assert res.evidence[-1] == "expected 0, got 2"
+    assert res.evidence[1].split() == ["0", "0b1001", "9", "en=1"]
+    assert res.evidence[2].split() == ["1", "0b0010", "2"]
+    assert res.evidence[-1] == "expected 0b0000, got 0b0010 (2)"
+    plain = prove_count(broken)  # the API's default radix: decimal, no second column
+    assert plain.evidence[0].split() == ["clock", "code", "inputs"]
+    assert plain.evidence[1].split() == ["0", "9", "en=1"]
+    assert plain.evidence[-1] == "expected 0, got 2"
     assert res.details["engine"] == "sat" and res.details["vars"] > 0 and res.details["clauses"] > 0
 
 

@@ -15,7 +15,7 @@ from ..elab import Check, Claim
 from ..model import evaluate
 from ..engines.sat import Sat, Unrolling
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
-from .common import Options, ReplayError, make_result, trace_lines
+from .common import Options, ReplayError, code_and_decimal, make_result, trace_lines
 
 
 @dataclass
@@ -83,8 +83,9 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
         if prop_value(check, claim.prop, full, inputs) != 0:
             raise ReplayError(f"the property is 1 at code {code} under the counterexample's inputs")
         trace = [TraceEntry(0, code, inputs)]
-        lines = trace_lines(check, trace)
-        lines.append(f"the property is 0 at code {code}")
+        lines = trace_lines(check, trace, radix=opts.radix)
+        shown_code = code_and_decimal(code, check.width, opts.radix)
+        lines.append(f"the property is 0 at code {shown_code}")
         details["code"] = code
-        return make_result(check, claim, REFUTED, f"fails at code {code}", trace=trace,
+        return make_result(check, claim, REFUTED, f"fails at code {shown_code}", trace=trace,
                            details=details, evidence=lines)

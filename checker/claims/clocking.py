@@ -20,7 +20,7 @@ from ..engines.cascade import CascadeLimit, Exploration, Outcome, settling_in
 from ..errors import InputError
 from ..model.aig import evaluate
 from ..model.events import Cascade, EventModel, Firing
-from .common import ReplayError, make_result
+from .common import ReplayError, code_radix, code_text, make_result
 from .result import OPEN, Result
 
 MAX_START_POINTS = 1 << 20
@@ -151,14 +151,18 @@ def replay_order(em: EventModel, start: int, firings: list[Firing]) -> list[int]
     return codes
 
 
-def order_lines(check: Check, start: int, firings: list[Firing]) -> list[str]:
-    """An order for people: each firing, the flop's new value, the code after it, its depth."""
+def order_lines(check: Check, start: int, firings: list[Firing], radix: str = "auto") -> list[str]:
+    """An order for people: each firing, the flop's new value, the code after it (in ``radix``,
+    see ``common.code_text``, with its decimal), its depth."""
     w = check.width
+
+    def shown(c: int) -> str:
+        return str(c) if code_radix(w, radix) == "dec" else f"{code_text(c, w, radix)} ({c})"
     names = check.design.model.states
-    lines = [f"  start  {code_of(check, start):0{w}b} ({code_of(check, start)})"]
+    lines = [f"  start  {shown(code_of(check, start))}"]
     for f in firings:
         c = code_of(check, f.code)
-        lines.append(f"  {names[f.flop]} -> {f.value}  {c:0{w}b} ({c})  depth {f.depth}")
+        lines.append(f"  {names[f.flop]} -> {f.value}  {shown(c)}  depth {f.depth}")
         for wn in f.warnings:
             lines.append(f"    {wn.kind}: {wn.text}")
     return lines

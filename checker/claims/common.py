@@ -23,6 +23,43 @@ class Options:
     timeout: Optional[float] = None
     engine: str = "auto"  # auto, sat, explicit
     isolate: bool = False  # run every claim in a child process, so that Ctrl-C ends it cleanly
+    radix: str = "dec"  # how evidence lines show codes: auto, dec, bin, hex (see code_text); the CLI says auto
+
+
+CODE_RADIXES = ("auto", "dec", "bin", "hex")
+"""How readable reports show codes; ``auto`` is binary up to :data:`AUTO_BINARY_WIDTH` bits, hex above."""
+
+AUTO_BINARY_WIDTH = 8
+
+
+def code_radix(width: int, radix: str = "auto") -> str:
+    """The radix ``radix`` stands for at a code width of ``width`` bits (``auto`` resolved)."""
+    if radix in ("dec", "bin", "hex"):
+        return radix
+    return "bin" if width <= AUTO_BINARY_WIDTH else "hex"
+
+
+def code_text(code: int, width: int, radix: str = "auto") -> str:
+    """A code as the language writes a literal of it: ``12``, ``0b1100`` (``width`` digits) or
+    ``0x0C`` (a digit per 4 bits of ``width``), so that it can be pasted into ``--from`` or ``count``."""
+    r = code_radix(width, radix)
+    if r == "dec":
+        return str(code)
+    if r == "bin":
+        return "0b" + format(code, f"0{max(width, 1)}b")
+    return "0x" + format(code, f"0{max(1, (width + 3) // 4)}X")
+
+
+def decimal_helps(code: int, width: int, radix: str = "auto") -> bool:
+    """Whether the decimal beside ``code_text`` tells a reader more than the digits already do."""
+    r = code_radix(width, radix)
+    return r != "dec" and code >= (2 if r == "bin" else 10)
+
+
+def code_and_decimal(code: int, width: int, radix: str = "auto") -> str:
+    """``code_text`` with the decimal beside it where that helps: ``0b1010 (10)``, ``0x3F (63)``."""
+    t = code_text(code, width, radix)
+    return f"{t} ({code})" if decimal_helps(code, width, radix) else t
 
 
 class ReplayError(AssertionError):
@@ -273,15 +310,18 @@ def inputs_text(check: Optional[Check], inputs: Optional[dict[str, int]]) -> str
     return " ".join(parts) if parts else "-"
 
 
-def trace_lines(check: Optional[Check], trace: list[TraceEntry], width: Optional[int] = None) -> list[str]:
-    """A trace as a small table: clock, code in binary and decimal, the other design's
-    code (equal claims), inputs. ``width`` defaults to the check's code width."""
+def trace_lines(check: Optional[Check], trace: list[TraceEntry], width: Optional[int] = None,
+                radix: str = "auto") -> list[str]:
+    """A trace as a small table: clock, code (in ``radix``, see :func:`code_text`) and its
+    decimal unless the radix is decimal, the other design's code (equal claims), inputs.
+    ``width`` defaults to the check's code width."""
     w = width if width is not None else check.width if check is not None else 1
     other = any(t.other_code is not None for t in trace)
-    rows = [("clock", "code", "decimal") + (("other",) if other else ()) + ("inputs",)]
+    dec = code_radix(w, radix) != "dec"
+    rows = [("clock", "code") + (("decimal",) if dec else ()) + (("other",) if other else ()) + ("inputs",)]
     for t in trace:
-        rows.append((str(t.clock), format(t.code, f"0{w}b"), str(t.code))
-                    + (("" if t.other_code is None else str(t.other_code),) if other else ())
+        rows.append((str(t.clock), code_text(t.code, w, radix)) + ((str(t.code),) if dec else ())
+                    + (("" if t.other_code is None else code_text(t.other_code, w, radix),) if other else ())
                     + ("" if t.inputs is None else inputs_text(check, t.inputs),))
     widths = [max(len(r[k]) for r in rows) for k in range(len(rows[0]))]
     return ["  ".join(c.ljust(widths[k]) for k, c in enumerate(r)).rstrip() for r in rows]
@@ -289,5 +329,6 @@ def trace_lines(check: Optional[Check], trace: list[TraceEntry], width: Optional
 
 def make_result(check: Check, claim: Claim, status: str, summary: str = "", **kw) -> Result:
     """A :class:`Result` for ``claim`` of ``check`` (file, names and line filled in)."""
+    kw.setdefault("text", claim.text)
     return Result(file=claim.pos.file, check=check.name, claim=claim.kind, line=claim.pos.line,
                   status=status, summary=summary, **kw)

@@ -25,7 +25,7 @@ from ..engines.sat import Sat, Unrolling
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, state_of, warning_lines)
-from .common import Options, ReplayError, make_result, regions, replay, rule_spec, trace_lines
+from .common import Options, ReplayError, code_and_decimal, make_result, regions, replay, rule_spec, trace_lines
 
 
 
@@ -225,22 +225,24 @@ def _refute(check: Check, claim: Claim, p: CountProblem, q: Question, opts: Opti
         raise ReplayError(f"counterexample code {code} is not in the sequence ({check.sequence.describe()})")
     details = {"engine": "sat", "expected": expected, "actual": actual, "solver": opts.solver,
                "vars": sat.nvars, "clauses": sat.nclauses}
-    lines = trace_lines(check, trace)
+    lines = trace_lines(check, trace, radix=opts.radix)
+    def c(v):  # a code as the report shows it
+        return code_and_decimal(v, check.width, opts.radix)
     if q.kind == "fault":
         by_sat = [n for n, l in p.faults if sat.value(l)]
         _, _, hit = check.design.model.step(state, inputs)
         if not by_sat or by_sat[0] not in hit:
             raise ReplayError(f"the simulator does not report the SR fault the SAT problem found at code {code}")
         details["fault"] = by_sat[0]
-        summary = f"SR flop {by_sat[0]} has s = r = 1 at code {code}"
-        lines.append(f"SR flop {by_sat[0]}: s = 1 and r = 1 at code {code} (a fault)")
+        summary = f"SR flop {by_sat[0]} has s = r = 1 at code {c(code)}"
+        lines.append(f"SR flop {by_sat[0]}: s = 1 and r = 1 at code {c(code)} (a fault)")
         if expected is not None:
-            lines.append(f"expected {expected}, got {actual}")
+            lines.append(f"expected {c(expected)}, got {c(actual)}")
     else:
         if expected == actual:
             raise ReplayError(f"at code {code} the simulator's next code {actual} is what the rules say")
-        summary = f"code {code} goes to {actual}, the rules say {expected}"
-        lines.append(f"expected {expected}, got {actual}")
+        summary = f"code {c(code)} goes to {c(actual)}, the rules say {c(expected)}"
+        lines.append(f"expected {c(expected)}, got {c(actual)}")
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=lines)
 
 

@@ -34,7 +34,7 @@ from ..engines.sat import Encoder, Sat, any_lit, equal_lit
 from ..errors import InputError
 from ..model import TRUE
 from ..model.simulate import code_value, eval_states, leaf_arrays
-from .common import Options, ReplayError, inputs_text, make_result, replay
+from .common import Options, ReplayError, code_and_decimal, code_text, inputs_text, make_result, replay
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 UNUSED_LIMIT = 256  # unused codes enumerated by blocking clauses
@@ -140,8 +140,8 @@ def _prove_exhaustive(check: Check, claim: Claim, b: Design, opts: Options) -> O
         unused = sorted({int(c) for c in codes})
         details.update({"only_unused": True, "unused_codes": unused[:UNUSED_LIMIT], "unused_count": len(unused),
                         "unused_count_exact": True})
-        lines = _unused_lines(b, unused, True)
-    return _refuted_paired(check, claim, b, state, inputs, details, lines)
+        lines = _unused_lines(check, b, unused, True, opts.radix)
+    return _refuted_paired(check, claim, b, state, inputs, details, lines, opts.radix)
 
 
 def _prove_paired(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
@@ -163,43 +163,48 @@ def _prove_paired(check: Check, claim: Claim, opts: Options, budget: Budget) -> 
             return make_result(check, claim, PROVED, f"{a.name} and {b.name} have the same next state and outputs {where}",
                                details=details)
         if on_seq or seq is None:
-            return _refuted_paired(check, claim, b, *m.read(), details, [])
+            return _refuted_paired(check, claim, b, *m.read(), details, [], opts.radix)
         state, inputs = m.read()
         if m.sat.solve([m.differ, m.restrict]):
-            return _refuted_paired(check, claim, b, *m.read(), details, [])
+            return _refuted_paired(check, claim, b, *m.read(), details, [], opts.radix)
         # differs, but never in a code of the sequence: only on unused codes
         codes, complete = _unused_codes(m, check, budget)
         details.update({"only_unused": True, "unused_codes": codes, "unused_count": len(codes),
                         "unused_count_exact": complete})
-        return _refuted_paired(check, claim, b, state, inputs, details, _unused_lines(b, codes, complete))
+        return _refuted_paired(check, claim, b, state, inputs, details,
+                                   _unused_lines(check, b, codes, complete, opts.radix), opts.radix)
     finally:
         m.sat.close()
 
 
-def _unused_lines(b: Design, codes: list[int], complete: bool) -> list[str]:
-    shown = ", ".join(map(str, codes[:UNUSED_SHOWN]))
-    more = "" if len(codes) <= UNUSED_SHOWN else f" ... ({len(codes) - UNUSED_SHOWN} more)"
+def _unused_lines(check: Check, b: Design, codes: list[int], complete: bool, radix: str = "dec") -> list[str]:
+    shown = ", ".join(code_text(c, check.width, radix) for c in codes[:UNUSED_SHOWN])
+    more = "" if len(codes) <= UNUSED_SHOWN else f" ... ({UNUSED_SHOWN} of {len(codes)} shown; --json lists them)"
     count = f"{len(codes)}" if complete else f"at least {len(codes)}"
     return [f"the designs agree on every code of the sequence; they differ only on unused codes ({count}): {shown}{more}",
             f"that matters for lockout: recovery from unused codes may differ from {b.name}'s"]
 
 
-def _refuted_paired(check: Check, claim: Claim, b: Design, state, inputs, details: dict, lines: list[str]) -> Result:
+def _refuted_paired(check: Check, claim: Claim, b: Design, state, inputs, details: dict, lines: list[str],
+                    radix: str = "dec") -> Result:
     a = check.design
+
+    def f(code: Optional[int]) -> str:
+        return "-" if code is None else code_and_decimal(code, check.width, radix)
     trace = _paired_trace(check, b, state, inputs)
     flops, outs = differences(a, b, state, inputs)
     details = dict(details, flops_differ=flops, outputs_differ=outs)
     c = trace[0].code
     what = []
     if flops:
-        what.append(f"{a.name} goes to {trace[1].code}, {b.name} to {trace[1].other_code}")
+        what.append(f"{a.name} goes to {f(trace[1].code)}, {b.name} to {f(trace[1].other_code)}")
     if outs:
         what.append(f"output{'s' if len(outs) > 1 else ''} {', '.join(outs[:6])}{' ...' if len(outs) > 6 else ''} differ{'' if len(outs) > 1 else 's'}")
-    summary = f"at code {c} under {inputs_text(None, inputs)}: {'; '.join(what)}"
+    summary = f"at code {f(c)} under {inputs_text(None, inputs)}: {'; '.join(what)}"
     if details.get("only_unused"):
         summary += " (an unused code: the designs agree on the sequence)"
-    ev = [f"clock 0: code {c} ({b.name}: {trace[0].other_code}), inputs {inputs_text(None, inputs)}",
-          f"clock 1: {a.name} goes to {trace[1].code}, {b.name} to {trace[1].other_code}"]
+    ev = [f"clock 0: code {f(c)} ({b.name}: {f(trace[0].other_code)}), inputs {inputs_text(None, inputs)}",
+          f"clock 1: {a.name} goes to {f(trace[1].code)}, {b.name} to {f(trace[1].other_code)}"]
     if outs:
         ev.append("outputs that differ at clock 0: " + ", ".join(outs))
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev + lines)
@@ -296,7 +301,12 @@ def _prove_after(check: Check, claim: Claim, opts: Options, budget: Budget) -> R
     summary = (f"output{'s' if len(outs) > 1 else ''} {', '.join(outs)} of {a.name} and {b.name} differ{'' if len(outs) > 1 else 's'}"
                f" at clock {trace[-1].clock} (the condition applied at clock 0)")
     ev = [f"clock 0: any state, inputs meeting the condition ({inputs_text(None, ra.inputs)})"]
-    ev += [f"clock {t.clock}: code {t.code} ({b.name}: {t.other_code}), inputs {inputs_text(None, t.inputs or {})}" for t in trace[1:]]
+    wb = len(b.model.states)
+
+    def f(code: Optional[int], width: int) -> str:
+        return "-" if code is None else code_and_decimal(code, width, opts.radix)
+    ev += [f"clock {t.clock}: code {f(t.code, check.width)} ({b.name}: {f(t.other_code, wb)}), "
+           f"inputs {inputs_text(None, t.inputs or {})}" for t in trace[1:]]
     ev.append(f"outputs that differ at clock {trace[-1].clock}: {', '.join(outs)}")
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev)
 

@@ -18,7 +18,7 @@ tails at any width.
 
 from __future__ import annotations
 
-from typing import Optional
+from typing import Callable, Optional
 
 from ..elab import Check, Claim
 from ..engines import explicit as X
@@ -30,7 +30,7 @@ from ..errors import InputError
 from ..engines.cascade import Exploration, never_settling
 from ..model.events import EventModel
 from .clocking import events_json, order_lines, settle_order, state_of, warning_lines
-from .common import Options, make_result, replay, stepping
+from .common import Options, code_and_decimal, code_text, make_result, replay, stepping
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 TRACE_LIMIT = 4096
@@ -100,7 +100,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
             return res
     if engine == "explicit":
         try:
-            res = _explicit(check, claim, cond, budget, opts.solver)
+            res = _explicit(check, claim, cond, budget, opts.solver, opts.radix)
         except OutOfBudget as e:
             res = make_result(check, claim, OPEN, "ran out of time in the exhaustive search",
                               details={"engine": "explicit", "worst": None, "locked": None, "depth": e.depth})
@@ -140,11 +140,12 @@ def _never_settles(check: Check, claim: Claim, e: "X.NeverSettles") -> Result:
                                              "warnings": warning_lines(order)}, evidence=lines)
 
 
-def _arrow(codes: list[int], limit: int = 24) -> str:
+def _arrow(codes: list[int], limit: int = 24, fmt: Callable[[int], str] = str) -> str:
+    """A run of codes, ``a -> b -> c``; a long one shows its ends and says how many it left out."""
     if len(codes) <= limit:
-        return " -> ".join(str(c) for c in codes)
-    head = " -> ".join(str(c) for c in codes[:limit // 2])
-    tail = " -> ".join(str(c) for c in codes[-limit // 2:])
+        return " -> ".join(fmt(c) for c in codes)
+    head = " -> ".join(fmt(c) for c in codes[:limit // 2])
+    tail = " -> ".join(fmt(c) for c in codes[-limit // 2:])
     return f"{head} -> ... ({len(codes) - limit} more) ... -> {tail}"
 
 
@@ -168,12 +169,34 @@ def locked_listing(sets: list[list[int]]) -> tuple[list[list[int]], bool]:
     return out, False
 
 
-def set_lines(sets: list[list[int]]) -> list[str]:
-    """The first few sets of codes as readable lines, each cut short when long."""
-    return ["  {" + ", ".join(map(str, s[:32])) + (", ..." if len(s) > 32 else "") + "}" for s in sets[:8]]
+SETS_SHOWN = 8
+"""Locked sets a readable report lists (``set_lines``); the JSON report lists them all."""
+
+CODES_SHOWN = 32
+"""Codes of one locked set a readable report lists."""
 
 
-def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str) -> Result:
+def set_lines(sets: list[list[int]], fmt: Callable[[int], str] = str, limit: int = SETS_SHOWN,
+              more: str = "--json lists every one") -> list[str]:
+    """The first ``limit`` sets of codes as readable lines, each cut short when long; every cut
+    says how much was shown of how much, and ``more`` says how to see the rest."""
+    lines = []
+    for s in sets[:limit]:
+        cut = len(s) > CODES_SHOWN
+        lines.append("  {" + ", ".join(fmt(c) for c in s[:CODES_SHOWN])
+                     + (f", ... ({CODES_SHOWN} of {len(s)} codes shown)" if cut else "") + "}")
+    if len(sets) > limit:
+        lines.append(f"  ({limit} of {len(sets)} locked sets shown; {more})")
+    return lines
+
+
+def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str, radix: str = "dec") -> Result:
+    def fmt(c: int) -> str:
+        return code_text(c, check.width, radix)
+
+    def one(c: int) -> str:
+        return code_and_decimal(c, check.width, radix)
+
     a = X.explore(check.space, cond, budget, solver)
     g = a.graph
     seq = check.sequence
@@ -196,8 +219,8 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
         n_locked = int((a.steps < 0).sum())
         evidence.append(f"locked: {len(sets)} set(s) of unused codes hold a cycle (sizes {_sizes(sizes)}); "
                         f"{n_locked} unused code(s) can stay unused forever")
-        evidence.extend(set_lines(sets))
-        evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + _arrow(codes))
+        evidence.extend(set_lines(sets, fmt))
+        evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + _arrow(codes, fmt=fmt))
         if not complete:
             details["trace_truncated"] = True
         res = make_result(check, claim, REFUTED, f"locked: {len(sets)} cycle set(s) among unused codes",
@@ -205,9 +228,9 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
     elif claim.within is not None and a.worst is not None and a.worst > claim.within:
         codes, rows = X.worst_run(a, a.worst_code, claim.within)
         trace = _replayed(check, codes, [g.rows.full[r] for r in rows])
-        evidence.append(f"code {a.worst_code} is still unused after {claim.within} clock(s): {_arrow(codes)}")
-        evidence.append(f"worst: {a.worst} clocks (from code {a.worst_code})")
-        res = make_result(check, claim, REFUTED, f"code {a.worst_code} needs {a.worst} clocks, more than {claim.within}",
+        evidence.append(f"code {one(a.worst_code)} is still unused after {claim.within} clock(s): {_arrow(codes, fmt=fmt)}")
+        evidence.append(f"worst: {a.worst} clocks (from code {one(a.worst_code)})")
+        res = make_result(check, claim, REFUTED, f"code {one(a.worst_code)} needs {a.worst} clocks, more than {claim.within}",
                           trace=trace, details=details, evidence=evidence)
     else:
         if a.worst_code is not None:
@@ -215,18 +238,24 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
             codes, rows = X.worst_run(a, a.worst_code, min(a.worst, EVIDENCE_RUN))
             _replayed(check, codes, [g.rows.full[r] for r in rows])
             more = "" if a.worst <= EVIDENCE_RUN else f" -> ... ({a.worst - EVIDENCE_RUN} more clocks)"
-            evidence.append(f"worst: {a.worst} clock(s), from code {a.worst_code}: {_arrow(codes)}{more}")
+            evidence.append(f"worst: {a.worst} clock(s), from code {one(a.worst_code)}: {_arrow(codes, fmt=fmt)}{more}")
         else:
             evidence.append("no unused codes: worst 0")
         res = make_result(check, claim, PROVED, f"no lockout; worst {a.worst} clock(s)", details=details, evidence=evidence)
     if res.status == REFUTED:
         plan = repair.repair_plan(a, seq.first(), claim.within, budget, solver=solver)
-        res.advice = repair.plan_lines(plan)
+        res.advice = repair.plan_lines(plan, fmt)
     return res
 
 
 def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
          s: Optional[SatSearch] = None) -> Result:
+    def fmt(c: int) -> str:
+        return code_text(c, check.width, opts.radix)
+
+    def one(c: int) -> str:
+        return code_and_decimal(c, check.width, opts.radix)
+
     if s is None:
         s = sat_search(check.space, cond, claim.within, budget, opts.solver)
     known = s.status == "proved" or (s.status == "slow" and s.worst is not None)
@@ -247,12 +276,12 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
         details["locked_complete"] = False  # one cycle found; other locked sets may exist
         details["worst"] = None
         loop = s.codes[s.codes.index(s.codes[-1]):]
-        evidence.append(f"engine sat: a locked cycle of {len(s.cycle)} unused code(s): {_arrow(loop)}")
-        evidence.append(f"run: {_arrow(s.codes)}")
+        evidence.append(f"engine sat: a locked cycle of {len(s.cycle)} unused code(s): {_arrow(loop, fmt=fmt)}")
+        evidence.append(f"run: {_arrow(s.codes, fmt=fmt)}")
         evidence.append("the SAT engine shows one locked cycle; others may exist")
         res = make_result(check, claim, REFUTED, f"locked: a cycle of {len(s.cycle)} unused code(s)",
                           trace=trace, details=details, evidence=evidence)
-        res.advice = [f"repair hint: redirecting code {s.cycle[0]} into the sequence (next code {seq.first()}) "
+        res.advice = [f"repair hint: redirecting code {one(s.cycle[0])} into the sequence (next code {one(seq.first())}) "
                       "breaks this cycle; the explicit engine would name a set for every lock"]
         return res
     if s.status == "slow":
@@ -265,15 +294,15 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
             evidence.append(f"worst: at least {s.worst_at_least} clocks (the search for the exact worst stopped there)")
         else:
             evidence.append(f"worst: {s.worst} clocks")
-        evidence.append(f"code {codes[0]} is still unused after {n} clock(s): {_arrow(codes)}")
-        res = make_result(check, claim, REFUTED, f"code {codes[0]} needs more than {n} clocks",
+        evidence.append(f"code {one(codes[0])} is still unused after {n} clock(s): {_arrow(codes, fmt=fmt)}")
+        res = make_result(check, claim, REFUTED, f"code {one(codes[0])} needs more than {n} clocks",
                           trace=trace, details=details, evidence=evidence)
-        res.advice = [f"repair hint: redirecting code {codes[n - 1] if n >= 1 else codes[0]} into the sequence "
-                      f"(next code {seq.first()}) shortens this run to {max(n, 1)} clock(s)"]
+        res.advice = [f"repair hint: redirecting code {one(codes[n - 1] if n >= 1 else codes[0])} into the sequence "
+                      f"(next code {one(seq.first())}) shortens this run to {max(n, 1)} clock(s)"]
         return res
     if s.worst_codes:
         _replayed(check, s.worst_codes, s.worst_inputs)
-        evidence.append(f"worst: {s.worst} clock(s), from code {s.worst_codes[0]}: {_arrow(s.worst_codes)}")
+        evidence.append(f"worst: {s.worst} clock(s), from code {one(s.worst_codes[0])}: {_arrow(s.worst_codes, fmt=fmt)}")
     else:
         evidence.append("no unused codes: worst 0")
     evidence.append(f"engine sat: no run of {s.depth + 1} unused codes exists (k-induction closed at depth {s.depth})")

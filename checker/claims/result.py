@@ -50,6 +50,7 @@ class Result:
     details: dict = field(default_factory=dict)
     evidence: list[str] = field(default_factory=list)
     advice: list[str] = field(default_factory=list)
+    text: str = ""  # the claim as written, a label for the readable report (not in the JSON)
 
     def to_json(self) -> dict:
         d: dict[str, Any] = {"file": self.file, "check": self.check, "claim": self.claim,

@@ -70,6 +70,7 @@ class Claim:
     mode: Optional[str] = None  # equal: None, 'sequence', 'after'
     other_cond: Optional[int] = None  # equal after: COND built in the other design too
     signals: list[tuple[str, int]] = field(default_factory=list)  # glitchfree: (bit name, literal)
+    text: str = ""  # the claim as written (``recover within 4 when tick``), from the syntax tree
 
 
 @dataclass

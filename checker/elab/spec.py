@@ -11,6 +11,7 @@ from typing import Optional
 
 from ..errors import InputError, Pos
 from ..lang import parse as P
+from ..lang.unparse import unparse_stmt
 from .bits import BExpr, bitwise, bnot, build, gate, kind_text, num_bits, select_bits
 from .design import Check, Claim, Design, Rule
 from .sequence import SequenceError, make_sequence
@@ -262,6 +263,8 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design], part_only: Opti
                 cl.cond = cond_scope.bit(s.cond, "an equal condition")
                 cl.other_cond = _Scope(other, "cond").bit(s.cond, "an equal condition")
             claims.append(cl)
+        if claims and claims[-1].pos is s.pos and not claims[-1].text:
+            claims[-1].text = unparse_stmt(s)
     chk.claims = claims
     return chk
 

@@ -12,7 +12,7 @@ on the redirected graph to say the worst afterwards.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Optional
+from typing import Callable, Optional
 
 import numpy as np
 
@@ -219,8 +219,8 @@ def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
     return RepairPlan(codes, target, exact, table, None if after is None else after.worst, extra, notes)
 
 
-def plan_lines(plan: RepairPlan) -> list[str]:
-    """The repair plan as text lines for the readable report."""
+def plan_lines(plan: RepairPlan, fmt: Callable[[int], str] = str) -> list[str]:
+    """The repair plan as text lines for the readable report; ``fmt`` shows a code."""
     every = plan.codes + plan.for_within
     if not every:
         return []
@@ -228,12 +228,12 @@ def plan_lines(plan: RepairPlan) -> list[str]:
     if plan.codes:
         what = "the smallest set" if plan.exact else "a set"
         lines.append(f"repair hint: redirecting {len(plan.codes)} unused code(s) into the sequence "
-                     f"({what} that breaks every lock): {_short(plan.codes)}")
+                     f"({what} that breaks every lock): {_short(plan.codes, fmt=fmt)}")
     if plan.for_within:
-        lines.append(f"repair hint: redirecting {len(plan.for_within)} more code(s) meets the clock bound: {_short(plan.for_within)}")
+        lines.append(f"repair hint: redirecting {len(plan.for_within)} more code(s) meets the clock bound: {_short(plan.for_within, fmt=fmt)}")
     lines.append("  code -> next now -> proposed next")
     for c, now, new in plan.table:
-        lines.append(f"  {c} -> {'/'.join(str(x) for x in now)} -> {new}")
+        lines.append(f"  {fmt(c)} -> {'/'.join(fmt(x) for x in now)} -> {fmt(new)}")
     if len(every) > len(plan.table):
         lines.append(f"  ... {len(every) - len(plan.table)} more")
     if plan.worst_after is not None:
@@ -242,6 +242,6 @@ def plan_lines(plan: RepairPlan) -> list[str]:
     return lines
 
 
-def _short(codes: list[int], limit: int = 16) -> str:
-    s = ", ".join(str(c) for c in codes[:limit])
+def _short(codes: list[int], limit: int = 16, fmt: Callable[[int], str] = str) -> str:
+    s = ", ".join(fmt(c) for c in codes[:limit])
     return s + (f", ... ({len(codes)} in all)" if len(codes) > limit else "")

@@ -273,6 +273,17 @@ def format_compare(res: dict) -> str:
     return "\n".join(compare_lines(res))
 
 
+CUBES_SHOWN = 32
+"""Cubes of one difference the readable report lists; ``--json`` lists them all."""
+
+
+def _cube_lines(cubes: list[dict]) -> list[str]:
+    lines = [f"    {c['text']}" for c in cubes[:CUBES_SHOWN]]
+    if len(cubes) > CUBES_SHOWN:
+        lines.append(f"    ({CUBES_SHOWN} of {len(cubes)} cubes shown; --json lists every one)")
+    return lines
+
+
 def compare_lines(res: dict) -> list[str]:
     """A readable rendering of :func:`compare_files`' result."""
     lines = [f"{u['file']}: open: {u['message']}" for u in res.get("unread", [])]
@@ -285,11 +296,11 @@ def compare_lines(res: dict) -> list[str]:
             lines.append(f"  next state differs for: {', '.join(d['next_differs']) or '-'}; outputs differ: {', '.join(d['outputs_differ']) or '-'}")
             lines.append(f"  differing states and inputs ({d['cube_count']} cube{'s' if d['cube_count'] != 1 else ''}"
                          f"{'' if d['complete'] else ', more not listed'}):")
-            lines += [f"    {c['text']}" for c in d["cubes"][:32]]
+            lines += _cube_lines(d["cubes"])
         for s in d.get("sequences", []):
             lines.append(f"  on the sequence of check {s['check']} in {s['file']} ({s['sequence']}): {'equal' if s['equal'] else 'differs'}")
             if not s["equal"]:
-                lines += [f"    {c['text']}" for c in s["cubes"][:32]]
+                lines += _cube_lines(s["cubes"])
     for n in res["only_old"]:
         lines.append(f"design {n}: only in OLD")
     for n in res["only_new"]:
