@@ -159,8 +159,8 @@ def test_cli_open_claim_fails_unless_open_ok(tmp_path, capsys, monkeypatch):
     from checker import api
     real = api.check_files
 
-    def opened(paths, opts=None, **kw):  # every claim of the good file, made open as a timeout would
-        run = real(paths, opts, **kw)
+    def opened(paths, opts=None, *args, **kw):  # every claim of the good file, made open as a timeout would
+        run = real(paths, opts, *args, **kw)
         for r in run.results:
             r.status = OPEN
         return run
