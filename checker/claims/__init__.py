@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import multiprocessing as mp
 import time
+from dataclasses import replace
 from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
 from typing import Callable
@@ -53,7 +54,9 @@ def run_claims(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int = 1) -
 
     Workers are forked from this process, so the files are read and elaborated
     once, here; each claim still runs under its own budget. A worker that dies
-    leaves its claim ``open`` with what happened, never a hang or a lost result.
+    breaks the pool; every claim it left without an answer then runs again on
+    its own, in a child process of its own, so only the claim whose process
+    dies is reported ``open`` with what happened: never a hang or a lost result.
     """
     if jobs <= 1 or len(pairs) <= 1:
         return [run_claim(c, cl, opts) for c, cl in pairs]
@@ -66,12 +69,20 @@ def run_claims(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int = 1) -
             for (check, claim), f in zip(pairs, futures):
                 try:
                     results.append(f.result())
-                except BrokenProcessPool as e:
-                    results.append(make_result(check, claim, OPEN, f"the worker running this claim stopped: "
-                                                                   f"{e or 'killed'}", details={"depth": None}))
+                except BrokenProcessPool:
+                    results.append(_alone(check, claim, opts))
     finally:
         _WORK = []
     return results
+
+
+def _alone(check: Check, claim: Claim, opts: Options) -> Result:
+    """One claim again, in a child process of its own (its pool broke): open if that child dies too."""
+    try:
+        return run_claim(check, claim, replace(opts, isolate=True))
+    except RuntimeError as e:  # run_bounded: the child ended without an answer
+        return make_result(check, claim, OPEN, f"the process proving this claim stopped: {e}",
+                           details={"depth": None})
 
 
 def run_check(check: Check, opts: Options | None = None) -> list[Result]:
