@@ -33,6 +33,7 @@ from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
 from .fileio import collected, output_transaction, read_limited, shown, write_output
 from .lang.parse import parse_expr
+from .model.events import unpacked
 from .model.simulate import Step, code_value, run, state_of_code
 from .tools import compare as _compare
 from .tools.codemap import MapDoc, recovery_map
@@ -336,8 +337,7 @@ class SimRun:
                  "outputs": s.outputs}
             if not m.synchronous:
                 e["events"] = [{"flop": m.states[f.flop], "value": f.value, "depth": f.depth, "time": t,
-                                "code": sum(((f.code >> i) & 1) << (len(self.code) - 1 - k)
-                                            for k, i in enumerate(self.code))} for t, f in s.events]
+                                "code": unpacked(self.code, f.code)} for t, f in s.events]
                 if not s.settled:
                     e["settled"] = False
             out.append(e)

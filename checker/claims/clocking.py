@@ -19,7 +19,7 @@ from ..engines.budget import Budget, OutOfBudget
 from ..engines.cascade import CascadeLimit, Exploration, Outcome, settling_in
 from ..errors import InputError
 from ..model.aig import evaluate
-from ..model.events import Cascade, EventModel, Firing
+from ..model.events import Cascade, EventModel, Firing, packed, unpacked
 from .common import ReplayError, code_radix, code_text, make_result
 from .result import OPEN, Result
 
@@ -32,16 +32,12 @@ MAX_INPUT_BITS = 16
 
 def state_of(check: Check, code: int) -> int:
     """The event model's state integer of a check code."""
-    w = check.width
-    return sum(((code >> (w - 1 - k)) & 1) << i for k, i in enumerate(check.code))
+    return packed(check.code, code)
 
 
 def code_of(check: Check, state: int) -> int:
     """The check code of an event-model state integer."""
-    v = 0
-    for i in check.code:
-        v = (v << 1) | ((state >> i) & 1)
-    return v
+    return unpacked(check.code, state)
 
 
 def explicit_limit(check: Check) -> Optional[str]:

@@ -9,7 +9,7 @@ from ..elab import Check, Claim, Design
 from ..elab.reference import Reference
 from ..model import FALSE, TRUE
 from ..engines.sat import DEFAULT_SOLVER
-from ..model.events import EventModel
+from ..model.events import EventModel, packed, unpacked
 from ..model.simulate import code_value, state_of_code
 from .result import Result, TraceEntry
 from ..errors import InputError
@@ -166,16 +166,15 @@ def replay_events(design: Design, idx: Sequence[int], trace: Sequence[TraceEntry
     """
     model = design.model
     index = {n: i for i, n in enumerate(model.states)}
-    w = len(idx)
     ref = reference_of(design)
     if ref is not None:
         _compare_clocks(design, ref)
 
     def to_state(c: int) -> int:
-        return sum(((c >> (w - 1 - k)) & 1) << i for k, i in enumerate(idx))
+        return packed(idx, c)
 
     def to_code(s: int) -> int:
-        return sum(((s >> i) & 1) << (w - 1 - k) for k, i in enumerate(idx))
+        return unpacked(idx, s)
 
     for k, entry in enumerate(trace):
         if entry.events is None:

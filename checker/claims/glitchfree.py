@@ -27,7 +27,7 @@ from ..elab import Check, Claim
 from ..engines.budget import Budget, OutOfBudget
 from ..engines.cascade import CascadeLimit, Exploration, glitching
 from ..engines.sat import Encoder, Sat, Unrolling
-from ..model.events import EventModel, Firing
+from ..model.events import EventModel, Firing, state_int
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, warning_lines)
 from .common import Options, ReplayError, inputs_text, make_result, reference_of, replay
@@ -111,7 +111,7 @@ def _sync(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
         first = {model.states[j] for j in range(len(s)) if sat.value(m1[j])}
         second = {model.states[j] for j in range(len(s)) if sat.value(m2[j])}
     em = EventModel(model, inputs)
-    start = sum((state[n] & 1) << i for i, n in enumerate(model.states))
+    start = state_int(model.states, state)
     root = em.edge(start)
     rank = {n: (0 if n in first else 1 if n in second else 2) for n in model.states}
     order_flops = sorted((c.flop for c in root.pending), key=lambda j: (rank[model.states[j]], j))

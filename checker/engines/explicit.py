@@ -39,7 +39,7 @@ from ..errors import InputError
 from ..model import Aig, evaluate
 from .sat import DEFAULT_SOLVER, Encoder, Sat
 from ..model.simulate import eval_states
-from ..model.events import EventModel
+from ..model.events import EventModel, packed, unpacked
 from ..model.space import CodeSpace
 from .cascade import Exploration
 
@@ -646,13 +646,13 @@ def build_settled_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] =
             if c % 256 == 0:
                 _tick(budget, 0)
             ex = Exploration(em)
-            _, out = ex.explore(_state_int(space, c))
+            _, out = ex.explore(packed(space.code, c))
             if out.never:
                 if not member[c]:
                     raise NeverSettles(c, rows.full[r])
                 succ.append([c])
                 continue
-            succ.append(sorted(_code_int(space, s) for s in out.settled))
+            succ.append(sorted(unpacked(space.code, s) for s in out.settled))
         per_row.append(succ)
     k = max(len(s) for succ in per_row for s in succ)
     table = np.empty((len(rows) * k, n), dtype=np.uint32)
@@ -663,18 +663,6 @@ def build_settled_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] =
             values.append(rows.values[r])
             full.append(rows.full[r])
     return Graph.of(w, table, Rows(rows.names, values, full), member)
-
-
-def _state_int(space: CodeSpace, code: int) -> int:
-    w = space.width
-    return sum(((code >> (w - 1 - k)) & 1) << i for k, i in enumerate(space.code))
-
-
-def _code_int(space: CodeSpace, state: int) -> int:
-    v = 0
-    for i in space.code:
-        v = (v << 1) | ((state >> i) & 1)
-    return v
 
 
 # --- runs ------------------------------------------------------------------------

@@ -19,12 +19,32 @@ order the simulator shows (every change of depth k fires at time k).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Optional
+from typing import Optional, Sequence
 
 from .aig import evaluate
 from .circuit import Model
 
 CLOCK, CLEAR, PRESET = "clock", "clear", "preset"
+
+
+def packed(code: Sequence[int], value: int) -> int:
+    """The state integer (bit ``i`` is ``model.states[i]``) whose bits ``code`` (state
+    indices, most significant first) spell ``value``; bits outside the code are 0."""
+    w = len(code)
+    return sum(((value >> (w - 1 - k)) & 1) << i for k, i in enumerate(code))
+
+
+def state_int(states: Sequence[str], values: dict[str, int]) -> int:
+    """The state integer of a state given as bit name -> 0/1 (``states``: the model's state names)."""
+    return sum((values[s] & 1) << i for i, s in enumerate(states))
+
+
+def unpacked(code: Sequence[int], state: int) -> int:
+    """The value that bits ``code`` (state indices, most significant first) spell in a state integer."""
+    v = 0
+    for i in code:
+        v = (v << 1) | ((state >> i) & 1)
+    return v
 
 
 @dataclass(frozen=True)

@@ -14,7 +14,7 @@ import numpy as np
 
 from .aig import evaluate
 from .circuit import Model
-from .events import EventModel, Firing, in_order, unit_delay
+from .events import EventModel, Firing, in_order, state_int, unit_delay
 
 
 @dataclass
@@ -53,7 +53,7 @@ def run(model: Model, start: dict[str, int], inputs: Sequence[dict[str, int]], c
         nxt, outs, faults = model.step(state, inp)
         step = Step(clock, dict(state), inp, outs, faults)
         if not model.synchronous:
-            code = sum((state[s] & 1) << i for i, s in enumerate(model.states))
+            code = state_int(model.states, state)
             em = EventModel(model, inp)
             given = orders[clock] if orders is not None and clock < len(orders) else None
             if given is not None:

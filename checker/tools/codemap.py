@@ -27,7 +27,7 @@ from ..engines.budget import Budget, OutOfBudget
 from ..engines.sat import satisfiable
 from ..engines.unused_runs import sat_search
 from ..errors import InputError
-from ..model.events import EventModel
+from ..model.events import EventModel, packed
 
 PATH_LIMIT = 64
 """Most codes in one entry's ``path`` (then ``"path_truncated": true``)."""
@@ -132,9 +132,8 @@ def _mark_unstable(check: Check, a: X.Analysis, entries: list[dict]) -> None:
     """Flag each listed code in which an asynchronous clear or preset holds under some admissible
     input: such a code is not stable, and moves on within the clock that starts there."""
     models = [EventModel(check.design.model, full) for full in a.graph.rows.full]
-    w = check.width
     for e in entries:
-        state = sum(((e["code"] >> (w - 1 - k)) & 1) << i for k, i in enumerate(check.code))
+        state = packed(check.code, e["code"])
         if any(em.holds(state) for em in models):
             e["unstable"] = True
 
