@@ -13,6 +13,7 @@ from __future__ import annotations
 from ..elab import Check, Claim
 from ..fileio import atomic_output, shown, write_output
 from ..model import TRUE, Aig
+from .event_aiger import EVENT_KINDS, event_circuit
 from .netlists import Circuit, aiger_bytes
 from ..engines.sat import Sat, Unrolling
 from ..claims.always import build_always
@@ -157,24 +158,26 @@ def _counter(aig: Aig, c: Circuit, name: str, limit: int) -> int:
 def export_aiger(check: Check, claim: Claim, path: str) -> dict:
     """Write ``claim`` of ``check`` as an AIGER circuit (``.aag`` ASCII or ``.aig`` binary)."""
     designs = [check.design] + ([claim.other] if claim.other is not None else [])
-    if not all(d.model.synchronous for d in designs):
-        raise ValueError("a claim about an asynchronous design is decided order by order; "
-                         "it cannot be written as AIGER yet")
-    from pathlib import Path
-
     model = check.design.model
     seq = check.sequence
     assert seq is not None
+    where = f"{claim.pos.file}:{claim.pos.line}"
+    head = [f"countersign: check {check.name} of design {check.design.name}, {claim.kind} claim at {where}",
+            f"sequence: {seq.describe()}",
+            "code, most significant first: " + " ".join(model.states[i] for i in check.code)]
+    if claim.kind in ("settle", "glitchfree") or (claim.kind in EVENT_KINDS and not model.synchronous):
+        c, more = event_circuit(check, claim)
+        c.comments = head + more
+        return _write(c, check, claim, path)
+    if not all(d.model.synchronous for d in designs) and claim.kind != "always":
+        raise ValueError("an equal claim about an asynchronous design has no AIGER form: countersign does not "
+                         "compare asynchronous designs yet")
     aig = Aig()
     c = Circuit(aig)
     ins = {n: aig.leaf(n) for n in model.inputs}
     c.inputs = list(ins.items())
     st = {n: aig.leaf(n) for n in model.states}
     member_src = seq.member(model.aig, check.code_lits())
-    where = f"{claim.pos.file}:{claim.pos.line}"
-    head = [f"countersign: check {check.name} of design {check.design.name}, {claim.kind} claim at {where}",
-            f"sequence: {seq.describe()}",
-            "code, most significant first: " + " ".join(model.states[i] for i in check.code)]
 
     def free_latches(nexts: list[int]) -> None:
         for (n, l), nx in zip(st.items(), nexts):
@@ -281,6 +284,13 @@ def export_aiger(check: Check, claim: Claim, path: str) -> dict:
     else:
         raise ValueError(f"a {claim.kind} claim cannot be written as AIGER yet")
     c.comments = head
+    return _write(c, check, claim, path)
+
+
+def _write(c: Circuit, check: Check, claim: Claim, path: str) -> dict:
+    """Write circuit ``c`` of a claim as AIGER in the form of ``path``'s extension; returns its statistics."""
+    from pathlib import Path
+
     ext = Path(path).suffix.lower()
     data = aiger_bytes(c, binary=ext == ".aig")
     write_output(path, data)
