@@ -39,7 +39,7 @@ from .tools import compare as _compare
 from .tools.codemap import MapDoc, recovery_map
 from .tools.export import export_aiger, export_cnf
 from .tools.loading import LoadTimeout, load_within
-from .tools.netlists import FORMATS as DESIGN_FORMATS, write_design
+from .tools.netlists import FORMATS as DESIGN_FORMATS, NoForm, write_design
 from .tools.stategraph import StateGraph, state_graph
 
 __all__ = [
@@ -552,11 +552,10 @@ def _export_design(path: str, design: str, output: str) -> dict:
     if Path(output).suffix.lower() not in DESIGN_FORMATS:
         raise _cmdline(f"a design is written as {', '.join(DESIGN_FORMATS)}: give -o a name ending in one "
                        f"of those, not '{output}'")
-    if not d.model.synchronous and Path(output).suffix.lower() != ".cnl":
-        raise _cmdline(f"design {d.name} is asynchronous (flops clocked by flops, or an asynchronous clear or "
-                       f"preset); the netlist writers keep only synchronous circuits, so write it as .cnl")
     try:
         return write_design(d, output)
+    except NoForm as e:
+        raise InputError(d.pos, str(e)) from None
     except OSError as e:
         raise _cmdline(f"cannot write '{output}': {e.strerror or e}") from None
 

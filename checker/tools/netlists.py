@@ -24,7 +24,7 @@ from ..fileio import write_output
 from ..lang import parse as P
 from ..lang.netlist import Vectors, fresh_prefix
 from ..lang.unparse import unparse_file
-from ..model import Aig
+from ..model import FALSE, Aig
 
 FORMATS = (".aag", ".aig", ".blif", ".v", ".cnl")
 
@@ -44,6 +44,16 @@ class Circuit:
     bad: list[tuple[str, int]] = field(default_factory=list)
     justice: list[tuple[str, list[int]]] = field(default_factory=list)
     comments: list[str] = field(default_factory=list)
+    clocks: list[Optional[tuple[str, int]]] = field(default_factory=list)  # per latch: None, or (edge, latch index)
+    async_clear: list[int] = field(default_factory=list)  # per latch: literal (FALSE: none)
+    async_preset: list[int] = field(default_factory=list)
+    declared_async: bool = False  # the design is asynchronous even where its clears are constants
+
+    @property
+    def synchronous(self) -> bool:
+        """Every latch on the system clock, no asynchronous clear or preset."""
+        return (not self.declared_async and all(k is None for k in self.clocks)
+                and not any(self.async_clear) and not any(self.async_preset))
 
 
 def design_circuit(design: Design) -> Circuit:
@@ -58,11 +68,19 @@ def design_circuit(design: Design) -> Circuit:
         c.inputs.append((n, leaf[l >> 1]))
     for n, l in zip(m.states, m.state_lits):
         leaf[l >> 1] = aig.leaf(n)
-    roots = m.aig.copy_into(aig, list(m.next_lits) + list(m.output_lits), leaf)
+    n = len(m.states)
+    clear = list(m.async_clear) or [FALSE] * n
+    preset = list(m.async_preset) or [FALSE] * n
+    roots = m.aig.copy_into(aig, list(m.next_lits) + list(m.output_lits) + clear + preset, leaf)
     inits = initial_values(design)
-    for k, (n, l) in enumerate(zip(m.states, m.state_lits)):
-        c.latches.append((n, leaf[l >> 1], roots[k], inits.get(n)))
-    c.outputs = list(zip(m.outputs, roots[len(m.states):]))
+    for k, (name, l) in enumerate(zip(m.states, m.state_lits)):
+        c.latches.append((name, leaf[l >> 1], roots[k], inits.get(name)))
+    no = len(m.outputs)
+    c.outputs = list(zip(m.outputs, roots[n:n + no]))
+    c.async_clear = roots[n + no:2 * n + no]
+    c.async_preset = roots[2 * n + no:]
+    c.clocks = list(m.clocks) or [None] * n
+    c.declared_async = m.declared_async
     c.comments = [f"countersign: design {design.name} from {design.pos.file}"]
     return c
 
@@ -143,9 +161,28 @@ def aiger_bytes(c: Circuit, binary: bool) -> bytes:
 
 
 # --- BLIF -------------------------------------------------------------------------
+class NoForm(ValueError):
+    """The design has no form in the format asked for (the message says why)."""
+
+
+def _async_flops(c: Circuit) -> list[str]:
+    return [n for (n, *_), cl, pr in zip(c.latches, c.async_clear, c.async_preset) if cl or pr]
+
+
 def blif_text(design: Design) -> str:
+    """The design as BLIF: one ``.names`` per AND gate; a flop on the system clock is a
+    ``.latch`` on the rising edge of the ``clock`` input, a ripple stage a ``.latch`` whose
+    control is the latch that clocks it (``re``/``fe``). Raises NoForm for an asynchronous
+    clear or preset, which ``.latch`` cannot say."""
     c = design_circuit(design)
     aig = c.aig
+    held = _async_flops(c)
+    if held or (c.declared_async and all(k is None for k in c.clocks)):
+        which = f" ({', '.join(held[:4])}{' ...' if len(held) > 4 else ''})" if held else ""
+        raise NoForm(f"design {design.name} has asynchronous clears or presets{which}; a BLIF .latch has "
+                     f"an edge and a control signal but no asynchronous clear or preset, so BLIF cannot "
+                     f"hold this design: write it as .v or .cnl")
+    system = [k is None for k in c.clocks]
     names = [n for n, _ in c.inputs] + [n for n, *_ in c.latches] + [n for n, _ in c.outputs]
     pre = fresh_prefix(names, "_n")
     clock = "clock" if "clock" not in names else fresh_prefix(names, "clock")
@@ -155,9 +192,11 @@ def blif_text(design: Design) -> str:
     for n, l, _, _ in c.latches:
         sig[l >> 1] = n
     out = [f"# countersign: design {design.name} from {design.pos.file}",
-           f"# {clock} is the system clock; every latch takes its rising edge",
+           f"# {clock} is the system clock; a latch on it takes its rising edge" + (
+               "; a latch controlled by another latch is a ripple stage on that latch's edge"
+               if not all(system) else ""),
            f".model {design.name}",
-           ".inputs " + " ".join([n for n, _ in c.inputs] + ([clock] if c.latches else [])),
+           ".inputs " + " ".join([n for n, _ in c.inputs] + ([clock] if any(system) else [])),
            ".outputs " + " ".join(n for n, _ in c.outputs)]
     roots = [nx for *_, nx, _ in c.latches] + [l for _, l in c.outputs]
     for n in aig.cone(roots):
@@ -181,7 +220,11 @@ def blif_text(design: Design) -> str:
     for k, (n, l, nx, reset) in enumerate(c.latches):
         d = f"{pre}d{k}"
         source(nx, d)
-        out.append(f".latch {d} {n} re {clock} {3 if reset is None else reset}")
+        if c.clocks[k] is None:
+            edge, control = "re", clock
+        else:
+            edge, control = ("re" if c.clocks[k][0] == "rise" else "fe"), c.latches[c.clocks[k][1]][0]
+        out.append(f".latch {d} {n} {edge} {control} {3 if reset is None else reset}")
     for n, l in c.outputs:
         if l >> 1 in sig and sig[l >> 1] == n and not l & 1:
             continue  # a flop of the same name is the output
@@ -238,11 +281,14 @@ def verilog_text(design: Design) -> str:
     for base, hi, lo, bits in out_groups:
         if base in flop_base and all(lit_of_out[b] == lit_of_state.get(b) for b in bits):
             reg_outs.add(base)
-    ports = [f"  input {clock}"] if c.latches else []
+    system = [k is None for k in c.clocks]
+    ports = [f"  input {clock}"] if any(system) else []
     ports += [f"  input {rng(hi, lo)}{_vname(b)}" for b, hi, lo, _ in in_groups]
     ports += [f"  output {'reg ' if b in reg_outs else ''}{rng(hi, lo)}{_vname(b)}" for b, hi, lo, _ in out_groups]
     lines = [f"// countersign: design {design.name} from {design.pos.file}",
-             f"// {clock} is the system clock; every flop takes its rising edge",
+             f"// {clock} is the system clock; a flop on it takes its rising edge" + (
+                 "" if c.synchronous else "; a flop clocked by another flop is a ripple stage; an always block "
+                 "with a reset event is an asynchronous clear or preset"),
              f"module {_vname(design.name)} (", ",\n".join(ports), ");"]
     inits = initial_values(design)
     for b, hi, lo, bits in st_groups:
@@ -255,7 +301,7 @@ def verilog_text(design: Design) -> str:
                 v = 2 * v + inits[x]
             init = f" = {len(bits)}'d{v}"
         lines.append(f"  reg {rng(hi, lo)}{_vname(b)}{init};")
-    roots = [nx for *_, nx, _ in c.latches] + [l for _, l in c.outputs]
+    roots = [nx for *_, nx, _ in c.latches] + [l for _, l in c.outputs] + c.async_clear + c.async_preset
     gates = []
     for n in aig.cone(roots):
         if aig.left[n] < 0:
@@ -263,16 +309,40 @@ def verilog_text(design: Design) -> str:
         sig[n] = f"{pre}{n}"
         gates.append(f"  wire {pre}{n} = {expr(aig.left[n])} & {expr(aig.right[n])};")
     lines += gates
+    # Asynchronous clears and presets: one wire each, read as a reset event of the flop's block.
+    # A design declared asynchronous with only constant clears keeps one constant clear.
+    resets: dict[int, list[tuple[str, str]]] = {}
+    keep_constant = c.declared_async and all(system) and not _async_flops(c)
+    for k, (cl, pr) in enumerate(zip(c.async_clear, c.async_preset)):
+        for tag, lit, value in (("clr", cl, "1'b0"), ("pre", pr, "1'b1")):
+            if lit != FALSE or (keep_constant and k == 0 and tag == "clr"):
+                lines.append(f"  wire {pre}{tag}{k} = {expr(lit)};")
+                resets.setdefault(k, []).append((f"{pre}{tag}{k}", value))
     for b, hi, lo, bits in out_groups:
         if b in reg_outs:
             continue
         for x in bits:
             lines.append(f"  assign {bit(x)} = {expr(lit_of_out[x])};")
-    if c.latches:
+    plain = [k for k in range(len(c.latches)) if system[k] and k not in resets]
+    if plain:
         lines.append(f"  always @(posedge {clock}) begin")
-        for n, l, nx, _ in c.latches:
+        for k in plain:
+            n, l, nx, _ = c.latches[k]
             lines.append(f"    {bit(n)} <= {expr(nx)};")
         lines.append("  end")
+    for k, (n, l, nx, _) in enumerate(c.latches):
+        if k in plain:
+            continue
+        if system[k]:
+            event = f"posedge {clock}"
+        else:
+            edge, j = c.clocks[k]
+            event = f"{'posedge' if edge == 'rise' else 'negedge'} {bit(c.latches[j][0])}"
+        rs = resets.get(k, [])
+        lines.append(f"  always @({' or '.join([event] + [f'posedge {w}' for w, _ in rs])})")
+        for m, (w, value) in enumerate(rs):
+            lines.append(f"    {'else ' if m else ''}if ({w}) {bit(n)} <= {value};")
+        lines.append(f"    {'else ' if rs else ''}{bit(n)} <= {expr(nx)};")
     lines.append("endmodule")
     return "\n".join(lines) + "\n"
 
@@ -352,14 +422,23 @@ def cnl_text(design: Design) -> str:
     lines.append(f"design {cname(design.name) if design.name not in taken else taken[design.name]}")
     if in_groups:
         lines.append("  in " + ", ".join(cname(b) + ("" if hi is None else f"[{hi}:{lo}]") for b, hi, lo, _ in in_groups))
-    roots = [nx for *_, nx, _ in c.latches] + [l for _, l in c.outputs]
+    roots = [nx for *_, nx, _ in c.latches] + [l for _, l in c.outputs] + c.async_clear + c.async_preset
     for n in aig.cone(roots):
         if aig.left[n] < 0:
             continue
         sig[n] = f"{pre}{n}"
         lines.append(f"  node {pre}{n} = {expr(aig.left[n])} & {expr(aig.right[n])}")
-    for n, l, nx, _ in c.latches:
-        lines.append(f"  flop {bit(n)} : D (d = {expr(nx)})")
+    keep_constant = c.declared_async and all(k is None for k in c.clocks) and not _async_flops(c)
+    for k, (n, l, nx, _) in enumerate(c.latches):
+        text = f"  flop {bit(n)} : D (d = {expr(nx)})"
+        if c.clocks[k] is not None:
+            edge, j = c.clocks[k]
+            text += f" clock {edge} {bit(c.latches[j][0])}"
+        if c.async_clear[k] != FALSE or (keep_constant and k == 0):
+            text += f" clear async {expr(c.async_clear[k])}"
+        if c.async_preset[k] != FALSE:
+            text += f" preset async {expr(c.async_preset[k])}"
+        lines.append(text)
     for b, hi, lo, bits in out_groups:
         if b in flop_base and all(lit_of_out[x] == lit_of_state.get(x) for x in bits):
             lines.append(f"  out {cname(b)}{'' if hi is None else f'[{hi}:{lo}]'} = {cname(b)}")
@@ -392,6 +471,11 @@ def write_design(design: Design, path: str) -> dict:
     ext = Path(path).suffix.lower()
     if ext in (".aag", ".aig"):
         c = design_circuit(design)
+        if not c.synchronous:
+            raise NoForm(f"design {design.name} is asynchronous (flops clocked by flops, or asynchronous clears "
+                         f"or presets); an AIGER latch steps on one implicit clock and has neither, so AIGER cannot "
+                         f"hold this design: write it as .v or .cnl, or export a claim about it (--claim), which "
+                         f"writes the event model as a synchronous AIGER circuit")
         data = aiger_bytes(c, binary=ext == ".aig")
     elif ext == ".blif":
         data = blif_text(design).encode("utf-8")
@@ -407,5 +491,5 @@ def write_design(design: Design, path: str) -> dict:
             "flops": len(m.states), "outputs": len(m.outputs), "bytes": len(data)}
 
 
-__all__ = ["Circuit", "FORMATS", "aiger_bytes", "blif_text", "cnl_text", "design_circuit", "verilog_text",
+__all__ = ["Circuit", "FORMATS", "NoForm", "aiger_bytes", "blif_text", "cnl_text", "design_circuit", "verilog_text",
            "write_design"]
