@@ -198,6 +198,7 @@ def blif_text(design: Design) -> str:
            f".model {design.name}",
            ".inputs " + " ".join([n for n, _ in c.inputs] + ([clock] if any(system) else [])),
            ".outputs " + " ".join(n for n, _ in c.outputs)]
+    out = [line for line in out if line not in (".inputs ", ".outputs ")]  # none: no line (an empty one is unusual)
     roots = [nx for *_, nx, _ in c.latches] + [l for _, l in c.outputs]
     for n in aig.cone(roots):
         if aig.left[n] < 0:
