@@ -33,6 +33,7 @@ from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedTok
 from ..errors import InputError, Pos
 from . import netlist as N
 from . import parse as P
+from .verilog_fast import parse_fast
 
 MAX_WIDTH = 4096
 
@@ -295,10 +296,12 @@ class VerilogReader:
 
     def read(self, text: str) -> P.File:
         _refuse_outside(self.path, text)
-        try:
-            tree = _parser().parse(text)
-        except UnexpectedInput as e:
-            raise self.syntax_error(text, e) from None
+        tree = parse_fast(text)  # the same tree, quicker; None sends the text to lark (and its errors)
+        if tree is None:
+            try:
+                tree = _parser().parse(text)
+            except UnexpectedInput as e:
+                raise self.syntax_error(text, e) from None
         mods: dict[str, Module] = {}
         for t in tree.children:
             m = self.interface(t)
