@@ -1,6 +1,7 @@
 """Reading and writing netlists: a bottling-line counter of N bits written to every format,
 read back and checked from .cnl; and an N-bit behavioural Verilog counter (q <= q + 1),
-whose adder the reader bit-blasts.
+whose adder the reader bit-blasts. The gate-level .v is also read through lark alone (the
+fast hand-written reader of checker/lang/verilog_fast.py stepping aside), side by side.
 
 Run: python tests/perf/bench_netlists.py   (prints a table, writes RESULTS_netlists.md)
 """
@@ -19,6 +20,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 from checker.claims import run_check  # noqa: E402
 from checker.claims.common import Options  # noqa: E402
 from checker.elab import load_namespace  # noqa: E402
+from checker.lang import verilog  # noqa: E402
 from checker.tools.netlists import FORMATS, write_design  # noqa: E402
 
 HERE = Path(__file__).resolve().parent
@@ -87,6 +89,16 @@ def main() -> None:
 
                 rows.append((str(n), ext, str(os.path.getsize(out)), f"{1000 * read:.0f} ms",
                              f"{1000 * timed(prove):.0f} ms"))
+                if ext == ".v":  # the same file through lark alone (the fast reader stepping aside)
+                    fast = verilog.parse_fast
+                    verilog.parse_fast = lambda text: None
+                    try:
+                        slow = timed(lambda: load_namespace(out))
+                        slow_prove = timed(prove)
+                    finally:
+                        verilog.parse_fast = fast
+                    rows.append((str(n), ".v, lark only", str(os.path.getsize(out)),
+                                 f"{1000 * slow:.0f} ms ({slow / read:.1f}x)", f"{1000 * slow_prove:.0f} ms"))
             v = os.path.join(tmp, f"vcount{n}.v")
             Path(v).write_text(verilog_counter(n))
             chk = os.path.join(tmp, f"vcheck{n}.cnl")
