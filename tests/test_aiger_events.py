@@ -267,3 +267,17 @@ def test_equal_on_an_asynchronous_design_is_refused_with_a_reason(tmp_path):
     with pytest.raises(InputError) as e:
         api.export_claim(str(p), "vent", claim.pos.line, str(tmp_path / "x.aag"))
     assert "asynchronous" in e.value.message
+
+
+def test_cli_writes_a_settle_claim_of_a_ripple_counter(tmp_path):
+    import json
+
+    from conftest import run_cli
+    out = tmp_path / "settle.aig"
+    r = run_cli("export", str(ROOT / "cases" / "bottle_ripple.cnl"), "tray", "--claim", "45", "-o", str(out), "--json")
+    assert r.returncode == 0, r.stderr
+    doc = json.loads(r.stdout)
+    assert doc["claim"] == "settle" and doc["property"] == "a bad-state output" and doc["format"] == "aiger"
+    d = parse_aiger(str(out), out.read_bytes())
+    assert any("bottle_ripple.cnl:45" in c for c in d.comments)
+    assert Brute(d).search()[0]  # settle within 3 of a 4-stage ripple counter is refuted (depth 4)
