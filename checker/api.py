@@ -31,6 +31,7 @@ from .elab.spec import condition_literal, flop_indices
 from .engines.budget import run_bounded
 from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
+from .words import count
 from .fileio import collected, output_transaction, read_limited, shown, write_output
 from .lang.parse import parse_expr
 from .model.events import unpacked
@@ -369,7 +370,7 @@ def input_settings(settings: Iterable[str], design: Design) -> dict[str, int]:
         if name in design.input_vectors:
             bitsn = design.input_vectors[name]
             if v < 0 or v >> len(bitsn):
-                raise _cmdline(f"--set {name}: {value} does not fit its {len(bitsn)} bits")
+                raise _cmdline(f"--set {name}: {value} does not fit its {count(len(bitsn), 'bit')}")
             for k, b in enumerate(bitsn):
                 fixed[b] = (v >> (len(bitsn) - 1 - k)) & 1
         elif name in design.model.inputs:

@@ -10,6 +10,7 @@ from tabulate import tabulate
 from ..claims.common import code_radix, code_text, inputs_text, trace_lines
 from ..claims.recover import set_lines
 from ..claims.result import OPEN, PROVED, REFUTED, Result
+from ..words import count, plural
 
 _MARK = {PROVED: "proved", REFUTED: "REFUTED", OPEN: "open"}
 
@@ -160,10 +161,11 @@ def map_lines(doc: dict, radix: str = "dec") -> list[str]:
     if doc.get("status") == "open":
         lines.append("undecided in the time given: worst unknown")
     elif doc["locked"]:
-        lines.append(f"locked: {len(doc['locked'])} set(s) of unused codes hold a cycle")
+        n = len(doc['locked'])
+        lines.append(f"locked: {count(n, 'set of unused codes')} {plural('holds', n, 'hold')} a cycle")
         lines.extend(set_lines(doc["locked"], lambda c: code_text(c, doc["width"], radix)))
     else:
-        lines.append(f"worst: {doc['worst']} clock(s)")
+        lines.append(f"worst: {count(doc['worst'], 'clock')}")
     unstable = [e["code"] for e in doc.get("unused", []) if e.get("unstable")]
     if unstable:
         lines.append("not stable (an asynchronous clear or preset holds there): " + ", ".join(map(str, unstable)))
