@@ -208,7 +208,7 @@ class CheckRun:
 
 
 def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int = 1,
-                keep_going: bool = False) -> CheckRun:
+                keep_going: bool = False, progress: bool = False) -> CheckRun:
     """Read every file (folders searched for .cnl files), then prove or refute every claim,
     up to ``jobs`` claims at once (verdicts and their order do not depend on it).
 
@@ -217,7 +217,8 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
     command line's ``--junit``, whose report puts the unreadable files beside
     the claims of the others). A run whose files hold no claim at
     all is an InputError (``no claims in ...``), so a CI job pointed at the
-    wrong place fails.
+    wrong place fails. With ``progress``, a live line per running claim goes to stderr
+    (:mod:`checker.report.progress`; the caller decides that stderr is a terminal).
     """
     opts = opts or Options()
     files = expand_paths(paths)
@@ -242,7 +243,13 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
         raise InputError(Pos("<command line>", 1, 1), f"--jobs takes a count from 1 to {MAX_JOBS}")
     for c in checks:
         out.widths[(c.pos.file, c.name)] = c.width
-    out.results.extend(run_claims([(c, cl) for c in checks for cl in c.claims], opts, jobs))
+    pairs = [(c, cl) for c in checks for cl in c.claims]
+    if progress:
+        from .report.progress import LiveProgress
+        with LiveProgress() as live:
+            out.results.extend(run_claims(pairs, opts, jobs, live))
+    else:
+        out.results.extend(run_claims(pairs, opts, jobs))
     return out
 
 
@@ -278,13 +285,13 @@ def _map_work(chk: Check, cond: Optional[int], limit: int, opts: Options, want_g
 
 
 def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 256,
-              opts: Optional[Options] = None, graph: bool = False) -> MapRun:
+              opts: Optional[Options] = None, graph: bool = False, progress: bool = False) -> MapRun:
     """Every unused code of ``check`` in ``path``: where it goes and how soon it recovers.
 
     ``when`` is a condition over the inputs (default: the check's first
     recover claim's, else the stepping inputs). ``opts.timeout`` bounds the
     whole map through the same hard stop claims use; a map that runs out is
-    ``"status": "open"``.
+    ``"status": "open"``. With ``progress``, a live line on stderr while it runs.
     """
     opts = opts or Options()
     if limit < 0:
@@ -298,7 +305,14 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     if chk.sequence is None:
         raise InputError(chk.pos, f"check {chk.name} has no count line, so it has no unused codes to map")
     cond = None if when is None else condition_literal(chk.design, parse_expr("--when", when))
-    value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout, opts.isolate)
+    work = _map_work(chk, cond, limit, opts, graph)
+    if progress:
+        from .report.progress import LiveProgress
+        with LiveProgress() as live:
+            live.started(0, f"map {chk.name}", opts.timeout)
+            value, _, finished = run_bounded(work, opts.timeout, opts.isolate, lambda info: live.told(0, info))
+    else:
+        value, _, finished = run_bounded(work, opts.timeout, opts.isolate)
     if not finished:
         doc = MapDoc({"check": chk.name, "width": chk.width, "sequence_length": chk.sequence.length(),
                       "unused_count": (1 << chk.width) - chk.sequence.length(), "worst": None,

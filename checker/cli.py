@@ -46,6 +46,11 @@ def _columns() -> Optional[int]:
     return None
 
 
+def _live(args) -> bool:
+    """A live progress line per running claim: only on a terminal's stderr, never with --json or --quiet."""
+    return not args.json and not getattr(args, "quiet", False) and sys.stderr.isatty()
+
+
 def _html_radix(args) -> str:
     return getattr(args, "radix", None) or "dec"
 
@@ -53,7 +58,8 @@ def _html_radix(args) -> str:
 # --- commands --------------------------------------------------------------
 def cmd_check(args) -> int:
     try:
-        run = api.check_files(args.paths, _options(args), getattr(args, "jobs", 1), keep_going=bool(args.junit))
+        run = api.check_files(args.paths, _options(args), getattr(args, "jobs", 1), keep_going=bool(args.junit),
+                              progress=_live(args))
     except InputError as e:  # no claims at all, a missing path: a CI job still gets its report
         if args.junit:
             api.write_junit_error(e, args.junit)
@@ -74,7 +80,7 @@ def cmd_check(args) -> int:
 
 def cmd_map(args) -> int:
     m = api.map_check(args.file, args.check, args.when, args.limit, _options(args),
-                      graph=bool(args.dot or args.svg or args.html))
+                      graph=bool(args.dot or args.svg or args.html), progress=_live(args))
     if args.dot:
         api.write_dot(m, args.dot)
     if args.svg:
@@ -148,6 +154,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     def common(sp, engine: bool = True):
         sp.add_argument("--json", action="store_true", help="one JSON document on stdout, nothing else there")
+        sp.add_argument("--quiet", "-q", action="store_true",
+                        help="no live progress lines on stderr (they are shown only on a terminal)")
         sp.add_argument("--timeout", type=float, default=None, metavar="S", help="seconds per claim; a claim that runs out is open")
         sp.add_argument("--solver", default=api.DEFAULT_SOLVER, metavar="NAME",
                         help=f"python-sat solver (default {api.DEFAULT_SOLVER})")

@@ -266,6 +266,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget, split: bool
         details = {"engine": "sat", "solver": opts.solver, "vars": sat.nvars, "clauses": sat.nclauses,
                    "questions": len(p.questions)}
         for k, q in enumerate(p.questions):
+            budget.note(engine="sat", questions=k, of=len(p.questions))
             if budget.expired():
                 return make_result(check, claim, OPEN, f"ran out of time after {k} of {len(p.questions)} SAT questions",
                                    details=dict(details, depth=None))
