@@ -24,7 +24,7 @@ from typing import Iterable, Optional, Sequence
 from . import report
 from .about import __version__
 from .claims import run_check, run_claims
-from .claims.common import CODE_RADIXES, Options
+from .claims.common import CODE_RADIXES, Options, check_radix
 from .claims.result import OPEN, PROVED, REFUTED, Result
 from .elab import Check, Design, Namespace, load_namespace
 from .elab.spec import condition_literal, flop_indices
@@ -267,6 +267,7 @@ class MapRun:
 
     doc: dict
     graph: Optional[StateGraph] = None
+    auto_radix: str = "auto"  # what --radix auto means for this check (hex for count bcd)
 
     @property
     def status(self) -> int:
@@ -319,7 +320,7 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
                       "locked": None, "unused": [], "status": "open"})
         return MapRun(dict(doc), None)
     doc, g = value
-    return MapRun(doc, g)
+    return MapRun(doc, g, check_radix(chk, "auto"))
 
 
 # --- compare --------------------------------------------------------------------
@@ -596,7 +597,7 @@ def render_check(run: CheckRun, radix: str = "dec", columns: Optional[int] = Non
 
 def render_map(m: MapRun, radix: str = "dec") -> str:
     """The readable map table; ``radix`` shows its codes."""
-    return report.text.map_text(m.doc, radix)
+    return report.text.map_text(m.doc, m.auto_radix if radix == "auto" else radix)
 
 
 def render_compare(doc: dict) -> str:

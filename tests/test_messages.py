@@ -211,3 +211,14 @@ def test_cut_name_lists_in_equal_evidence_say_how_many(tmp_path):
     text = _names(names)
     assert "6 of 9" in text and "o5" in text and "o6" not in text
     assert _names(names[:3]) == "o0, o1, o2"
+
+
+def test_bcd_codes_read_in_hex_by_default(capsys):
+    # a BCD code's hex digits are its decimal digits: 160 = 0xA0, 176 = 0xB0 (positional notation)
+    assert main(["check", "cases/pallet_tally.cnl", "--jobs", "1"]) == 0
+    out = capsys.readouterr().out
+    assert "0xA0 -> 0xA1" in out and "0xA9 -> 0xB0" in out and "0b10100000" not in out
+    assert main(["check", "cases/pallet_tally.cnl", "--jobs", "1", "--radix", "bin"]) == 0
+    assert "0b10100000 -> 0b10100001" in capsys.readouterr().out
+    assert main(["map", "cases/pallet_tally.cnl", "tally"]) == 0
+    assert "0xA0 -> 0xA1" in capsys.readouterr().out

@@ -17,7 +17,7 @@ from typing import Callable, Optional, Protocol
 from ..elab import Check, Claim
 from ..engines.budget import Budget, run_bounded
 from . import always, count, equal, glitchfree, recover, settle
-from .common import Options, make_result
+from .common import Options, check_radix, make_result
 from .result import OPEN, Result
 
 PROVERS: dict[str, Callable[[Check, Claim, Options, Budget], Result]] = {
@@ -48,6 +48,7 @@ def run_claim(check: Check, claim: Claim, opts: Options,
     """Prove or refute one claim within ``opts.timeout`` seconds; ``watch`` (if any) hears
     what the engines report as they go."""
     prove = PROVERS[claim.kind]
+    opts = replace(opts, radix=check_radix(check, opts.radix))
     t0 = time.perf_counter()
     res, progress, finished = run_bounded(lambda b: prove(check, claim, opts, b), opts.timeout, opts.isolate,
                                           watch)
