@@ -675,7 +675,7 @@ def write_svg(m: MapRun, path: str) -> None:
 
 # --- HTML -----------------------------------------------------------------------
 
-RADIXES = ("dec", "bin", "hex")
+RADIXES = ("auto", "dec", "bin", "hex")
 """How codes are shown in the HTML report (``--radix``)."""
 
 

@@ -52,7 +52,8 @@ def _live(args) -> bool:
 
 
 def _html_radix(args) -> str:
-    return getattr(args, "radix", None) or "dec"
+    """The HTML page shows codes as the text report does: --radix, else auto."""
+    return getattr(args, "radix", None) or "auto"
 
 
 # --- commands --------------------------------------------------------------
@@ -165,8 +166,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     def radix_option(sp):
         sp.add_argument("--radix", choices=api.RADIXES, default=None,
-                        help="how codes are shown: text defaults to binary up to 8 bits and hex above, "
-                             "with the decimal beside it; the HTML report defaults to dec; JSON keeps integers")
+                        help="how codes are shown; auto (the default, text and HTML alike) is binary up to "
+                             "8 bits and hex above, with the decimal beside it; JSON keeps integers")
 
     def html_options(sp):
         sp.add_argument("--html", metavar="FILE", help="also write one self-contained HTML report")
