@@ -51,6 +51,11 @@ def _live(args) -> bool:
     return not args.json and not getattr(args, "quiet", False) and sys.stderr.isatty()
 
 
+def _n(n: int, noun: str) -> str:
+    """``1 flop``, ``3 flops``: a counted noun for a message."""
+    return f"{n} {noun}" if n == 1 else f"{n} {noun}s"
+
+
 def _html_radix(args) -> str:
     """The HTML page shows codes as the text report does: --radix, else auto."""
     return getattr(args, "radix", None) or "auto"
@@ -133,8 +138,8 @@ def cmd_export(args) -> int:
     if args.claim is None:
         stats = api.export_design(args.file, args.name, args.output, timeout=_seconds(args))
         _emit(args.json, api.report.json.dumps(stats),
-              f"wrote {args.output}: design {stats['design']}, {stats['inputs']} input bits, "
-              f"{stats['flops']} flops, {stats['outputs']} output bits")
+              f"wrote {args.output}: design {stats['design']}, {_n(stats['inputs'], 'input bit')}, "
+              f"{_n(stats['flops'], 'flop')}, {_n(stats['outputs'], 'output bit')}")
         return 0
     stats = api.export_claim(args.file, args.name, args.claim, args.output, timeout=_seconds(args))
     if stats.get("format") == "aiger":

@@ -302,7 +302,7 @@ def _prove_after(check: Check, claim: Claim, opts: Options, budget: Budget) -> R
                            f"after one clock with the condition, {a.name} and {b.name} give the same outputs under every input sequence"
                            f" ({res.engine})", details=details)
     if res.status == OPEN:
-        return make_result(check, claim, OPEN, f"outputs agree for the first {res.depth} clocks after the condition; no proof within the budget",
+        return make_result(check, claim, OPEN, f"outputs agree for the first {res.depth} {plural('clock', res.depth)} after the condition; no proof within the budget",
                            details=details)
     assert res.inputs is not None
     trace, values = _after_trace(check, b, prod, init, ra.inputs, res.inputs)

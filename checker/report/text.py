@@ -156,7 +156,7 @@ def map_lines(doc: dict, radix: str = "dec") -> list[str]:
     """The map as a readable table (text report of the `map` command); codes in ``radix``."""
     if doc.get("width") is None:  # the file was not read in the time given
         return [f"check {doc['check']}: open: {doc.get('summary', 'undecided in the time given')}"]
-    lines = [f"check {doc['check']}: {doc['width']}-bit code, {doc['sequence_length']} codes in the sequence, "
+    lines = [f"check {doc['check']}: {doc['width']}-bit code, {count(doc['sequence_length'], 'code')} in the sequence, "
              f"{doc['unused_count']} unused"]
     if doc.get("status") == "open":
         lines.append("undecided in the time given: worst unknown")
