@@ -120,10 +120,10 @@ def recover_condition(check: Check, claim: Claim) -> str:
         _, sep, cond = claim.text.partition(" when ")
         return f"when {cond}" if sep else "under the inputs its 'when' allows"
     if not check.design.model.inputs:
-        return "none (the design has no inputs)"
+        return "no inputs to assume (the design has none)"
     words = condition_words(check, stepping(check))
     if words == "any input":
-        return "any input (the rules make the counter step under every input)"
+        return "under any input (the rules make the counter step under every input)"
     if words is None:
         return "under the stepping inputs (those under which the rules make the counter step)"
     return f"under the stepping inputs: {words}"

@@ -93,7 +93,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     res = _prove(check, claim, opts, budget)
     said = recover_condition(check, claim)
     res.details["condition"] = said
-    res.evidence.insert(0, f"inputs at every clock: {said}")
+    res.evidence.insert(0, said if said.startswith("no inputs") else f"inputs assumed at every clock, {said}")
     return res
 
 
