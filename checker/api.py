@@ -24,13 +24,14 @@ from typing import Iterable, Optional, Sequence
 from . import report
 from .about import __version__
 from .claims import run_check, run_claims
-from .claims.common import CODE_RADIXES, Options
+from .claims.common import CODE_RADIXES, Options, check_radix
 from .claims.result import OPEN, PROVED, REFUTED, Result
 from .elab import Check, Design, Namespace, load_namespace
 from .elab.spec import condition_literal, flop_indices
 from .engines.budget import run_bounded
 from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
+from .words import count
 from .fileio import collected, output_transaction, read_limited, shown, write_output
 from .lang.parse import parse_expr
 from .model.events import unpacked
@@ -207,7 +208,7 @@ class CheckRun:
 
 
 def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int = 1,
-                keep_going: bool = False) -> CheckRun:
+                keep_going: bool = False, progress: bool = False) -> CheckRun:
     """Read every file (folders searched for .cnl files), then prove or refute every claim,
     up to ``jobs`` claims at once (verdicts and their order do not depend on it).
 
@@ -216,7 +217,8 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
     command line's ``--junit``, whose report puts the unreadable files beside
     the claims of the others). A run whose files hold no claim at
     all is an InputError (``no claims in ...``), so a CI job pointed at the
-    wrong place fails.
+    wrong place fails. With ``progress``, a live line per running claim goes to stderr
+    (:mod:`checker.report.progress`; the caller decides that stderr is a terminal).
     """
     opts = opts or Options()
     files = expand_paths(paths)
@@ -241,7 +243,13 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
         raise InputError(Pos("<command line>", 1, 1), f"--jobs takes a count from 1 to {MAX_JOBS}")
     for c in checks:
         out.widths[(c.pos.file, c.name)] = c.width
-    out.results.extend(run_claims([(c, cl) for c in checks for cl in c.claims], opts, jobs))
+    pairs = [(c, cl) for c in checks for cl in c.claims]
+    if progress:
+        from .report.progress import LiveProgress
+        with LiveProgress() as live:
+            out.results.extend(run_claims(pairs, opts, jobs, live))
+    else:
+        out.results.extend(run_claims(pairs, opts, jobs))
     return out
 
 
@@ -259,6 +267,7 @@ class MapRun:
 
     doc: dict
     graph: Optional[StateGraph] = None
+    auto_radix: str = "auto"  # what --radix auto means for this check (hex for count bcd)
 
     @property
     def status(self) -> int:
@@ -277,13 +286,13 @@ def _map_work(chk: Check, cond: Optional[int], limit: int, opts: Options, want_g
 
 
 def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 256,
-              opts: Optional[Options] = None, graph: bool = False) -> MapRun:
+              opts: Optional[Options] = None, graph: bool = False, progress: bool = False) -> MapRun:
     """Every unused code of ``check`` in ``path``: where it goes and how soon it recovers.
 
     ``when`` is a condition over the inputs (default: the check's first
     recover claim's, else the stepping inputs). ``opts.timeout`` bounds the
     whole map through the same hard stop claims use; a map that runs out is
-    ``"status": "open"``.
+    ``"status": "open"``. With ``progress``, a live line on stderr while it runs.
     """
     opts = opts or Options()
     if limit < 0:
@@ -297,14 +306,21 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     if chk.sequence is None:
         raise InputError(chk.pos, f"check {chk.name} has no count line, so it has no unused codes to map")
     cond = None if when is None else condition_literal(chk.design, parse_expr("--when", when))
-    value, _, finished = run_bounded(_map_work(chk, cond, limit, opts, graph), opts.timeout, opts.isolate)
+    work = _map_work(chk, cond, limit, opts, graph)
+    if progress:
+        from .report.progress import LiveProgress
+        with LiveProgress() as live:
+            live.started(0, f"map {chk.name}", opts.timeout)
+            value, _, finished = run_bounded(work, opts.timeout, opts.isolate, lambda info: live.told(0, info))
+    else:
+        value, _, finished = run_bounded(work, opts.timeout, opts.isolate)
     if not finished:
         doc = MapDoc({"check": chk.name, "width": chk.width, "sequence_length": chk.sequence.length(),
                       "unused_count": (1 << chk.width) - chk.sequence.length(), "worst": None,
                       "locked": None, "unused": [], "status": "open"})
         return MapRun(dict(doc), None)
     doc, g = value
-    return MapRun(doc, g)
+    return MapRun(doc, g, check_radix(chk, "auto"))
 
 
 # --- compare --------------------------------------------------------------------
@@ -369,7 +385,7 @@ def input_settings(settings: Iterable[str], design: Design) -> dict[str, int]:
         if name in design.input_vectors:
             bitsn = design.input_vectors[name]
             if v < 0 or v >> len(bitsn):
-                raise _cmdline(f"--set {name}: {value} does not fit its {len(bitsn)} bits")
+                raise _cmdline(f"--set {name}: {value} does not fit its {count(len(bitsn), 'bit')}")
             for k, b in enumerate(bitsn):
                 fixed[b] = (v >> (len(bitsn) - 1 - k)) & 1
         elif name in design.model.inputs:
@@ -580,7 +596,7 @@ def render_check(run: CheckRun, radix: str = "dec", columns: Optional[int] = Non
 
 def render_map(m: MapRun, radix: str = "dec") -> str:
     """The readable map table; ``radix`` shows its codes."""
-    return report.text.map_text(m.doc, radix)
+    return report.text.map_text(m.doc, m.auto_radix if radix == "auto" else radix)
 
 
 def render_compare(doc: dict) -> str:
@@ -658,7 +674,7 @@ def write_svg(m: MapRun, path: str) -> None:
 
 # --- HTML -----------------------------------------------------------------------
 
-RADIXES = ("dec", "bin", "hex")
+RADIXES = ("auto", "dec", "bin", "hex")
 """How codes are shown in the HTML report (``--radix``)."""
 
 

@@ -46,14 +46,26 @@ def _columns() -> Optional[int]:
     return None
 
 
+def _live(args) -> bool:
+    """A live progress line per running claim: only on a terminal's stderr, never with --json or --quiet."""
+    return not args.json and not getattr(args, "quiet", False) and sys.stderr.isatty()
+
+
+def _n(n: int, noun: str) -> str:
+    """``1 flop``, ``3 flops``: a counted noun for a message."""
+    return f"{n} {noun}" if n == 1 else f"{n} {noun}s"
+
+
 def _html_radix(args) -> str:
-    return getattr(args, "radix", None) or "dec"
+    """The HTML page shows codes as the text report does: --radix, else auto."""
+    return getattr(args, "radix", None) or "auto"
 
 
 # --- commands --------------------------------------------------------------
 def cmd_check(args) -> int:
     try:
-        run = api.check_files(args.paths, _options(args), getattr(args, "jobs", 1), keep_going=bool(args.junit))
+        run = api.check_files(args.paths, _options(args), getattr(args, "jobs", 1), keep_going=bool(args.junit),
+                              progress=_live(args))
     except InputError as e:  # no claims at all, a missing path: a CI job still gets its report
         if args.junit:
             api.write_junit_error(e, args.junit)
@@ -74,7 +86,7 @@ def cmd_check(args) -> int:
 
 def cmd_map(args) -> int:
     m = api.map_check(args.file, args.check, args.when, args.limit, _options(args),
-                      graph=bool(args.dot or args.svg or args.html))
+                      graph=bool(args.dot or args.svg or args.html), progress=_live(args))
     if args.dot:
         api.write_dot(m, args.dot)
     if args.svg:
@@ -126,8 +138,8 @@ def cmd_export(args) -> int:
     if args.claim is None:
         stats = api.export_design(args.file, args.name, args.output, timeout=_seconds(args))
         _emit(args.json, api.report.json.dumps(stats),
-              f"wrote {args.output}: design {stats['design']}, {stats['inputs']} input bits, "
-              f"{stats['flops']} flops, {stats['outputs']} output bits")
+              f"wrote {args.output}: design {stats['design']}, {_n(stats['inputs'], 'input bit')}, "
+              f"{_n(stats['flops'], 'flop')}, {_n(stats['outputs'], 'output bit')}")
         return 0
     stats = api.export_claim(args.file, args.name, args.claim, args.output, timeout=_seconds(args))
     if stats.get("format") == "aiger":
@@ -148,6 +160,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     def common(sp, engine: bool = True):
         sp.add_argument("--json", action="store_true", help="one JSON document on stdout, nothing else there")
+        sp.add_argument("--quiet", "-q", action="store_true",
+                        help="no live progress lines on stderr (they are shown only on a terminal)")
         sp.add_argument("--timeout", type=float, default=None, metavar="S", help="seconds per claim; a claim that runs out is open")
         sp.add_argument("--solver", default=api.DEFAULT_SOLVER, metavar="NAME",
                         help=f"python-sat solver (default {api.DEFAULT_SOLVER})")
@@ -157,8 +171,8 @@ def build_parser() -> argparse.ArgumentParser:
 
     def radix_option(sp):
         sp.add_argument("--radix", choices=api.RADIXES, default=None,
-                        help="how codes are shown: text defaults to binary up to 8 bits and hex above, "
-                             "with the decimal beside it; the HTML report defaults to dec; JSON keeps integers")
+                        help="how codes are shown; auto (the default, text and HTML alike) is binary up to "
+                             "8 bits and hex above, with the decimal beside it; JSON keeps integers")
 
     def html_options(sp):
         sp.add_argument("--html", metavar="FILE", help="also write one self-contained HTML report")

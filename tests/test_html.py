@@ -390,3 +390,13 @@ def test_map_page_of_a_wide_code(write, tmp_path):
     page = Page(out.read_text(encoding="utf-8"))
     assert not page.find("svg", "diagram") and len(page.find("div", "summary-picture")) == 1
     assert "FFFFFFFF → 00000000" in "".join(page.text)
+
+
+def test_the_page_shows_codes_as_the_text_report_does(tmp_path):
+    """Without --radix the page uses the text report's default: binary for a 4-bit code
+    (11 = 0b1011, positional notation), not decimal."""
+    out = tmp_path / "r.html"
+    p = run_cli("check", str(ROOT / "cases" / "demo.cnl"), "--html", str(out))
+    assert p.returncode == 1
+    labels = " ".join(Page(out.read_text(encoding="utf-8")).text)
+    assert "1011" in labels and "binary up to 8 bits" in labels

@@ -203,7 +203,7 @@ def test_blif_counter_reads_as_a_design(tmp_path):
     (".model a\n.inputs x\n.outputs y\n.gate and2 A=x Y=y\n.end\n", 4, 1, "library gates"),
     (".model a\n.inputs c d\n.outputs q\n.latch d q ah c 0\n.end\n", 4, 12, "level-sensitive"),
     (".model a\n.inputs x\n.outputs y\n.names x y\n1 1\n0 0\n.end\n", 5, 1, "mixes"),
-    (".model a\n.inputs x\n.outputs y\n.names x y\n12 1\n.end\n", 5, 1, "columns"),
+    (".model a\n.inputs x\n.outputs y\n.names x y\n12 1\n.end\n", 5, 1, "column"),
     (".model a\n.inputs x\n.outputs y\n.subckt nothere p=x\n.end\n", 4, 9, "unknown model"),
     (".model a\n.inputs x\n.outputs y\n.names x y\n1 1\n.names x y\n0 1\n.end\n", 6, 10, "driven twice"),
 ])

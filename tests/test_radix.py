@@ -107,7 +107,7 @@ def test_locked_sets_cut_says_how_many_and_how_to_see_more(tmp_path, capsys):
     p.write_text(BEACON)
     rc, out = run(capsys, ["check", str(p)])
     assert rc == 1
-    assert "13 set(s)" in out
+    assert "13 sets" in out
     shown = [l for l in out.splitlines() if l.strip().startswith("{")]
     assert len(shown) == 8
     note = [l for l in out.splitlines() if "locked sets shown" in l]

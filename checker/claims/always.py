@@ -63,6 +63,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     with Sat(opts.solver) as sat:
         p = build_always(check, claim, sat)
         details = {"engine": "sat", "solver": opts.solver, "vars": sat.nvars, "clauses": sat.nclauses}
+        budget.note(engine="sat")
         if budget.expired():
             return make_result(check, claim, OPEN, "ran out of time before the SAT question was answered",
                                details=dict(details, depth=None))

@@ -39,6 +39,14 @@ def code_radix(width: int, radix: str = "auto") -> str:
     return "bin" if width <= AUTO_BINARY_WIDTH else "hex"
 
 
+def check_radix(check: Check, radix: str) -> str:
+    """The radix a check's codes are shown in: ``auto`` is hex for a ``count bcd`` check, whose
+    hex digits are its decimal digits (``0x59`` is 59), and otherwise resolved by width."""
+    if radix == "auto" and check.sequence is not None and check.sequence.kind == "bcd":
+        return "hex"
+    return radix
+
+
 def code_text(code: int, width: int, radix: str = "auto") -> str:
     """A code as the language writes a literal of it: ``12``, ``0b1100`` (``width`` digits) or
     ``0x0C`` (a digit per 4 bits of ``width``), so that it can be pasted into ``--from`` or ``count``."""

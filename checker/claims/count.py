@@ -25,7 +25,7 @@ from ..engines.sat import Sat, Unrolling
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, state_of, warning_lines)
-from .common import Options, ReplayError, code_and_decimal, make_result, regions, replay, rule_spec, trace_lines
+from .common import Options, ReplayError, code_and_decimal, inputs_text, make_result, regions, replay, rule_spec, trace_lines
 
 
 
@@ -234,10 +234,17 @@ def _refute(check: Check, claim: Claim, p: CountProblem, q: Question, opts: Opti
         if not by_sat or by_sat[0] not in hit:
             raise ReplayError(f"the simulator does not report the SR fault the SAT problem found at code {code}")
         details["fault"] = by_sat[0]
-        summary = f"SR flop {by_sat[0]} has s = r = 1 at code {c(code)}"
-        lines.append(f"SR flop {by_sat[0]}: s = 1 and r = 1 at code {c(code)} (a fault)")
-        if expected is not None:
-            lines.append(f"expected {c(expected)}, got {c(actual)}")
+        details["faults"] = list(hit)
+        summary = f"SR flop {by_sat[0]} sees s = r = 1 at code {c(code)}"
+        others = [n for n in hit if n != by_sat[0]]
+        lines.append(f"at code {c(code)} under {inputs_text(check, inputs)}, SR flop {by_sat[0]} sees s = 1 and r = 1 "
+                     "together, which the SR table forbids (the flop's next value is not defined)"
+                     + (f"; so do {', '.join(others)}" if others else ""))
+        if expected is not None and expected != actual:
+            lines.append(f"and the next code differs as well: the rules say {c(expected)}, the logic model gives {c(actual)}")
+        elif expected is not None:
+            lines.append(f"the logic model's next code, {c(actual)}, is the one the rules name, "
+                         "but it rests on the forbidden input, so the claim is refuted")
     else:
         if expected == actual:
             raise ReplayError(f"at code {code} the simulator's next code {actual} is what the rules say")
@@ -259,6 +266,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget, split: bool
         details = {"engine": "sat", "solver": opts.solver, "vars": sat.nvars, "clauses": sat.nclauses,
                    "questions": len(p.questions)}
         for k, q in enumerate(p.questions):
+            budget.note(engine="sat", questions=k, of=len(p.questions))
             if budget.expired():
                 return make_result(check, claim, OPEN, f"ran out of time after {k} of {len(p.questions)} SAT questions",
                                    details=dict(details, depth=None))

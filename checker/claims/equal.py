@@ -32,6 +32,7 @@ from ..engines.pdr import Pdr, check_invariant
 from ..engines.product import Product, explicit_search, product, simulate_inputs
 from ..engines.sat import Encoder, Sat, any_lit, equal_lit
 from ..errors import InputError
+from ..words import plural
 from ..model import TRUE
 from ..model.simulate import code_value, eval_states, leaf_arrays
 from .common import Options, ReplayError, code_and_decimal, code_text, inputs_text, make_result, replay
@@ -48,6 +49,12 @@ AUTO_EXPLICIT_INPUTS = 8  # ... and this many input bits
 def code_indices(check: Check) -> list[int]:
     """State indices of the check's code; all flops in declaration order without a code line."""
     return list(check.code) if check.code else list(range(len(check.design.model.states)))
+
+
+def _names(names: list[str], limit: int = 6) -> str:
+    """Names joined by commas; a longer list says how many it shows of how many."""
+    shown = ", ".join(names[:limit])
+    return shown if len(names) <= limit else f"{shown}, ... ({limit} of {len(names)} shown; --json lists them all)"
 
 
 def differences(a: Design, b: Design, state: dict[str, int], inputs: dict[str, int]) -> tuple[list[str], list[str]]:
@@ -179,7 +186,7 @@ def _prove_paired(check: Check, claim: Claim, opts: Options, budget: Budget) -> 
 
 def _unused_lines(check: Check, b: Design, codes: list[int], complete: bool, radix: str = "dec") -> list[str]:
     shown = ", ".join(code_text(c, check.width, radix) for c in codes[:UNUSED_SHOWN])
-    more = "" if len(codes) <= UNUSED_SHOWN else f" ... ({UNUSED_SHOWN} of {len(codes)} shown; --json lists them)"
+    more = "" if len(codes) <= UNUSED_SHOWN else f", ... ({UNUSED_SHOWN} of {len(codes)} shown; --json lists them all)"
     count = f"{len(codes)}" if complete else f"at least {len(codes)}"
     return [f"the designs agree on every code of the sequence; they differ only on unused codes ({count}): {shown}{more}",
             f"that matters for lockout: recovery from unused codes may differ from {b.name}'s"]
@@ -199,14 +206,17 @@ def _refuted_paired(check: Check, claim: Claim, b: Design, state, inputs, detail
     if flops:
         what.append(f"{a.name} goes to {f(trace[1].code)}, {b.name} to {f(trace[1].other_code)}")
     if outs:
-        what.append(f"output{'s' if len(outs) > 1 else ''} {', '.join(outs[:6])}{' ...' if len(outs) > 6 else ''} differ{'' if len(outs) > 1 else 's'}")
+        what.append(f"{plural('output', len(outs))} {_names(outs)} {plural('differs', len(outs), 'differ')}")
     summary = f"at code {f(c)} under {inputs_text(None, inputs)}: {'; '.join(what)}"
     if details.get("only_unused"):
         summary += " (an unused code: the designs agree on the sequence)"
     ev = [f"clock 0: code {f(c)} ({b.name}: {f(trace[0].other_code)}), inputs {inputs_text(None, inputs)}",
           f"clock 1: {a.name} goes to {f(trace[1].code)}, {b.name} to {f(trace[1].other_code)}"]
     if outs:
-        ev.append("outputs that differ at clock 0: " + ", ".join(outs))
+        _, oa, _ = a.model.step(state, inputs)
+        _, ob, _ = b.model.step({n: state.get(n, 0) for n in b.model.states}, inputs)
+        ev.append(f"{plural('output', len(outs))} that {plural('differs', len(outs), 'differ')} at clock 0:")
+        ev += [f"  {n}: {a.name} gives {oa[n]}, {b.name} gives {ob[n]}" for n in outs]
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev + lines)
 
 
@@ -292,14 +302,16 @@ def _prove_after(check: Check, claim: Claim, opts: Options, budget: Budget) -> R
                            f"after one clock with the condition, {a.name} and {b.name} give the same outputs under every input sequence"
                            f" ({res.engine})", details=details)
     if res.status == OPEN:
-        return make_result(check, claim, OPEN, f"outputs agree for the first {res.depth} clocks after the condition; no proof within the budget",
+        return make_result(check, claim, OPEN, f"outputs agree for the first {res.depth} {plural('clock', res.depth)} after the condition; no proof within the budget",
                            details=details)
     assert res.inputs is not None
-    trace, outs = _after_trace(check, b, prod, init, ra.inputs, res.inputs)
+    trace, values = _after_trace(check, b, prod, init, ra.inputs, res.inputs)
+    outs = list(values)
     details["outputs_differ"] = outs
+    details["output_values"] = {n: {a.name: va, b.name: vb} for n, (va, vb) in values.items()}
     details.pop("depth", None)
-    summary = (f"output{'s' if len(outs) > 1 else ''} {', '.join(outs)} of {a.name} and {b.name} differ{'' if len(outs) > 1 else 's'}"
-               f" at clock {trace[-1].clock} (the condition applied at clock 0)")
+    summary = (f"{plural('output', len(outs))} {_names(outs)} of {a.name} and {b.name} "
+               f"{plural('differs', len(outs), 'differ')} at clock {trace[-1].clock} (the condition applied at clock 0)")
     ev = [f"clock 0: any state, inputs meeting the condition ({inputs_text(None, ra.inputs)})"]
     wb = len(b.model.states)
 
@@ -307,7 +319,9 @@ def _prove_after(check: Check, claim: Claim, opts: Options, budget: Budget) -> R
         return "-" if code is None else code_and_decimal(code, width, opts.radix)
     ev += [f"clock {t.clock}: code {f(t.code, check.width)} ({b.name}: {f(t.other_code, wb)}), "
            f"inputs {inputs_text(None, t.inputs or {})}" for t in trace[1:]]
-    ev.append(f"outputs that differ at clock {trace[-1].clock}: {', '.join(outs)}")
+    ev.append(f"{plural('output', len(outs))} that {plural('differs', len(outs), 'differ')} at clock "
+              f"{trace[-1].clock}, under inputs {inputs_text(None, trace[-1].inputs or {})}:")
+    ev += [f"  {n}: {a.name} gives {va}, {b.name} gives {vb}" for n, (va, vb) in values.items()]
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev)
 
 
@@ -322,7 +336,7 @@ def _undetermined(check: Check, claim: Claim, b: Design, ra: Reset, rb: Reset) -
         sb = st if badd is b else {n: 0 for n in b.model.states}
         runs.append(_after_prefix(check, b, sa, sb, ins))
     undet = {d.name: r.undetermined for d, r in ((a, ra), (b, rb)) if r.state is None}
-    names = "; ".join(f"{d}: {', '.join(f[:8])}{' ...' if len(f) > 8 else ''}" for d, f in undet.items())
+    names = "; ".join(f"{d}: {_names(f, 8)}" for d, f in undet.items())
     summary = f"one clock with the condition does not settle every flop ({names})"
     details = {"undetermined": undet, "second_trace": [t.to_json() for t in runs[1]]}
     ev = [f"{d}: flops left undetermined: {', '.join(f)}" for d, f in undet.items()]
@@ -351,8 +365,9 @@ def _one_clock(check: Check, b: Design, bidx: list[int], sa: dict[str, int], sb:
 
 
 def _after_trace(check: Check, b: Design, prod: Product, init: list[int], cond_inputs: dict[str, int],
-                 inputs: list[dict[str, int]]) -> tuple[list[TraceEntry], list[str]]:
-    """Clock 0 from all-zero states under the condition, then ``inputs``; replayed in both designs."""
+                 inputs: list[dict[str, int]]) -> tuple[list[TraceEntry], dict[str, tuple[int, int]]]:
+    """Clock 0 from all-zero states under the condition, then ``inputs``; replayed in both designs.
+    Also the outputs that differ at the last clock: name -> (this design's value, the other's)."""
     a = check.design
     ma, mb = a.model, b.model
     idx = code_indices(check)
@@ -372,7 +387,7 @@ def _after_trace(check: Check, b: Design, prod: Product, init: list[int], cond_i
     outs = [n for n in ma.outputs if n in ob and oa[n] != ob[n]]
     if not outs:
         raise ReplayError(f"the outputs of {a.name} and {b.name} agree at the end of the counterexample")
-    return trace, outs
+    return trace, {n: (oa[n], ob[n]) for n in outs}
 
 
 @dataclass

@@ -30,7 +30,9 @@ from ..errors import InputError
 from ..engines.cascade import Exploration, never_settling
 from ..model.events import EventModel
 from .clocking import events_json, order_lines, settle_order, state_of, warning_lines
-from .common import Options, code_and_decimal, code_text, make_result, replay, stepping
+from ..words import count
+from .common import Options, code_and_decimal, code_text, inputs_text, make_result, replay, stepping
+from .conditions import recover_condition
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 TRACE_LIMIT = 4096
@@ -86,7 +88,16 @@ def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
 
 
 def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
-    """Prove or refute a recover claim, with evidence and repair advice."""
+    """Prove or refute a recover claim, with evidence and repair advice; the evidence (and
+    ``condition`` in the details) names the inputs assumed, in the designer's words."""
+    res = _prove(check, claim, opts, budget)
+    said = recover_condition(check, claim)
+    res.details["condition"] = said
+    res.evidence.insert(0, said if said.startswith("no inputs") else f"inputs assumed at every clock, {said}")
+    return res
+
+
+def _prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     X.require_whole_state(check.space)
     cond = claim_condition(check, claim, opts.solver)
     engine, why = choose_engine(check, cond, opts)
@@ -169,6 +180,28 @@ def locked_listing(sets: list[list[int]]) -> tuple[list[list[int]], bool]:
     return out, False
 
 
+CYCLE_ROWS_SHOWN = 16
+"""Steps of a locked cycle listed with their inputs when the inputs change along it."""
+
+
+def lock_inputs_lines(check: Check, codes: list[int], inputs: list[dict[str, int]],
+                      fmt: Callable[[int], str] = str) -> list[str]:
+    """The inputs that keep a locked cycle ``codes`` (first code repeated last) going round: one
+    line when they are the same at every clock, else a line per step (code, inputs, next code)."""
+    steps = list(zip(codes, inputs, codes[1:]))
+    if not steps or not check.design.model.inputs:
+        return []
+    shown = {inputs_text(check, i) for _, i, _ in steps}
+    if len(shown) == 1:
+        return [f"inputs that keep it locked: {shown.pop()} at every clock"]
+    lines = ["inputs that keep it locked, step by step:"]
+    for c, i, n in steps[:CYCLE_ROWS_SHOWN]:
+        lines.append(f"  {fmt(c)} under {inputs_text(check, i)} -> {fmt(n)}")
+    if len(steps) > CYCLE_ROWS_SHOWN:
+        lines.append(f"  ({CYCLE_ROWS_SHOWN} of {len(steps)} steps shown; --json gives the whole trace)")
+    return lines
+
+
 SETS_SHOWN = 8
 """Locked sets a readable report lists (``set_lines``); the JSON report lists them all."""
 
@@ -209,7 +242,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
     details["locked_complete"] = not cut
     if cut:
         details["locked_truncated"] = True
-    evidence = [f"engine explicit: {g.size} codes, {a.unused_count} unused, {len(g.rows)} input row(s)"]
+    evidence = [f"engine explicit: {g.size} codes, {a.unused_count} unused, {count(len(g.rows), 'input row')}"]
     if a.locked:
         sizes = [len(s) for s in sets]
         details["locked_sizes"] = sizes
@@ -217,20 +250,24 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
         codes, rows, complete = X.cycle_run(a, smallest, TRACE_LIMIT)
         trace = _replayed(check, codes, [g.rows.full[r] for r in rows])
         n_locked = int((a.steps < 0).sum())
-        evidence.append(f"locked: {len(sets)} set(s) of unused codes hold a cycle (sizes {_sizes(sizes)}); "
-                        f"{n_locked} unused code(s) can stay unused forever")
+        evidence.append(f"locked: {count(len(sets), 'set of unused codes')} "
+                        f"{'holds' if len(sets) == 1 else 'hold'} a cycle "
+                        f"({'size' if len(sets) == 1 else 'sizes'} {_sizes(sizes)}); "
+                        f"{count(n_locked, 'unused code')} can stay unused forever")
         evidence.extend(set_lines(sets, fmt))
         evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + _arrow(codes, fmt=fmt))
+        if complete:
+            evidence.extend(lock_inputs_lines(check, codes, [t.inputs or {} for t in trace[:-1]], fmt))
         if not complete:
             details["trace_truncated"] = True
-        res = make_result(check, claim, REFUTED, f"locked: {len(sets)} cycle set(s) among unused codes",
+        res = make_result(check, claim, REFUTED, f"locked: {count(len(sets), 'set')} of unused codes with a cycle",
                           trace=trace, details=details, evidence=evidence)
     elif claim.within is not None and a.worst is not None and a.worst > claim.within:
         codes, rows = X.worst_run(a, a.worst_code, claim.within)
         trace = _replayed(check, codes, [g.rows.full[r] for r in rows])
-        evidence.append(f"code {one(a.worst_code)} is still unused after {claim.within} clock(s): {_arrow(codes, fmt=fmt)}")
-        evidence.append(f"worst: {a.worst} clocks (from code {one(a.worst_code)})")
-        res = make_result(check, claim, REFUTED, f"code {one(a.worst_code)} needs {a.worst} clocks, more than {claim.within}",
+        evidence.append(f"code {one(a.worst_code)} is still unused after {count(claim.within, 'clock')}: {_arrow(codes, fmt=fmt)}")
+        evidence.append(f"worst: {count(a.worst, 'clock')} (from code {one(a.worst_code)})")
+        res = make_result(check, claim, REFUTED, f"code {one(a.worst_code)} needs {count(a.worst, 'clock')}, more than {claim.within}",
                           trace=trace, details=details, evidence=evidence)
     else:
         if a.worst_code is not None:
@@ -238,10 +275,10 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
             codes, rows = X.worst_run(a, a.worst_code, min(a.worst, EVIDENCE_RUN))
             _replayed(check, codes, [g.rows.full[r] for r in rows])
             more = "" if a.worst <= EVIDENCE_RUN else f" -> ... ({a.worst - EVIDENCE_RUN} more clocks)"
-            evidence.append(f"worst: {a.worst} clock(s), from code {one(a.worst_code)}: {_arrow(codes, fmt=fmt)}{more}")
+            evidence.append(f"worst: {count(a.worst, 'clock')}, from code {one(a.worst_code)}: {_arrow(codes, fmt=fmt)}{more}")
         else:
             evidence.append("no unused codes: worst 0")
-        res = make_result(check, claim, PROVED, f"no lockout; worst {a.worst} clock(s)", details=details, evidence=evidence)
+        res = make_result(check, claim, PROVED, f"no lockout; worst {count(a.worst, 'clock')}", details=details, evidence=evidence)
     if res.status == REFUTED:
         plan = repair.repair_plan(a, seq.first(), claim.within, budget, solver=solver)
         res.advice = repair.plan_lines(plan, fmt)
@@ -267,7 +304,7 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
         details["worst_code"] = s.worst_codes[0]
     if s.status == "open":
         details["worst"] = None
-        evidence.append(f"engine sat: no locked cycle and some unused code still unused after {s.depth} clock(s); "
+        evidence.append(f"engine sat: no locked cycle and some unused code still unused after {count(s.depth, 'clock')}; "
                         "the search stopped there")
         return make_result(check, claim, OPEN, f"open at depth {s.depth}", details=details, evidence=evidence)
     if s.status == "locked":
@@ -276,10 +313,11 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
         details["locked_complete"] = False  # one cycle found; other locked sets may exist
         details["worst"] = None
         loop = s.codes[s.codes.index(s.codes[-1]):]
-        evidence.append(f"engine sat: a locked cycle of {len(s.cycle)} unused code(s): {_arrow(loop, fmt=fmt)}")
+        evidence.append(f"engine sat: a locked cycle of {count(len(s.cycle), 'unused code')}: {_arrow(loop, fmt=fmt)}")
+        evidence.extend(lock_inputs_lines(check, loop, [trace[k].inputs or {} for k in range(len(s.codes) - len(loop), len(s.codes) - 1)], fmt))
         evidence.append(f"run: {_arrow(s.codes, fmt=fmt)}")
         evidence.append("the SAT engine shows one locked cycle; others may exist")
-        res = make_result(check, claim, REFUTED, f"locked: a cycle of {len(s.cycle)} unused code(s)",
+        res = make_result(check, claim, REFUTED, f"locked: a cycle of {count(len(s.cycle), 'unused code')}",
                           trace=trace, details=details, evidence=evidence)
         res.advice = [f"repair hint: redirecting code {one(s.cycle[0])} into the sequence (next code {one(seq.first())}) "
                       "breaks this cycle; the explicit engine would name a set for every lock"]
@@ -291,21 +329,21 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
         trace = _replayed(check, codes, inputs)
         if s.worst is None:
             details["worst_at_least"] = s.worst_at_least
-            evidence.append(f"worst: at least {s.worst_at_least} clocks (the search for the exact worst stopped there)")
+            evidence.append(f"worst: at least {count(s.worst_at_least, 'clock')} (the search for the exact worst stopped there)")
         else:
-            evidence.append(f"worst: {s.worst} clocks")
-        evidence.append(f"code {one(codes[0])} is still unused after {n} clock(s): {_arrow(codes, fmt=fmt)}")
-        res = make_result(check, claim, REFUTED, f"code {one(codes[0])} needs more than {n} clocks",
+            evidence.append(f"worst: {count(s.worst, 'clock')}")
+        evidence.append(f"code {one(codes[0])} is still unused after {count(n, 'clock')}: {_arrow(codes, fmt=fmt)}")
+        res = make_result(check, claim, REFUTED, f"code {one(codes[0])} needs more than {count(n, 'clock')}",
                           trace=trace, details=details, evidence=evidence)
         res.advice = [f"repair hint: redirecting code {one(codes[n - 1] if n >= 1 else codes[0])} into the sequence "
-                      f"(next code {one(seq.first())}) shortens this run to {max(n, 1)} clock(s)"]
+                      f"(next code {one(seq.first())}) shortens this run to {count(max(n, 1), 'clock')}"]
         return res
     if s.worst_codes:
         _replayed(check, s.worst_codes, s.worst_inputs)
-        evidence.append(f"worst: {s.worst} clock(s), from code {one(s.worst_codes[0])}: {_arrow(s.worst_codes, fmt=fmt)}")
+        evidence.append(f"worst: {count(s.worst, 'clock')}, from code {one(s.worst_codes[0])}: {_arrow(s.worst_codes, fmt=fmt)}")
     else:
         evidence.append("no unused codes: worst 0")
     evidence.append(f"engine sat: no run of {s.depth + 1} unused codes exists (k-induction closed at depth {s.depth})")
     if claim.within is not None and s.worst is not None and s.worst > claim.within:
         raise AssertionError("the SAT engine proved a worst above the bound it was asked about")
-    return make_result(check, claim, PROVED, f"no lockout; worst {s.worst} clock(s)", details=details, evidence=evidence)
+    return make_result(check, claim, PROVED, f"no lockout; worst {count(s.worst, 'clock')}", details=details, evidence=evidence)

@@ -11,6 +11,7 @@ from __future__ import annotations
 from typing import Optional
 
 from ..errors import InputError, Pos
+from ..words import count
 from ..lang import parse as P
 from ..model import FALSE, TRUE, Aig
 from .design import Symbol
@@ -57,7 +58,7 @@ def num_bits(e: P.Num, want: Optional[int]) -> list[BExpr]:
             return [("c", e.value)]
         raise InputError(e.pos, f"the number {e.text} has no width here; a bit is 0 or 1, and a binary literal (0b...) gives one bit per digit")
     if e.value >> want:
-        raise InputError(e.pos, f"{e.text} does not fit in {want} bits")
+        raise InputError(e.pos, f"{e.text} does not fit in {count(want, 'bit')}")
     return [("c", (e.value >> (want - 1 - k)) & 1) for k in range(want)]
 
 

@@ -22,6 +22,7 @@ from typing import Iterable, Iterator
 import numpy as np
 
 from ..model import FALSE, TRUE, Aig
+from ..words import plural
 from .gf2 import Unfactored, primitive
 
 LIST_LIMIT = 65536
@@ -272,7 +273,7 @@ class RangeSequence(Sequence):
     def describe(self) -> str:
         way = "" if self.up else " (descending)"
         ends = f"{_code_text(self.start)} .. {_code_text(self.end)}"
-        return f"range {ends}{way}, {_count_text(self.length())} codes"
+        return f"range {ends}{way}, {_count_text(self.length())} {plural('code', self.length())}"
 
     def member(self, aig: Aig, bits: list[int]) -> int:
         self._need_width(bits)
@@ -340,7 +341,7 @@ class BcdSequence(Sequence):
 
     def describe(self) -> str:
         d = self.digits
-        return f"bcd, {d} digit{'s' if d > 1 else ''}, {_count_text(self.length())} codes"
+        return f"bcd, {d} digit{'s' if d > 1 else ''}, {_count_text(self.length())} {plural('code', self.length())}"
 
     def member(self, aig: Aig, bits: list[int]) -> int:
         self._need_width(bits)
@@ -434,7 +435,7 @@ class GraySequence(Sequence):
         return (i ^ (i >> 1) for i in range(self.length()))
 
     def describe(self) -> str:
-        return f"gray, {_count_text(self.length())} codes"
+        return f"gray, {_count_text(self.length())} {plural('code', self.length())}"
 
     def member(self, aig: Aig, bits: list[int]) -> int:
         self._need_width(bits)
@@ -498,7 +499,7 @@ class JohnsonSequence(Sequence):
         return (c >> 1) | (((c & 1) ^ 1) << (self.width - 1))
 
     def describe(self) -> str:
-        return f"johnson, {_count_text(self.length())} codes"
+        return f"johnson, {_count_text(self.length())} {plural('code', self.length())}"
 
     def member(self, aig: Aig, bits: list[int]) -> int:
         self._need_width(bits)
@@ -551,7 +552,7 @@ class RingSequence(Sequence):
         return (c >> 1) | ((c & 1) << (self.width - 1))
 
     def describe(self) -> str:
-        return f"ring, {_count_text(self.length())} codes"
+        return f"ring, {_count_text(self.length())} {plural('code', self.length())}"
 
     def member(self, aig: Aig, bits: list[int]) -> int:
         self._need_width(bits)
@@ -645,7 +646,7 @@ class LfsrSequence(Sequence):
 
     def describe(self) -> str:
         taps = " ".join(map(str, self.taps))
-        return f"lfsr {taps} from {self.start}, maximal length, {_count_text(self.length())} codes"
+        return f"lfsr {taps} from {self.start}, maximal length, {_count_text(self.length())} {plural('code', self.length())}"
 
     def member(self, aig: Aig, bits: list[int]) -> int:
         self._need_width(bits)

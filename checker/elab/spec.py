@@ -10,6 +10,7 @@ from __future__ import annotations
 from typing import Optional
 
 from ..errors import InputError, Pos
+from ..words import count
 from ..lang import parse as P
 from ..lang.unparse import unparse_stmt
 from .bits import BExpr, bitwise, bnot, build, gate, kind_text, num_bits, select_bits
@@ -63,7 +64,7 @@ class _Scope:
             return self.vec(e.left, len(b)), b
         a, b = self.vec(e.left), self.vec(e.right)
         if len(a) != len(b):
-            raise InputError(e.pos, f"width mismatch: '{e.op}' compares {len(a)} bits with {len(b)} bits")
+            raise InputError(e.pos, f"width mismatch: '{e.op}' compares {count(len(a), 'bit')} with {count(len(b), 'bit')}")
         return a, b
 
     def at(self, e: P.Call) -> BExpr:
@@ -233,7 +234,7 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design], part_only: Opti
                 else:
                     bits = cond_scope.lits(s.value, chk.width)
                     if len(bits) != chk.width:
-                        raise InputError(s.value.pos, f"width mismatch: the code is {chk.width} bits wide, the load value gives {len(bits)}")
+                        raise InputError(s.value.pos, f"width mismatch: the code is {count(chk.width, 'bit')} wide, the load value gives {len(bits)}")
                     r.load_bits = bits
             chk.rules.append(r)
         elif isinstance(s, P.CountStmt):

@@ -33,6 +33,7 @@ def bmc(model: Model, init: list[int], bad: int, max_depth: int, budget: Budget,
         for t in range(max_depth):
             if budget.expired():
                 return BmcResult(None, t)
+            budget.note(engine="bmc", depth=t)
             if sat.solve([u.lit(t, bad)]):
                 return BmcResult([u.read_inputs(k) for k in range(t + 1)], t)
             if on_depth is not None:

@@ -17,6 +17,10 @@ from dataclasses import dataclass, field
 from typing import Any, Callable, Optional
 
 
+NOTE_INTERVAL = 0.1
+"""Seconds between two progress notes passed on to a display."""
+
+
 class OutOfBudget(Exception):
     """A budget ran out inside an engine; ``depth`` says how far it got (None: not measured)."""
 
@@ -32,6 +36,10 @@ class Budget:
     deadline: Optional[float] = None
     progress: dict = field(default_factory=dict)
     _conn: Any = None
+    watch: Optional[Callable[[dict], None]] = None
+    """Called with what an engine tells (:meth:`report`, :meth:`note`), for a live display;
+    engines never see the display itself, only this callable."""
+    _noted: float = 0.0
 
     @classmethod
     def seconds(cls, s: Optional[float]) -> "Budget":
@@ -49,13 +57,31 @@ class Budget:
             raise OutOfBudget(depth)
 
     def report(self, **kv: Any) -> None:
-        """Record progress (for example ``depth=k``); it survives a hard stop."""
+        """Record progress (for example ``depth=k``); it survives a hard stop, and a live
+        display sees it too."""
         self.progress.update(kv)
         if self._conn is not None:
             try:
                 self._conn.send(("progress", dict(self.progress)))
             except (OSError, ValueError):
                 pass
+        elif self.watch is not None:
+            self.watch(dict(kv))
+
+    def note(self, **kv: Any) -> None:
+        """Tell a live display how far the work got (``engine="explicit", codes=n, of=m``);
+        unlike :meth:`report` it is not part of the verdict. At most ten a second are passed on."""
+        now = time.monotonic()
+        if now - self._noted < NOTE_INTERVAL:
+            return
+        self._noted = now
+        if self._conn is not None:
+            try:
+                self._conn.send(("note", dict(kv)))
+            except (OSError, ValueError):
+                pass
+        elif self.watch is not None:
+            self.watch(dict(kv))
 
 
 def _die_with_parent() -> None:
@@ -88,17 +114,18 @@ def _child(conn, fn, deadline, parent_pid):
 
 
 def run_bounded(fn: Callable[[Budget], Any], timeout: Optional[float],
-                isolate: bool = False) -> tuple[Any, dict, bool]:
+                isolate: bool = False, watch: Optional[Callable[[dict], None]] = None) -> tuple[Any, dict, bool]:
     """Run ``fn(budget)``; returns (result, progress, finished).
 
     With no timeout and no ``isolate``, ``fn`` runs here. Otherwise it runs
     in a forked child, with a cooperative deadline at the timeout (if any),
     killed shortly after it; a killed run returns (None, last progress,
-    False). An interrupt (Ctrl-C, KeyboardInterrupt) in the parent kills the
+    False). ``watch``, when given, is called here (in this process) with what
+    the work reports or notes as it goes, for a live display. An interrupt (Ctrl-C, KeyboardInterrupt) in the parent kills the
     child and is raised in the parent, whether or not there is a timeout.
     """
     if timeout is None and not isolate:
-        b = Budget()
+        b = Budget(watch=watch)
         return fn(b), b.progress, True
     ctx = mp.get_context("fork")
     parent, child = ctx.Pipe(duplex=False)
@@ -123,6 +150,11 @@ def run_bounded(fn: Callable[[Budget], Any], timeout: Optional[float],
                 break
             if kind == "progress":
                 progress = payload
+                if watch is not None:
+                    watch(dict(payload))
+            elif kind == "note":
+                if watch is not None:
+                    watch(dict(payload))
             elif kind == "done":
                 return payload, progress, True
             else:

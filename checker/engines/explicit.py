@@ -298,6 +298,8 @@ def build_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] = None) -
     chunk = max(64, min(CHUNK, padded))
     for base in range(0, padded, chunk):
         _tick(budget, 0)
+        if budget is not None:
+            budget.note(engine="explicit", searched=min(base, total), of=total)
         size = min(chunk, padded - base)
         nw = size // 64
         leaves = {node: _packed_bits(base, nw, w - 1 - pos) for pos, node in enumerate(code_nodes)}
@@ -339,6 +341,8 @@ def _depth_functional(g: Graph, budget: Optional[Budget]) -> tuple[np.ndarray, i
     rounds = 0
     for rounds in range(1, _rounds_for(n) + 1):
         _tick(budget, rounds)
+        if budget is not None:
+            budget.note(engine="explicit", step="recovery depths", depth=rounds)
         p = ptr[act]
         dp = steps[p]
         done = dp >= 0
@@ -380,6 +384,8 @@ def _depth_game(g: Graph, budget: Optional[Budget]) -> tuple[np.ndarray, int]:
     r = 0
     while frontier.size:
         _tick(budget, r)
+        if budget is not None:
+            budget.note(engine="explicit", step="recovery depths", depth=r)
         if r >= VECTOR_ROUNDS and frontier.size < QUEUE_FRONTIER:
             # a long thin tail: vector rounds would cost more than their work
             _depth_queue(g, steps, pending, offs, src_sorted, frontier, budget)
@@ -408,8 +414,10 @@ def _depth_queue(g: Graph, steps: np.ndarray, pending: np.ndarray, offs: np.ndar
     while queue:
         v = queue.popleft()
         done += 1
-        if done & 0xFFFF == 0 and budget is not None and budget.expired():
-            raise OutOfBudget(int(steps.max()))  # the max only once out of time: it costs a pass
+        if done & 0xFFFF == 0 and budget is not None:
+            if budget.expired():
+                raise OutOfBudget(int(steps.max()))  # the max only once out of time: it costs a pass
+            budget.note(engine="explicit", step="recovery depths", decided=done)
         for p in src_sorted[offs[v]:offs[v + 1]].tolist():
             pending[p] -= 1
             if pending[p] == 0:
@@ -645,6 +653,8 @@ def build_settled_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] =
         for c in range(n):
             if c % 256 == 0:
                 _tick(budget, 0)
+                if budget is not None:
+                    budget.note(engine="explicit", searched=r * n + c, of=len(rows) * n)
             ex = Exploration(em)
             _, out = ex.explore(packed(space.code, c))
             if out.never:

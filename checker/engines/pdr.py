@@ -217,6 +217,7 @@ class Pdr:
         heap = [(k, next(self.counter), top)]
         while heap:
             self.budget.check()
+            self.budget.note(engine="ic3/pdr", depth=k)
             i, _, ob = heapq.heappop(heap)
             if self._meets_init(ob.cube):
                 return self._trace(None, ob)

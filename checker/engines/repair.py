@@ -16,6 +16,7 @@ from typing import Callable, Optional
 
 import numpy as np
 
+from ..words import count
 from .budget import Budget
 from .explicit import Analysis, Graph, analyse, inner_edges, scc_cycles, worst_step
 from .sat import DEFAULT_SOLVER
@@ -220,28 +221,34 @@ def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
 
 
 def plan_lines(plan: RepairPlan, fmt: Callable[[int], str] = str) -> list[str]:
-    """The repair plan as text lines for the readable report; ``fmt`` shows a code."""
+    """The repair plan as text lines for the readable report; ``fmt`` shows a code. The lines
+    say what their notation means: each row is an unused code, the codes it can go to now
+    (``a/b``: either, by the inputs) and the next code proposed for it."""
     every = plan.codes + plan.for_within
     if not every:
         return []
     lines = []
     if plan.codes:
         what = "the smallest set" if plan.exact else "a set"
-        lines.append(f"repair hint: redirecting {len(plan.codes)} unused code(s) into the sequence "
+        lines.append(f"repair hint: redirecting {count(len(plan.codes), 'unused code')} into the sequence "
                      f"({what} that breaks every lock): {_short(plan.codes, fmt=fmt)}")
     if plan.for_within:
-        lines.append(f"repair hint: redirecting {len(plan.for_within)} more code(s) meets the clock bound: {_short(plan.for_within, fmt=fmt)}")
-    lines.append("  code -> next now -> proposed next")
-    for c, now, new in plan.table:
-        lines.append(f"  {fmt(c)} -> {'/'.join(fmt(x) for x in now)} -> {fmt(new)}")
+        lines.append(f"repair hint: redirecting {count(len(plan.for_within), 'more code')} meets the clock bound: "
+                     f"{_short(plan.for_within, fmt=fmt)}")
+    lines.append("  change the next-state logic so that each unused code below goes to the proposed code "
+                 "(the sequence's first) instead of where it goes now; 'a/b' means a or b, by the inputs:")
+    rows = [("unused code", "goes now to", "proposed next")]
+    rows += [(fmt(c), "/".join(fmt(x) for x in now), fmt(new)) for c, now, new in plan.table]
+    widths = [max(len(r[k]) for r in rows) for k in range(3)]
+    lines += ["  " + "  ".join(x.ljust(widths[k]) for k, x in enumerate(r)).rstrip() for r in rows]
     if len(every) > len(plan.table):
-        lines.append(f"  ... {len(every) - len(plan.table)} more")
+        lines.append(f"  ({len(plan.table)} of {len(every)} codes shown)")
     if plan.worst_after is not None:
-        lines.append(f"  worst after the redirect: {plan.worst_after} clock(s)")
+        lines.append(f"  worst after the redirect: {count(plan.worst_after, 'clock')} to reach the sequence")
     lines.extend(f"  note: {n}" for n in plan.notes)
     return lines
 
 
 def _short(codes: list[int], limit: int = 16, fmt: Callable[[int], str] = str) -> str:
     s = ", ".join(fmt(c) for c in codes[:limit])
-    return s + (f", ... ({len(codes)} in all)" if len(codes) > limit else "")
+    return s + (f", ... ({limit} of {len(codes)} shown)" if len(codes) > limit else "")

@@ -17,6 +17,7 @@ from __future__ import annotations
 import re
 from typing import Optional
 
+from ..words import count
 from ..errors import InputError, Pos
 from . import netlist as N
 from . import parse as P
@@ -92,10 +93,10 @@ def _parse(path: str, text: str) -> list[_Model]:
                 rows.append(("", line.words[0][0], hp))
                 continue
             if len(line.words) != 2:
-                raise InputError(hp, f"a cover row is {len(ins)} input columns and one output column")
+                raise InputError(hp, f"a cover row is {count(len(ins), 'input column')} and one output column")
             cols, outv = line.words[0][0], line.words[1][0]
             if len(cols) != len(ins) or set(cols) - set("01-"):
-                raise InputError(hp, f"cover row '{cols}' must have {len(ins)} columns of 0, 1 or -")
+                raise InputError(hp, f"cover row '{cols}' must have {count(len(ins), 'column')} of 0, 1 or -")
             if outv not in ("0", "1"):
                 raise InputError(line.words[1][1], f"a cover row's output column is 0 or 1, not '{outv}'")
             rows.append((cols, outv, hp))

@@ -445,8 +445,6 @@ def _expected_text(expected) -> str:
     names = sorted({_describe_terminal(t) for t in expected if t != "COMMENT"})
     if not names:
         return ""
-    if len(names) > 8:
-        names = names[:8] + ["..."]
     return "; expected " + (names[0] if len(names) == 1 else "one of " + ", ".join(names))
 
 
@@ -552,12 +550,62 @@ def _unclosed(path: str, e: UnexpectedInput) -> Optional[InputError]:
                       f"'{br}' is never closed (a statement continues across lines until its brackets close)")
 
 
+_BLOCK_STARTS = ("design", "check")
+
+
+def _unended(path: str, text: str, line: Optional[int], at_eof: bool) -> Optional[InputError]:
+    """The error for a block left without its ``end``: the parser failed on a line that starts
+    a new block (or at the end of the file) while a ``design`` or ``check`` block was open."""
+    lines = text.split("\n")
+    stop = len(lines) if at_eof or not isinstance(line, int) else min(line, len(lines))
+    open_block: Optional[tuple[int, str, str]] = None  # line, kind, name
+    for k in range(stop):
+        words = lines[k].split("#", 1)[0].split()
+        if not words:
+            continue
+        first = words[0]
+        last_line = k + 1 == stop and not at_eof
+        if first in _BLOCK_STARTS + ("use",) and open_block is not None and last_line:
+            break
+        if first in _BLOCK_STARTS:
+            open_block = (k + 1, first, words[1] if len(words) > 1 else "")
+        elif first == "end":
+            open_block = None
+    else:
+        if not at_eof:
+            return None
+    if open_block is None:
+        return None
+    n, kind, name = open_block
+    named = f" {name}" if name and name.isidentifier() else ""
+    if at_eof:
+        at = Pos(path, *_line_col_at(text, len(text)))
+        where = "the end of file comes first"
+    else:
+        at = Pos(path, stop, len(lines[stop - 1]) - len(lines[stop - 1].lstrip()) + 1)
+        where = "this line starts a new block first"
+    return InputError(at, f"missing 'end' of the {kind} block{named} that began at line {n} ({where}; "
+                          f"every design and check block ends with a line 'end')")
+
+
+_OPERATOR_HINTS = {"+": "write '|' for or", "*": "write '&' for and"}
+"""Characters a designer may write for a logic operator (Boolean algebra's + and *), with the hint."""
+
+
 def _syntax_error(path: str, text: str, e: UnexpectedInput) -> InputError:
     line = getattr(e, "line", None)
     col = getattr(e, "column", None)
+    tok = getattr(e, "token", None)
+    at_eof = isinstance(e, UnexpectedEOF) or getattr(tok, "type", "") == "$END"
+    unended = _unended(path, text, line, at_eof)
+    if unended is not None:
+        return unended
     if isinstance(e, UnexpectedCharacters):
         ch = text[e.pos_in_stream] if e.pos_in_stream is not None and e.pos_in_stream < len(text) else "?"
         msg = f"unexpected character {ch!r}" + _expected_text(e.allowed or ())
+        hint = _OPERATOR_HINTS.get(ch, "")
+        if hint:
+            msg += f" (expressions are logic, not arithmetic: {hint})"
     elif isinstance(e, UnexpectedToken):
         tok = e.token
         if tok.type == "$END":

@@ -30,6 +30,7 @@ from typing import Optional
 from lark import Lark, Token, Tree
 from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedToken
 
+from ..words import count
 from ..errors import InputError, Pos
 from . import netlist as N
 from . import parse as P
@@ -844,7 +845,7 @@ class _Body:
                         raise InputError(self.r.pos(c), f"module {mod} has no port '{port}'")
                 else:
                     if k >= len(sub.ports):
-                        raise InputError(self.r.pos(c), f"module {mod} has {len(sub.ports)} ports; this is connection {k + 1}")
+                        raise InputError(self.r.pos(c), f"module {mod} has {count(len(sub.ports), 'port')}; this is connection {k + 1}")
                     port = sub.ports[k]
                 if port in given:
                     raise InputError(self.r.pos(c), f"port {port} is connected twice")

@@ -49,7 +49,8 @@ def state_graph_dot(g: StateGraph) -> str:
         if not inside:
             continue
         out.append(f"  subgraph cluster_locked_{i} {{")
-        out.append(f"    label={_q(f'locked set {i + 1} ({size} codes)')}; color=red; fontcolor=red;")
+        name = f"locked set {i + 1} ({size} {'code' if size == 1 else 'codes'})"
+        out.append(f"    label={_q(name)}; color=red; fontcolor=red;")
         out += [f"    c{c} [label={_q(_label(c, w))}, {_LOCKED}];" for c in inside]
         out.append("  }")
     for c, n in g.nodes.items():

@@ -27,6 +27,7 @@ from typing import Any, Optional, Sequence
 import jinja2
 import networkx as nx
 
+from ..claims.common import code_radix
 from ..claims.result import OPEN, PROVED, REFUTED, Result
 from ..tools.pictures import WORST_PATHS, CheckPicture, Signals
 from ..tools.stategraph import StateGraph
@@ -75,9 +76,11 @@ MARKS = {PROVED: "\u2713", REFUTED: "\u2717", OPEN: "?"}
 
 
 def fmt_code(code: Optional[int], width: int, radix: str = "dec") -> str:
-    """``code`` as the page shows it: decimal, binary of ``width`` digits, or hex."""
+    """``code`` as the page shows it: decimal, binary of ``width`` digits, or hex; ``auto`` is
+    binary up to 8 bits and hex above, as in the text report."""
     if code is None:
         return "\u2013"
+    radix = code_radix(width, radix)
     if radix == "bin":
         return format(code, f"0{max(1, width)}b")
     if radix == "hex":

@@ -10,6 +10,7 @@ from tabulate import tabulate
 from ..claims.common import code_radix, code_text, inputs_text, trace_lines
 from ..claims.recover import set_lines
 from ..claims.result import OPEN, PROVED, REFUTED, Result
+from ..words import count, plural
 
 _MARK = {PROVED: "proved", REFUTED: "REFUTED", OPEN: "open"}
 
@@ -155,15 +156,16 @@ def map_lines(doc: dict, radix: str = "dec") -> list[str]:
     """The map as a readable table (text report of the `map` command); codes in ``radix``."""
     if doc.get("width") is None:  # the file was not read in the time given
         return [f"check {doc['check']}: open: {doc.get('summary', 'undecided in the time given')}"]
-    lines = [f"check {doc['check']}: {doc['width']}-bit code, {doc['sequence_length']} codes in the sequence, "
+    lines = [f"check {doc['check']}: {doc['width']}-bit code, {count(doc['sequence_length'], 'code')} in the sequence, "
              f"{doc['unused_count']} unused"]
     if doc.get("status") == "open":
         lines.append("undecided in the time given: worst unknown")
     elif doc["locked"]:
-        lines.append(f"locked: {len(doc['locked'])} set(s) of unused codes hold a cycle")
+        n = len(doc['locked'])
+        lines.append(f"locked: {count(n, 'set of unused codes')} {plural('holds', n, 'hold')} a cycle")
         lines.extend(set_lines(doc["locked"], lambda c: code_text(c, doc["width"], radix)))
     else:
-        lines.append(f"worst: {doc['worst']} clock(s)")
+        lines.append(f"worst: {count(doc['worst'], 'clock')}")
     unstable = [e["code"] for e in doc.get("unused", []) if e.get("unstable")]
     if unstable:
         lines.append("not stable (an asynchronous clear or preset holds there): " + ", ".join(map(str, unstable)))

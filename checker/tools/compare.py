@@ -26,6 +26,7 @@ from ..elab import Check, Design
 from ..engines.budget import Budget, run_bounded
 from ..engines.miter import PairedMiter, paired_miter
 from .loading import LoadTimeout, load_within
+from ..words import count
 
 CUBE_LIMIT = 256  # cubes enumerated per question
 ESPRESSO_LIMIT = 256  # minimise covers of at most this many cubes
@@ -294,8 +295,8 @@ def compare_lines(res: dict) -> list[str]:
                 lines.append(f"  {k}: only in OLD: {', '.join(d[k]['only_old']) or '-'}; only in NEW: {', '.join(d[k]['only_new']) or '-'}")
         if d.get("everywhere") is False:
             lines.append(f"  next state differs for: {', '.join(d['next_differs']) or '-'}; outputs differ: {', '.join(d['outputs_differ']) or '-'}")
-            lines.append(f"  differing states and inputs ({d['cube_count']} cube{'s' if d['cube_count'] != 1 else ''}"
-                         f"{'' if d['complete'] else ', more not listed'}):")
+            lines.append(f"  differing states and inputs ({count(d['cube_count'], 'cube')}"
+                         f"{'' if d['complete'] else ' found; more exist and are not listed'}):")
             lines += _cube_lines(d["cubes"])
         for s in d.get("sequences", []):
             lines.append(f"  on the sequence of check {s['check']} in {s['file']} ({s['sequence']}): {'equal' if s['equal'] else 'differs'}")
@@ -307,8 +308,24 @@ def compare_lines(res: dict) -> list[str]:
         lines.append(f"design {n}: only in NEW")
     for c in res["claims"]["now_failing"]:
         lines.append(f"claim {c['claim']} (check {c['check']}, line {c['line']}): proved in OLD, {c['new']} in NEW: {c['summary']}")
+    others = 0
     for c in res["claims"]["now_holding"]:
         lines.append(f"claim {c['claim']} (check {c['check']}, line {c['line']}): {c['old']} in OLD, proved in NEW")
+        others += 1
+    for c in res["claims"].get("changed", []):
+        lines.append(f"claim {c['claim']} (check {c['check']}, line {c['line']}): {c['old']} in OLD, {c['new']} in NEW")
+        others += 1
+    for side, word in (("only_old", "OLD"), ("only_new", "NEW")):
+        for c in res["claims"].get(side, []):
+            lines.append(f"claim {c['claim']} (check {c['check']}, line {c['line']}): only in {word}")
+            others += 1
     n = len(res["reasons"])
-    lines.append(("nothing compared" if res.get("unread") else "no design behaves differently") if not res["differs"] else f"{n} difference{'s' if n != 1 else ''}: " + "; ".join(res["reasons"]))
+    if not res["differs"]:
+        last = "nothing compared" if res.get("unread") else "no design behaves differently"
+    else:
+        last = f"{count(n, 'difference')}: " + "; ".join(res["reasons"])
+    if others:
+        last += (f"; {count(others, 'other verdict change')} listed above, not counted as "
+                 f"{'a difference' if others == 1 else 'differences'}")
+    lines.append(last)
     return lines

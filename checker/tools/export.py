@@ -239,7 +239,7 @@ def export_aiger(check: Check, claim: Claim, path: str) -> dict:
             full = _counter(aig, c, "clocks", claim.within)
             c.bad.append((f"recover within {claim.within} at {where}", aig.and_all([valid, member ^ 1, full])))
             head.append(f"latches start free (every code); clocks counts up to {claim.within} and stays; the bad "
-                        f"output can become 1 exactly when some unused code stays unused for {claim.within} clocks "
+                        f"output can become 1 exactly when some unused code stays unused for {claim.within} {'clock' if claim.within == 1 else 'clocks'} "
                         f"under inputs meeting the condition (the claim is refuted)")
         else:
             c.justice.append((f"recover at {where}", [nxt_valid]))

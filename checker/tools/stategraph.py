@@ -16,6 +16,7 @@ from typing import Optional, Union
 import numpy as np
 
 from ..elab import Check
+from ..words import count
 from ..engines.explicit import Analysis, worst_key
 
 MAX_NODES = 2048
@@ -92,7 +93,7 @@ def state_graph(check: Check, source: Union[Analysis, dict], max_nodes: int = MA
     out = StateGraph(check.name, g.width, locked_sizes=[int(s.size) for s in a.locked_sets], first=seq.first())
     depths, counts = np.unique(a.steps[~g.member], return_counts=True)
     out.depth_counts = {(None if d < 0 else int(d)): int(n) for d, n in zip(depths.tolist(), counts.tolist())}
-    out.notes.append(f"{check.name}: {g.size} codes, {a.unused_count} unused, {len(a.locked_sets)} locked set(s)")
+    out.notes.append(f"{check.name}: {g.size} codes, {a.unused_count} unused, {count(len(a.locked_sets), 'locked set')}")
     drawn = {int(c) for c in _chosen(a, max_nodes)}
     if len(drawn) < g.size:
         out.notes.append(f"partial graph: {len(drawn)} of {g.size} codes drawn")
