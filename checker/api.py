@@ -207,9 +207,10 @@ class CheckRun:
 
 
 def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int = 1,
-                keep_going: bool = False) -> CheckRun:
+                keep_going: bool = False, cluster: Optional[str] = None) -> CheckRun:
     """Read every file (folders searched for .cnl files), then prove or refute every claim,
-    up to ``jobs`` claims at once (verdicts and their order do not depend on it).
+    up to ``jobs`` claims at once, or on the Dask scheduler at address ``cluster``
+    (verdicts and their order depend on neither).
 
     Every file is read before any claim runs; when some cannot be read,
     ``errors`` names each and no claim runs, unless ``keep_going`` (the
@@ -241,7 +242,7 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
         raise InputError(Pos("<command line>", 1, 1), f"--jobs takes a count from 1 to {MAX_JOBS}")
     for c in checks:
         out.widths[(c.pos.file, c.name)] = c.width
-    out.results.extend(run_claims([(c, cl) for c in checks for cl in c.claims], opts, jobs))
+    out.results.extend(run_claims([(c, cl) for c in checks for cl in c.claims], opts, jobs, cluster))
     return out
 
 
