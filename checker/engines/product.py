@@ -92,6 +92,29 @@ class ExplicitResult:
     depth: int
 
 
+WORD = 63  # state bits per uint64 word of a packed product state (any width: as many words as it takes)
+
+
+def _words(states: list[int], ns: int) -> list[np.ndarray]:
+    """Packed states (ints of ``ns`` bits) as uint64 arrays of WORD bits each, least significant word first."""
+    mask = (1 << WORD) - 1
+    return [np.array([(s >> (WORD * w)) & mask for s in states], dtype=np.uint64)
+            for w in range(max(1, (ns + WORD - 1) // WORD))]
+
+
+def _packed(bits: list[np.ndarray], ns: int, count: int) -> list[int]:
+    """Bit arrays of ``count`` elements (most significant bit first) packed into one int per element."""
+    out: Optional[list[int]] = None
+    for w in range(max(1, (ns + WORD - 1) // WORD)):
+        lo, hi = WORD * w, min(ns, WORD * (w + 1))  # bit positions lo .. hi-1 from the least significant
+        word = np.zeros(count, dtype=np.uint64)
+        for pos in reversed(range(lo, hi)):
+            word = (word << np.uint64(1)) | bits[ns - 1 - pos].astype(np.uint64)
+        vals = word.tolist()
+        out = vals if out is None else [o | (v << (WORD * w)) for o, v in zip(out, vals)]
+    return out or []
+
+
 def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1 << 20,
                     max_inputs: int = 12, budget: Optional[Budget] = None) -> Optional[ExplicitResult]:
     """Breadth-first search of the reachable states of ``model`` from ``init``
@@ -101,7 +124,7 @@ def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1
     reachable state under every input.
     """
     ns, ni = len(model.states), len(model.inputs)
-    if ns > 63 or ni > max_inputs:
+    if ni > max_inputs:
         return None
     combos = np.arange(1 << ni, dtype=np.uint64)
     in_bits = {n: ((combos >> np.uint64(ni - 1 - k)) & np.uint64(1)).astype(bool)
@@ -110,36 +133,36 @@ def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1
     for v in init:
         start = (start << 1) | v
     parent: dict[int, tuple[int, int]] = {start: (-1, -1)}
-    frontier = np.array([start], dtype=np.uint64)
+    frontier = [start]
     depth = 0
     roots = [bad] + model.next_lits
-    while len(frontier):
+    while frontier:
         if budget is not None and budget.expired():
             return None
         nf = len(frontier)
-        st = np.repeat(frontier, 1 << ni)
+        words = _words(frontier, ns)
+        st = [np.repeat(w, 1 << ni) for w in words]
         leaves: dict[int, object] = {}
         for k, l in enumerate(model.state_lits):
-            leaves[l >> 1] = ((st >> np.uint64(ns - 1 - k)) & np.uint64(1)).astype(bool)
+            pos = ns - 1 - k  # bit k (most significant first) of the packed state
+            leaves[l >> 1] = ((st[pos // WORD] >> np.uint64(pos % WORD)) & np.uint64(1)).astype(bool)
         for n, l in zip(model.inputs, model.input_lits):
             leaves[l >> 1] = np.tile(in_bits[n], nf)
-        ones = np.ones(len(st), dtype=bool)
-        vals = [np.broadcast_to(v, st.shape) for v in evaluate(model.aig, leaves, roots, ones)]
+        ones = np.ones(nf << ni, dtype=bool)
+        vals = [np.broadcast_to(v, ones.shape) for v in evaluate(model.aig, leaves, roots, ones)]
         hit = np.flatnonzero(vals[0])
         if len(hit):
             j = int(hit[0])
-            return ExplicitResult(_path(parent, int(st[j]), j % (1 << ni), model.inputs), len(parent), depth)
-        nxt = np.zeros(len(st), dtype=np.uint64)
-        for v in vals[1:]:
-            nxt = (nxt << np.uint64(1)) | v.astype(np.uint64)
+            return ExplicitResult(_path(parent, frontier[j >> ni], j % (1 << ni), model.inputs), len(parent), depth)
+        nxt = _packed(vals[1:], ns, len(ones))
         new = []
-        for j, (s, t) in enumerate(zip(st.tolist(), nxt.tolist())):
+        for j, t in enumerate(nxt):
             if t not in parent:
-                parent[t] = (s, j % (1 << ni))
+                parent[t] = (frontier[j >> ni], j % (1 << ni))
                 new.append(t)
         if len(parent) > max_states:
             return None
-        frontier = np.array(new, dtype=np.uint64)
+        frontier = new
         depth += 1
     return ExplicitResult(None, len(parent), depth)
 
