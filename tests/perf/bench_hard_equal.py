@@ -61,6 +61,8 @@ def engines(ns, a: str, b: str):
 
     def explicit(budget):
         r = explicit_search(m, init, bad, max_states=EXPLICIT_STATES, budget=budget)
+        if r is None and budget.expired():
+            return "ran out of time"
         return f"does not fit (over {EXPLICIT_STATES} states)" if r is None else (
             "proved" if r.inputs is None else "refuted") + f", {r.states} states"
 
@@ -80,7 +82,7 @@ def measure(fn, limit: float) -> str:
     except Exception as e:  # an engine that fails is shown, not hidden
         return f"error: {type(e).__name__}"
     t = time.perf_counter() - t0
-    return f"{t:.2f} s: {res}" if done else f"open after {limit:g} s"
+    return f"{t:.2f} s: {res}" if done and res not in ("ran out of time", "open") else f"open after {limit:g} s"
 
 
 def main(limit: float) -> None:
