@@ -115,6 +115,55 @@ def _packed(bits: list[np.ndarray], ns: int, count: int) -> list[int]:
     return out or []
 
 
+INT_LANES = 1 << 12  # a BFS layer of at most this many (state, input) lanes is evaluated on Python ints
+
+
+def _layer_ints(model: Model, frontier: list[int], ni: int, roots: list[int]) -> tuple[Optional[int], list[int]]:
+    """One BFS layer on Python ints as bit sets, lane j = (frontier[j >> ni], input j % 2^ni):
+    the first lane where roots[0] (bad) holds, or None, and every lane's next state."""
+    ns, lanes = len(model.states), len(frontier) << ni
+    ones = (1 << lanes) - 1
+    leaves: dict[int, object] = {}
+    for k, l in enumerate(model.state_lits):
+        pos, v = ns - 1 - k, 0
+        for i, s in enumerate(frontier):
+            if (s >> pos) & 1:
+                v |= ((1 << (1 << ni)) - 1) << (i << ni)
+        leaves[l >> 1] = v
+    for k, l in enumerate(model.input_lits):
+        one = sum(1 << c for c in range(1 << ni) if (c >> (ni - 1 - k)) & 1)  # this input's lanes in one state
+        leaves[l >> 1] = sum(one << (i << ni) for i in range(len(frontier)))
+    vals = evaluate(model.aig, leaves, roots, ones)
+    bad = vals[0] & ones
+    if bad:
+        return (bad & -bad).bit_length() - 1, []
+    nxt = [0] * lanes
+    for v in vals[1:]:
+        v &= ones
+        nxt = [(t << 1) | ((v >> j) & 1) for j, t in enumerate(nxt)]
+    return None, nxt
+
+
+def _layer_arrays(model: Model, frontier: list[int], ni: int, roots: list[int],
+                  in_bits: dict[str, np.ndarray]) -> tuple[Optional[int], list[int]]:
+    """The same layer on NumPy arrays, for wide layers."""
+    ns, nf = len(model.states), len(frontier)
+    words = _words(frontier, ns)
+    st = [np.repeat(w, 1 << ni) for w in words]
+    leaves: dict[int, object] = {}
+    for k, l in enumerate(model.state_lits):
+        pos = ns - 1 - k  # bit k (most significant first) of the packed state
+        leaves[l >> 1] = ((st[pos // WORD] >> np.uint64(pos % WORD)) & np.uint64(1)).astype(bool)
+    for n, l in zip(model.inputs, model.input_lits):
+        leaves[l >> 1] = np.tile(in_bits[n], nf)
+    ones = np.ones(nf << ni, dtype=bool)
+    vals = [np.broadcast_to(v, ones.shape) for v in evaluate(model.aig, leaves, roots, ones)]
+    hit = np.flatnonzero(vals[0])
+    if len(hit):
+        return int(hit[0]), []
+    return None, _packed(vals[1:], ns, len(ones))
+
+
 def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1 << 20,
                     max_inputs: int = 12, budget: Optional[Budget] = None) -> Optional[ExplicitResult]:
     """Breadth-first search of the reachable states of ``model`` from ``init``
@@ -140,21 +189,12 @@ def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1
         if budget is not None and budget.expired():
             return None
         nf = len(frontier)
-        words = _words(frontier, ns)
-        st = [np.repeat(w, 1 << ni) for w in words]
-        leaves: dict[int, object] = {}
-        for k, l in enumerate(model.state_lits):
-            pos = ns - 1 - k  # bit k (most significant first) of the packed state
-            leaves[l >> 1] = ((st[pos // WORD] >> np.uint64(pos % WORD)) & np.uint64(1)).astype(bool)
-        for n, l in zip(model.inputs, model.input_lits):
-            leaves[l >> 1] = np.tile(in_bits[n], nf)
-        ones = np.ones(nf << ni, dtype=bool)
-        vals = [np.broadcast_to(v, ones.shape) for v in evaluate(model.aig, leaves, roots, ones)]
-        hit = np.flatnonzero(vals[0])
-        if len(hit):
-            j = int(hit[0])
-            return ExplicitResult(_path(parent, frontier[j >> ni], j % (1 << ni), model.inputs), len(parent), depth)
-        nxt = _packed(vals[1:], ns, len(ones))
+        if nf << ni <= INT_LANES:
+            hit_at, nxt = _layer_ints(model, frontier, ni, roots)
+        else:
+            hit_at, nxt = _layer_arrays(model, frontier, ni, roots, in_bits)
+        if hit_at is not None:
+            return ExplicitResult(_path(parent, frontier[hit_at >> ni], hit_at % (1 << ni), model.inputs), len(parent), depth)
         new = []
         for j, t in enumerate(nxt):
             if t not in parent:

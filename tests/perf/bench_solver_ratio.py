@@ -10,7 +10,9 @@ flop-paired `equal`), each alone in a file:
 * total: wall time of `countersign check FILE --json`, the whole process;
 * solver: wall time of a standalone solver program (Debian's cadical and
   minisat, where installed) on the DIMACS that `countersign export FILE CHECK
-  --claim LINE -o Q.cnf` writes for that claim, the same question;
+  --claim LINE -o Q.cnf` writes for each claim of the file, the same
+  questions (the recover claim's check has its count line, itself a claim,
+  so that file holds two);
 * where the rest goes: starting Python and importing countersign (a process
   that only imports it), reading and elaborating the file, and the claim as
   the JSON reports it (encoding and solving; `solve` is the time inside the
@@ -80,23 +82,26 @@ def main() -> None:
         src.write_text(text, encoding="utf-8")
         from checker.elab import load_namespace
         chk = next(c for c in load_namespace(str(src)).checks if c.name == check)
-        assert len(chk.claims) == 1, label
-        line = chk.claims[0].pos.line
-        cnf = tmp / f"q{len(rows)}.cnf"
-        t, r = wall([py, "-m", "checker", "export", str(src), check, "--claim", str(line), "-o", str(cnf), "--json"])
-        assert r.returncode == 0, r.stderr
-        info = json.loads(r.stdout)
+        cnfs, nvars, nclauses = [], 0, 0
+        for k, claim in enumerate(chk.claims):  # a recover claim needs its count line, itself a claim
+            cnf = tmp / f"q{len(rows)}_{k}.cnf"
+            t, r = wall([py, "-m", "checker", "export", str(src), check, "--claim", str(claim.pos.line), "-o", str(cnf), "--json"])
+            assert r.returncode == 0, r.stderr
+            info = json.loads(r.stdout)
+            nvars, nclauses = nvars + info["vars"], nclauses + info["clauses"]
+            cnfs.append(cnf)
         totals, imports, loads, claims, solves = [], [], [], [], []
         solver_t: dict[str, list[float]] = {n: [] for n in solvers}
         status = None
         for _ in range(REPEAT):
             t, r = wall([py, "-m", "checker", "check", str(src), "--json"])
-            doc = json.loads(r.stdout)["claims"][0]
-            status = doc["status"]
+            docs = json.loads(r.stdout)["claims"]
+            statuses = [d["status"] for d in docs]
+            status = "proved" if all(x == "proved" for x in statuses) else "/".join(statuses)
             totals.append(t)
-            claims.append(doc["seconds"])
-            if "solve_seconds" in doc:
-                solves.append(doc["solve_seconds"])
+            claims.append(sum(d["seconds"] for d in docs))
+            if any("solve_seconds" in d for d in docs):
+                solves.append(sum(d.get("solve_seconds", 0.0) for d in docs))
             t, _ = wall([py, "-c", "import checker.cli"])
             imports.append(t)
             t, r = wall([py, "-c", f"import time, checker.cli; from checker.elab import load_namespace; t = time.perf_counter(); "
@@ -104,14 +109,17 @@ def main() -> None:
             loads.append(float(r.stdout))
             for name, prog in solvers.items():
                 if prog:
-                    args = [prog, "-q", str(cnf)] if name == "cadical" else [prog, "-verb=0", str(cnf)]
-                    t, r = wall(args)
-                    assert r.returncode == (20 if status == "proved" else 10), (name, r.returncode, status)
-                    solver_t[name].append(t)
+                    spent = 0.0
+                    for cnf, st in zip(cnfs, statuses):
+                        args = [prog, "-q", str(cnf)] if name == "cadical" else [prog, "-verb=0", str(cnf)]
+                        t, r = wall(args)
+                        assert r.returncode == (20 if st == "proved" else 10), (name, r.returncode, st)
+                        spent += t
+                    solver_t[name].append(spent)
         tot = median(totals)
         cells = {n: (median(v) if v else None) for n, v in solver_t.items()}
         best = min((v for v in cells.values() if v), default=None)
-        rows.append([label, status, f"{info['vars']} / {info['clauses']}", f"{tot:.3f}",
+        rows.append([f"{label} ({len(cnfs)} claim{'s' if len(cnfs) > 1 else ''})", status, f"{nvars} / {nclauses}", f"{tot:.3f}",
                      *(f"{v:.3f}" if v else "not installed" for v in cells.values()),
                      f"{tot / best:.1f}" if best else "-",
                      f"{median(imports):.3f}", f"{median(loads):.3f}", f"{median(claims):.3f}",
