@@ -150,3 +150,19 @@ def test_a_malformed_address_is_refused_at_the_command_line(tmp_path):
     assert r.returncode == 2
     assert r.stderr.startswith("<command line>:1:1: --cluster takes a scheduler address")
     assert r.stderr.count("\n") == 1 and r.stdout == ""
+
+
+def test_a_scheduler_without_workers_leaves_the_claims_open(tmp_path, monkeypatch):
+    # a scheduler with no worker at all: after the grace period every claim still waiting is open
+    distributed = _distributed()
+    import checker.claims as claims
+    from checker.claims import cluster
+    monkeypatch.setattr(cluster, "NO_WORKER_SECONDS", 1.0)
+    monkeypatch.setattr(claims, "POLL_SECONDS", 0.2)
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    with distributed.LocalCluster(n_workers=0, processes=False, dashboard_address=":0", silence_logs=40) as lc:
+        run = api.check_files([str(p)], api.options(), cluster=lc.scheduler_address)
+    assert [r.status for r in run.results] == ["open", "open"]
+    assert all("no worker for 1 s" in r.summary for r in run.results)
+    assert run.status == 3
