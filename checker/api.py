@@ -208,9 +208,10 @@ class CheckRun:
 
 
 def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int = 1,
-                keep_going: bool = False, progress: bool = False) -> CheckRun:
+                keep_going: bool = False, progress: bool = False, cluster: Optional[str] = None) -> CheckRun:
     """Read every file (folders searched for .cnl files), then prove or refute every claim,
-    up to ``jobs`` claims at once (verdicts and their order do not depend on it).
+    up to ``jobs`` claims at once, or on the Dask scheduler at address ``cluster``
+    (verdicts and their order depend on neither).
 
     Every file is read before any claim runs; when some cannot be read,
     ``errors`` names each and no claim runs, unless ``keep_going`` (the
@@ -244,12 +245,12 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
     for c in checks:
         out.widths[(c.pos.file, c.name)] = c.width
     pairs = [(c, cl) for c in checks for cl in c.claims]
-    if progress:
+    if progress and cluster is None:
         from .report.progress import LiveProgress
         with LiveProgress() as live:
             out.results.extend(run_claims(pairs, opts, jobs, live))
     else:
-        out.results.extend(run_claims(pairs, opts, jobs))
+        out.results.extend(run_claims(pairs, opts, jobs, cluster=cluster))
     return out
 
 

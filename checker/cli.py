@@ -65,7 +65,7 @@ def _html_radix(args) -> str:
 def cmd_check(args) -> int:
     try:
         run = api.check_files(args.paths, _options(args), getattr(args, "jobs", 1), keep_going=bool(args.junit),
-                              progress=_live(args))
+                              progress=_live(args), cluster=getattr(args, "cluster", None))
     except InputError as e:  # no claims at all, a missing path: a CI job still gets its report
         if args.junit:
             api.write_junit_error(e, args.junit)
@@ -186,6 +186,9 @@ def build_parser() -> argparse.ArgumentParser:
                     help="in the JUnit report, an open claim is skipped rather than failed (the exit status stays 3)")
     sp.add_argument("--jobs", type=int, default=os.cpu_count() or 1, metavar="N",
                     help="claims run at once (default: the number of cores); verdicts do not depend on it")
+    sp.add_argument("--cluster", metavar="ADDRESS",
+                    help="run the claims on the Dask scheduler at ADDRESS instead (tcp://HOST:PORT; "
+                         "needs countersign[cluster]); verdicts do not depend on it")
     html_options(sp)
     common(sp)
     sp.set_defaults(func=cmd_check)

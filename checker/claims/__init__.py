@@ -10,7 +10,7 @@ import multiprocessing as mp
 import threading
 import time
 from dataclasses import replace
-from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures import FIRST_COMPLETED, Executor, ProcessPoolExecutor, wait
 from concurrent.futures.process import BrokenProcessPool
 from typing import Callable, Optional, Protocol
 
@@ -66,6 +66,9 @@ def run_claim(check: Check, claim: Claim, opts: Options,
 _WORK: list[tuple[Check, Claim]] = []  # the claims a pool's forked workers read by index
 _EVENTS = None  # a queue the forked workers tell a live display through (None: no display)
 
+POLL_SECONDS = 5.0
+"""How often a cluster run, while no claim finishes, asks whether the scheduler still has workers."""
+
 
 def _pool_claim(index: int, opts: Options) -> Result:
     check, claim = _WORK[index]
@@ -98,17 +101,24 @@ def _relay(events, watcher: Watcher) -> None:
 
 
 def run_claims(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int = 1,
-               watcher: Optional[Watcher] = None) -> list[Result]:
-    """Every (check, claim) of ``pairs``, up to ``jobs`` at once, results in the order given.
+               watcher: Optional[Watcher] = None, cluster: Optional[str] = None) -> list[Result]:
+    """Every (check, claim) of ``pairs``, up to ``jobs`` at once (or on the Dask
+    scheduler at ``cluster``), results in the order given.
 
-    Workers are forked from this process, so the files are read and elaborated
-    once, here; each claim still runs under its own budget. A worker that dies
-    breaks the pool; every claim it left without an answer then runs again on
-    its own, in a child process of its own, so only the claim whose process
-    dies is reported ``open`` with what happened: never a hang or a lost result.
-    With a ``watcher``, the workers tell it through a queue that a thread here
-    reads (when each claim starts, what its engines report, when it ends).
+    Local workers are forked from this process, so the files are read and
+    elaborated once, here; each claim still runs under its own budget. A
+    worker that dies breaks the pool; every claim it left without an answer
+    then runs again on its own, in a child process of its own, so only the
+    claim whose process dies is reported ``open`` with what happened: never a
+    hang or a lost result. With a ``watcher``, local workers tell it through a
+    queue that a thread here reads (when each claim starts, what its engines
+    report, when it ends). On a cluster (``claims/cluster.py``) each claim
+    runs in a child of its worker; a claim whose worker the cluster loses, or
+    that waits while the scheduler has had no worker for
+    ``cluster.NO_WORKER_SECONDS``, is ``open`` with what happened.
     """
+    if cluster is not None:
+        return _on_cluster(pairs, opts, cluster)
     if jobs <= 1 or len(pairs) <= 1:
         return [_watched(watcher, i, c, cl, opts) for i, (c, cl) in enumerate(pairs)]
     global _WORK, _EVENTS
@@ -119,28 +129,80 @@ def run_claims(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int = 1,
         _EVENTS = ctx.SimpleQueue()
         relay = threading.Thread(target=_relay, args=(_EVENTS, watcher), daemon=True)
         relay.start()
-    results: list[Result] = []
+
+    def again(check: Check, claim: Claim, _e: BaseException) -> Result:
+        res = run_alone(check, claim, opts)
+        if watcher is not None:
+            key = next(i for i, (c, cl) in enumerate(pairs) if c is check and cl is claim)
+            watcher.finished(key, res.status)
+        return res
+
     try:
         with ProcessPoolExecutor(max_workers=min(jobs, len(pairs)), mp_context=ctx) as pool:
-            futures = [pool.submit(_pool_claim, i, opts) for i in range(len(pairs))]
-            for i, ((check, claim), f) in enumerate(zip(pairs, futures)):
-                try:
-                    results.append(f.result())
-                except BrokenProcessPool:
-                    results.append(_alone(check, claim, opts))
-                    if watcher is not None:
-                        watcher.finished(i, results[-1].status)
+            tasks = [(_pool_claim, (i, opts)) for i in range(len(pairs))]
+            return _gather(pool, tasks, pairs, (BrokenProcessPool,), again)
     finally:
         if relay is not None:
             _EVENTS.put(None)
             relay.join(5)
         _WORK = []
         _EVENTS = None
-    return results
 
 
-def _alone(check: Check, claim: Claim, opts: Options) -> Result:
-    """One claim again, in a child process of its own (its pool broke): open if that child dies too."""
+def _on_cluster(pairs: list[tuple[Check, Claim]], opts: Options, address: str) -> list[Result]:
+    from . import cluster  # imports Dask: only when a cluster is asked for
+    client = cluster.connect(address)
+    try:
+        pool = client.get_executor(pure=False)
+        return _gather(pool, cluster.cluster_tasks(pairs, opts, cluster_claim), pairs, cluster.lost_errors(), cluster.lost_result,
+                       alive=lambda: cluster.worker_count(client) > 0, grace=cluster.NO_WORKER_SECONDS)
+    finally:
+        client.close()
+
+
+def _gather(pool: Executor, tasks: list[tuple[Callable, tuple]], pairs: list[tuple[Check, Claim]],
+            lost: tuple[type, ...], on_lost: Callable[[Check, Claim, BaseException], Result],
+            alive: Optional[Callable[[], bool]] = None, grace: float = 0.0) -> list[Result]:
+    """Submit every task to ``pool`` (a process pool or a cluster's executor) and collect the
+    results in the order of ``pairs``; a task that fails with one of ``lost`` gets ``on_lost``.
+    With ``alive``, claims still waiting after ``alive()`` has been false for ``grace`` seconds
+    are open: a pool with no worker left never hangs the run."""
+    futures = {pool.submit(fn, *args): i for i, (fn, args) in enumerate(tasks)}
+    results: list[Optional[Result]] = [None] * len(tasks)
+    pending = set(futures)
+    idle_since: Optional[float] = None
+    while pending:
+        done, pending = wait(pending, timeout=None if alive is None else POLL_SECONDS, return_when=FIRST_COMPLETED)
+        for f in done:
+            i = futures[f]
+            try:
+                results[i] = f.result()
+            except lost as e:
+                results[i] = on_lost(*pairs[i], e)
+        if alive is None or done or alive():
+            idle_since = None
+            continue
+        idle_since = idle_since or time.monotonic()
+        if time.monotonic() - idle_since >= grace:
+            for f in pending:
+                f.cancel()
+                results[futures[f]] = on_lost(*pairs[futures[f]], TimeoutError(f"no worker for {grace:g} s"))
+            pending = set()
+    return [r for r in results if r is not None]
+
+
+def cluster_claim(version: str, blob: bytes, index: int, opts: Options) -> Result:
+    """On a cluster worker: claim ``index`` of the pickled check ``blob``, in a child process of its own."""
+    from . import cluster
+    check, claim, why = cluster.worker_check(version, blob, index)
+    if why is not None:
+        return make_result(check, claim, OPEN, why, details={"depth": None})
+    return run_alone(check, claim, opts)
+
+
+def run_alone(check: Check, claim: Claim, opts: Options) -> Result:
+    """One claim in a child process of its own (its pool broke, or on a cluster worker):
+    open, saying so, if that child dies."""
     try:
         return run_claim(check, claim, replace(opts, isolate=True))
     except RuntimeError as e:  # run_bounded: the child ended without an answer

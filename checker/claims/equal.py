@@ -27,6 +27,7 @@ from ..elab import Check, Claim, Design
 from ..engines.bmc import bmc
 from ..engines.budget import Budget, OutOfBudget
 from ..engines.correspond import signal_correspondence
+from ..engines.induction import k_induction_step
 from ..engines.miter import PairedMiter, paired_miter
 from ..engines.pdr import Pdr, check_invariant
 from ..engines.product import Product, explicit_search, product, simulate_inputs
@@ -42,6 +43,7 @@ UNUSED_LIMIT = 256  # unused codes enumerated by blocking clauses
 UNUSED_SHOWN = 16
 EXHAUSTIVE_BITS = 22  # engine 'explicit' on paired forms: at most 2^22 (state, input) points
 BMC_FIRST = 16  # clocks of BMC before the proof engines run
+INDUCTION_FIRST = 2  # k-induction step cases tried (k = 1, 2) before signal correspondence
 AUTO_EXPLICIT_STATES = 64  # engine 'auto' on `after`: explicit search up to this many product states
 AUTO_EXPLICIT_INPUTS = 8  # ... and this many input bits
 
@@ -405,7 +407,8 @@ def after_engines(prod: Product, init: list[int], opts: Options, budget: Budget,
                   bmc_first: int = BMC_FIRST, correspondence: bool = True) -> AfterResult:
     """Do the outputs of the product machine agree forever from ``init``?
 
-    BMC for ``bmc_first`` clocks, then signal correspondence (skipped when
+    BMC for ``bmc_first`` clocks, then the step case of k-induction for k up
+    to INDUCTION_FIRST, then signal correspondence (skipped when
     ``correspondence`` is False), then IC3/PDR under the correspondences.
     Proved only by a closed argument: an exhausted explicit search, an
     inductive correspondence that implies the outputs agree, or a PDR
@@ -438,6 +441,12 @@ def after_engines(prod: Product, init: list[int], opts: Options, budget: Budget,
         return AfterResult(REFUTED, "bmc", len(r.inputs) - 1, r.inputs, dict(note))
     if budget.expired():
         return AfterResult(OPEN, "bmc", depth, details=dict(note))
+    # k-induction (Sheeran et al. 2000), base case by the BMC above: one or two
+    # SAT calls that prove a re-encoded counter whose decoded outputs are
+    # inductive (tests/perf/RESULTS_hard_equal.md)
+    ki = k_induction_step(m, bad, min(INDUCTION_FIRST, r.depth), budget, opts.solver)
+    if ki.proved:
+        return AfterResult(PROVED, "k-induction", depth, details=dict(note, induction_depth=ki.k))
     constraint, det = TRUE, dict(note)
     if correspondence:
         sc = signal_correspondence(m, init, bad, budget, opts.solver)

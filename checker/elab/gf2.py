@@ -37,8 +37,19 @@ from functools import lru_cache
 from typing import Iterable
 
 import numpy as np
-from sympy import isprime
-from sympy.ntheory import perfect_power
+
+
+def isprime(n: int) -> bool:
+    """sympy's isprime, imported on first use: most runs never ask, and importing sympy
+    takes about as long as the rest of countersign's imports together."""
+    from sympy import isprime as _isprime
+    return bool(_isprime(n))
+
+
+def perfect_power(n: int):
+    """sympy's perfect_power (``(base, exponent)`` or False), imported on first use."""
+    from sympy.ntheory import perfect_power as _perfect_power
+    return _perfect_power(n)
 
 
 class Unfactored(Exception):

@@ -40,11 +40,13 @@ class PairedMiter:
         return ({n: v(x) for n, x in self.state_vars.items()}, {n: v(x) for n, x in self.input_vars.items()})
 
 
-def paired_miter(ma: Model, mb: Model, solver: str, restrict: Optional[int] = None) -> PairedMiter:
+def paired_miter(ma: Model, mb: Model, solver: str, restrict: Optional[int] = None,
+                 record: bool = False) -> PairedMiter:
     """The miter of ``ma`` and ``mb`` with flops and inputs shared by name.
 
     ``restrict`` is a literal of ``ma``'s graph over its flops (for example the
-    sequence's membership); it becomes ``PairedMiter.restrict``.
+    sequence's membership); it becomes ``PairedMiter.restrict``. ``record``
+    keeps the clauses, for a DIMACS file.
     """
     aig = Aig()
     leaves = {n: aig.leaf(n) for n in ma.inputs + [s for s in mb.inputs if s not in ma.inputs]}
@@ -63,7 +65,7 @@ def paired_miter(ma: Model, mb: Model, solver: str, restrict: Optional[int] = No
     b_next, b_out = dict(zip(mb.states, cb[:nb])), dict(zip(mb.outputs, cb[nb:]))
     xors = [("flop", n, aig.xor(a_next[n], b_next[n])) for n in ma.states if n in b_next]
     xors += [("output", n, aig.xor(a_out[n], b_out[n])) for n in ma.outputs if n in b_out]
-    sat = Sat(solver)
+    sat = Sat(solver, record=record)
     enc = Encoder(aig, sat)
     var = {n: sat.new_var(n) for n in leaves}
     env = enc.new_env({l >> 1: var[n] for n, l in leaves.items()})

@@ -92,6 +92,78 @@ class ExplicitResult:
     depth: int
 
 
+WORD = 63  # state bits per uint64 word of a packed product state (any width: as many words as it takes)
+
+
+def _words(states: list[int], ns: int) -> list[np.ndarray]:
+    """Packed states (ints of ``ns`` bits) as uint64 arrays of WORD bits each, least significant word first."""
+    mask = (1 << WORD) - 1
+    return [np.array([(s >> (WORD * w)) & mask for s in states], dtype=np.uint64)
+            for w in range(max(1, (ns + WORD - 1) // WORD))]
+
+
+def _packed(bits: list[np.ndarray], ns: int, count: int) -> list[int]:
+    """Bit arrays of ``count`` elements (most significant bit first) packed into one int per element."""
+    out: Optional[list[int]] = None
+    for w in range(max(1, (ns + WORD - 1) // WORD)):
+        lo, hi = WORD * w, min(ns, WORD * (w + 1))  # bit positions lo .. hi-1 from the least significant
+        word = np.zeros(count, dtype=np.uint64)
+        for pos in reversed(range(lo, hi)):
+            word = (word << np.uint64(1)) | bits[ns - 1 - pos].astype(np.uint64)
+        vals = word.tolist()
+        out = vals if out is None else [o | (v << (WORD * w)) for o, v in zip(out, vals)]
+    return out or []
+
+
+INT_LANES = 1 << 12  # a BFS layer of at most this many (state, input) lanes is evaluated on Python ints
+
+
+def _layer_ints(model: Model, frontier: list[int], ni: int, roots: list[int]) -> tuple[Optional[int], list[int]]:
+    """One BFS layer on Python ints as bit sets, lane j = (frontier[j >> ni], input j % 2^ni):
+    the first lane where roots[0] (bad) holds, or None, and every lane's next state."""
+    ns, lanes = len(model.states), len(frontier) << ni
+    ones = (1 << lanes) - 1
+    leaves: dict[int, object] = {}
+    for k, l in enumerate(model.state_lits):
+        pos, v = ns - 1 - k, 0
+        for i, s in enumerate(frontier):
+            if (s >> pos) & 1:
+                v |= ((1 << (1 << ni)) - 1) << (i << ni)
+        leaves[l >> 1] = v
+    for k, l in enumerate(model.input_lits):
+        one = sum(1 << c for c in range(1 << ni) if (c >> (ni - 1 - k)) & 1)  # this input's lanes in one state
+        leaves[l >> 1] = sum(one << (i << ni) for i in range(len(frontier)))
+    vals = evaluate(model.aig, leaves, roots, ones)
+    bad = vals[0] & ones
+    if bad:
+        return (bad & -bad).bit_length() - 1, []
+    nxt = [0] * lanes
+    for v in vals[1:]:
+        v &= ones
+        nxt = [(t << 1) | ((v >> j) & 1) for j, t in enumerate(nxt)]
+    return None, nxt
+
+
+def _layer_arrays(model: Model, frontier: list[int], ni: int, roots: list[int],
+                  in_bits: dict[str, np.ndarray]) -> tuple[Optional[int], list[int]]:
+    """The same layer on NumPy arrays, for wide layers."""
+    ns, nf = len(model.states), len(frontier)
+    words = _words(frontier, ns)
+    st = [np.repeat(w, 1 << ni) for w in words]
+    leaves: dict[int, object] = {}
+    for k, l in enumerate(model.state_lits):
+        pos = ns - 1 - k  # bit k (most significant first) of the packed state
+        leaves[l >> 1] = ((st[pos // WORD] >> np.uint64(pos % WORD)) & np.uint64(1)).astype(bool)
+    for n, l in zip(model.inputs, model.input_lits):
+        leaves[l >> 1] = np.tile(in_bits[n], nf)
+    ones = np.ones(nf << ni, dtype=bool)
+    vals = [np.broadcast_to(v, ones.shape) for v in evaluate(model.aig, leaves, roots, ones)]
+    hit = np.flatnonzero(vals[0])
+    if len(hit):
+        return int(hit[0]), []
+    return None, _packed(vals[1:], ns, len(ones))
+
+
 def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1 << 20,
                     max_inputs: int = 12, budget: Optional[Budget] = None) -> Optional[ExplicitResult]:
     """Breadth-first search of the reachable states of ``model`` from ``init``
@@ -101,7 +173,7 @@ def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1
     reachable state under every input.
     """
     ns, ni = len(model.states), len(model.inputs)
-    if ns > 63 or ni > max_inputs:
+    if ni > max_inputs:
         return None
     combos = np.arange(1 << ni, dtype=np.uint64)
     in_bits = {n: ((combos >> np.uint64(ni - 1 - k)) & np.uint64(1)).astype(bool)
@@ -110,36 +182,27 @@ def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1
     for v in init:
         start = (start << 1) | v
     parent: dict[int, tuple[int, int]] = {start: (-1, -1)}
-    frontier = np.array([start], dtype=np.uint64)
+    frontier = [start]
     depth = 0
     roots = [bad] + model.next_lits
-    while len(frontier):
+    while frontier:
         if budget is not None and budget.expired():
             return None
         nf = len(frontier)
-        st = np.repeat(frontier, 1 << ni)
-        leaves: dict[int, object] = {}
-        for k, l in enumerate(model.state_lits):
-            leaves[l >> 1] = ((st >> np.uint64(ns - 1 - k)) & np.uint64(1)).astype(bool)
-        for n, l in zip(model.inputs, model.input_lits):
-            leaves[l >> 1] = np.tile(in_bits[n], nf)
-        ones = np.ones(len(st), dtype=bool)
-        vals = [np.broadcast_to(v, st.shape) for v in evaluate(model.aig, leaves, roots, ones)]
-        hit = np.flatnonzero(vals[0])
-        if len(hit):
-            j = int(hit[0])
-            return ExplicitResult(_path(parent, int(st[j]), j % (1 << ni), model.inputs), len(parent), depth)
-        nxt = np.zeros(len(st), dtype=np.uint64)
-        for v in vals[1:]:
-            nxt = (nxt << np.uint64(1)) | v.astype(np.uint64)
+        if nf << ni <= INT_LANES:
+            hit_at, nxt = _layer_ints(model, frontier, ni, roots)
+        else:
+            hit_at, nxt = _layer_arrays(model, frontier, ni, roots, in_bits)
+        if hit_at is not None:
+            return ExplicitResult(_path(parent, frontier[hit_at >> ni], hit_at % (1 << ni), model.inputs), len(parent), depth)
         new = []
-        for j, (s, t) in enumerate(zip(st.tolist(), nxt.tolist())):
+        for j, t in enumerate(nxt):
             if t not in parent:
-                parent[t] = (s, j % (1 << ni))
+                parent[t] = (frontier[j >> ni], j % (1 << ni))
                 new.append(t)
         if len(parent) > max_states:
             return None
-        frontier = np.array(new, dtype=np.uint64)
+        frontier = new
         depth += 1
     return ExplicitResult(None, len(parent), depth)
 

@@ -15,9 +15,11 @@ from ..fileio import atomic_output, shown, write_output
 from ..model import TRUE, Aig
 from .event_aiger import EVENT_KINDS, event_circuit
 from .netlists import Circuit, aiger_bytes
-from ..engines.sat import Sat, Unrolling
+from ..engines.miter import paired_miter
+from ..engines.sat import DEFAULT_SOLVER, Sat, Unrolling
 from ..claims.always import build_always
 from ..claims.count import build_count
+from ..claims.recover import claim_condition
 
 
 def _name_signals(check: Check, frame: Unrolling) -> None:
@@ -70,9 +72,13 @@ def _header(check: Check, claim: Claim, sat_means: str, unsat_means: str) -> lis
 def export_cnf(check: Check, claim: Claim, path: str) -> dict:
     """Write the SAT problem of one count or always claim to ``path`` as DIMACS
     CNF; returns its statistics (variables, clauses, questions)."""
+    if claim.kind == "recover" and claim.within is not None:
+        return _recover_cnf(check, claim, path)
+    if claim.kind == "equal" and claim.mode != "after":
+        return _equal_cnf(check, claim, path)
     if claim.kind not in ("count", "always"):
-        raise ValueError(f"a {claim.kind} claim cannot be written as CNF yet; "
-                         f"only count and always claims can")
+        raise ValueError(f"a {claim.kind} claim cannot be written as CNF: only count, always, "
+                         f"'recover within N' and equal claims without 'after' are one SAT question")
     if claim.kind == "count" and not check.design.model.synchronous:
         raise ValueError("the count claim of an asynchronous design is decided order by order, "
                          "not by one SAT question, so it has no CNF")
@@ -116,6 +122,67 @@ def export_cnf(check: Check, claim: Claim, path: str) -> dict:
             sat.write_dimacs(f, header)
         return {"path": path, "check": check.name, "claim": claim.kind, "line": claim.pos.line,
                 "vars": sat.nvars, "clauses": len(sat.log or []), "questions": questions}
+
+
+def _write(check: Check, claim: Claim, sat: Sat, path: str, header: list[str], questions: int = 1) -> dict:
+    with atomic_output(path) as f:  # whole or not at all
+        sat.write_dimacs(f, header)
+    return {"path": path, "check": check.name, "claim": claim.kind, "line": claim.pos.line,
+            "vars": sat.nvars, "clauses": len(sat.log or []), "questions": questions}
+
+
+def _recover_cnf(check: Check, claim: Claim, path: str) -> dict:
+    """`recover within N` as one question: N + 1 clocks of unused codes, every input but the
+    last meeting the claim's condition (bounded model checking, Biere et al. 1999, from any
+    unused code). A run of unused codes is either one that takes longer than N clocks or,
+    past N, part of a lock, so UNSAT proves the claim as the SAT engine's deepest question does."""
+    if not check.design.model.synchronous:
+        raise ValueError("the recover claim of an asynchronous design is decided order by order, "
+                         "not by one SAT question, so it has no CNF")
+    n = claim.within
+    assert n is not None
+    space = check.space
+    with Sat(record=True) as sat:
+        cond = claim_condition(check, claim, sat.name)
+        un = Unrolling(space.model, sat)
+        member = space.member_lit()
+        for t in range(n + 1):
+            sat.add([-un.lit(t, member)])
+            if t < n:
+                sat.add([un.lit(t, cond)])
+        for t in range(n + 1):
+            for s, v in zip(space.model.states, un.state(t)):
+                if abs(v) != sat.true and abs(v) not in sat.names:
+                    sat.names[abs(v)] = f"{s}@{t}" if v > 0 else f"!{s}@{t}"
+            for i, v in zip(space.model.inputs, un.inputs(t)):
+                sat.names.setdefault(abs(v), f"{i}@{t}")
+        header = _header(check, claim,
+                         f"refuted: a code is still unused after {n} clock(s) (NAME@t: the run at clock t)",
+                         f"proved: every unused code reaches the sequence within {n} clock(s)")
+        return _write(check, claim, sat, path, header)
+
+
+def _equal_cnf(check: Check, claim: Claim, path: str) -> dict:
+    """`equal OTHER` (every state) or `equal OTHER on sequence` as the flop-paired miter the claim
+    solves: flops and inputs shared by name, SAT when some next-state bit or output differs."""
+    a, b = check.design, claim.other
+    assert b is not None
+    on_seq = claim.mode == "sequence"
+    if on_seq and check.sequence is None:
+        raise ValueError("'equal ... on sequence' needs the check's count line")
+    member = check.sequence.member(a.model.aig, check.code_lits()) if on_seq else None
+    m = paired_miter(a.model, b.model, DEFAULT_SOLVER, member, record=True)
+    try:
+        m.sat.add([m.differ])
+        if on_seq:
+            m.sat.add([m.restrict])
+        where = "in some code of the sequence" if on_seq else "in some state"
+        header = _header(check, claim,
+                         f"refuted: {where}, under some input, a next-state bit or an output of {a.name} and {b.name} differs",
+                         f"proved: {a.name} and {b.name} have the same next state and outputs {where[3:]}")
+        return _write(check, claim, m.sat, path, header)
+    finally:
+        m.sat.close()
 
 
 # --- claims as AIGER circuits ----------------------------------------------------------

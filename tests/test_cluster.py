@@ -1,0 +1,168 @@
+"""`check --cluster ADDRESS`: the same verdicts, in the same order, as one claim at a time,
+on a Dask LocalCluster the tests start; a lost worker leaves its claim open, never a hang."""
+
+from __future__ import annotations
+
+import json
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from checker import api
+from checker.errors import InputError
+
+CASES = Path(__file__).resolve().parent.parent / "cases"
+TIMING = {"seconds", "solve_seconds"}
+TALLY = ("design t\n  in go\n  flop q : T (t = go)\nend\n"
+         "check c of t\n  code q\n  count 0 1\n  hold when !go\n  always q | !q\nend\n")
+
+
+def shape(results) -> list[dict]:
+    return [{k: v for k, v in r.items() if k not in TIMING} for r in results]
+
+
+def _distributed():
+    return pytest.importorskip("distributed", reason="Dask distributed is not installed (pip install 'countersign[cluster]')")
+
+
+def _cluster(n_workers: int):
+    distributed = _distributed()
+    return distributed.LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True,
+                                    dashboard_address=":0", silence_logs=40)
+
+
+@pytest.fixture(scope="module")
+def two_workers():
+    with _cluster(2) as lc:
+        yield lc.scheduler_address
+
+
+def _by_value():
+    import cloudpickle
+    cloudpickle.register_pickle_by_value(sys.modules[__name__])
+
+
+def test_cluster_json_equals_one_at_a_time(two_workers):
+    env = dict(os.environ)
+    run = lambda *extra: subprocess.run([sys.executable, "-m", "checker", "check", str(CASES), "--json", *extra],
+                                        capture_output=True, text=True, env=env, timeout=600)
+    one, many = run("--jobs", "1"), run("--cluster", two_workers)
+    assert one.returncode == many.returncode == 1  # the cases hold refuted claims on purpose
+    a, b = json.loads(one.stdout)["claims"], json.loads(many.stdout)["claims"]
+    assert len(a) > 50
+    assert shape(a) == shape(b)
+
+
+def test_api_cluster_equals_jobs(two_workers):
+    one = api.check_files([str(CASES / "demo.cnl"), str(CASES / "keg_rack.cnl")], api.options(), jobs=1)
+    far = api.check_files([str(CASES / "demo.cnl"), str(CASES / "keg_rack.cnl")], api.options(timeout=60),
+                          cluster=two_workers)
+    assert shape(r.to_json() for r in one.results) == shape(r.to_json() for r in far.results)
+    assert one.status == far.status
+
+
+def _exit_now(*args):
+    os._exit(9)
+
+
+def _patch_always(prover) -> None:
+    from checker.claims import PROVERS
+    PROVERS["always"] = prover
+
+
+def _slow(*args):
+    time.sleep(300)
+
+
+def test_a_claim_that_kills_its_process_is_open_and_the_worker_lives(tmp_path, two_workers):
+    # the always claim kills the process proving it, on every worker; each claim runs in a
+    # child of its worker, so the worker survives and the count claim is proved
+    distributed = _distributed()
+    _by_value()
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    with distributed.Client(two_workers) as client:
+        client.run(_patch_always, _exit_now)
+        try:
+            run = api.check_files([str(p)] * 2, api.options(), cluster=two_workers)
+            assert [r.status for r in run.results] == ["proved", "open"] * 2
+            assert "stopped" in run.results[1].summary
+            assert run.status == 3
+            assert len(client.scheduler_info()["workers"]) == 2
+        finally:
+            from checker.claims import always
+            client.run(_patch_always, always.prove)
+
+
+def test_a_worker_killed_mid_claim_leaves_that_claim_open(tmp_path):
+    # one worker, no retries: the worker is killed while it proves the (slowed) always claim
+    distributed = _distributed()
+    import dask
+    _by_value()
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    with dask.config.set({"distributed.scheduler.allowed-failures": 0}), _cluster(1) as lc:
+        with distributed.Client(lc.scheduler_address) as client:
+            client.run(_patch_always, _slow)
+            pid = next(iter(client.run(os.getpid).values()))
+
+            def kill_when_busy():
+                for _ in range(600):
+                    busy = [k for keys in client.processing().values() for k in keys]
+                    if busy and time.monotonic() - start > 2:
+                        os.kill(pid, signal.SIGKILL)
+                        return
+                    time.sleep(0.1)
+
+            import threading
+            start = time.monotonic()
+            killer = threading.Thread(target=kill_when_busy, daemon=True)
+            killer.start()
+            run = api.check_files([str(p)], api.options(), cluster=lc.scheduler_address)
+            killer.join(5)
+    assert [r.claim for r in run.results] == ["count", "always"]
+    assert run.results[0].status == "proved"
+    assert run.results[1].status == "open" and "lost the worker" in run.results[1].summary
+    assert run.status == 3
+
+
+def test_missing_dask_is_one_clear_error(monkeypatch, tmp_path):
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    monkeypatch.setitem(sys.modules, "distributed", None)  # import distributed now raises ImportError
+    with pytest.raises(InputError) as e:
+        api.check_files([str(p)], api.options(), cluster="tcp://127.0.0.1:8786")
+    assert e.value.pos.file == "<command line>"
+    assert "countersign[cluster]" in e.value.message and "\n" not in e.value.message
+
+
+def test_a_malformed_address_is_refused_at_the_command_line(tmp_path):
+    _distributed()
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    r = subprocess.run([sys.executable, "-m", "checker", "check", str(p), "--cluster", "tcp://nowhere"],
+                       capture_output=True, text=True, timeout=120)
+    assert r.returncode == 2
+    assert r.stderr.startswith("<command line>:1:1: --cluster takes a scheduler address")
+    assert r.stderr.count("\n") == 1 and r.stdout == ""
+
+
+def test_a_scheduler_without_workers_leaves_the_claims_open(tmp_path, monkeypatch):
+    # a scheduler with no worker at all: after the grace period every claim still waiting is open
+    distributed = _distributed()
+    import checker.claims as claims
+    from checker.claims import cluster
+    monkeypatch.setattr(cluster, "NO_WORKER_SECONDS", 1.0)
+    monkeypatch.setattr(claims, "POLL_SECONDS", 0.2)
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    with distributed.LocalCluster(n_workers=0, processes=False, dashboard_address=":0", silence_logs=40) as lc:
+        run = api.check_files([str(p)], api.options(), cluster=lc.scheduler_address)
+    assert [r.status for r in run.results] == ["open", "open"]
+    assert all("no worker for 1 s" in r.summary for r in run.results)
+    assert run.status == 3
