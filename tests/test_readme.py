@@ -58,6 +58,7 @@ CLAIMS = {
     "test_command_synopsis": ["countersign check FILE|FOLDER..."],
     "test_sim_example": ["countersign sim cases/sixpack_t.cnl"],
     "test_python_api_examples": ["prog = checker.load(", "run = api.check_files("],
+    "test_cluster_example": ["--cluster tcp://SCHEDULER-HOST:8786"],
 }
 
 
@@ -163,3 +164,26 @@ def test_html_command_in_the_text(tmp_path, monkeypatch, capsys):
     assert "`countersign check cases/ --html report.html`" in README.read_text(encoding="utf-8")
     rc, _ = _run(["check", "cases/", "--html", "report.html", "--timeout", "60"], capsys)
     assert rc == 1 and (tmp_path / "report.html").stat().st_size > 0
+
+
+def test_cluster_example(tmp_path, capsys, monkeypatch):
+    """The cluster block: the `dask` commands it names come with the cluster extra, and its
+    countersign line runs as written against a scheduler (a LocalCluster stands in for
+    SCHEDULER-HOST, a folder of one check for regression/)."""
+    distributed = pytest.importorskip("distributed", reason="Dask distributed is not installed")
+    from importlib.metadata import entry_points
+    text = block(CLAIMS["test_cluster_example"][0])
+    lines = [ln.split("#")[0].strip() for ln in text.strip().splitlines()]
+    assert "dask" in {e.name for e in entry_points(group="console_scripts")}
+    assert lines[0].split()[:2] == ["dask", "scheduler"] and lines[1].split()[:2] == ["dask", "worker"]
+    (tmp_path / "regression").mkdir()
+    (tmp_path / "regression" / "t.cnl").write_text(
+        "design t\n  in go\n  flop q : T (t = go)\nend\ncheck c of t\n  code q\n  count 0 1\n  hold when !go\nend\n")
+    monkeypatch.chdir(tmp_path)
+    with distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True,
+                                  dashboard_address=":0", silence_logs=40) as lc:
+        host = lc.scheduler_address.removeprefix("tcp://")
+        argv = shlex.split(lines[2].replace("SCHEDULER-HOST:8786", host))
+        assert argv[0] == "countersign"
+        rc, out = _run(argv[1:], capsys)
+    assert rc == 0 and "proved" in out
