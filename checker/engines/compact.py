@@ -161,8 +161,9 @@ def _run_ends(succ: np.ndarray, unused: np.ndarray, budget: Optional[Budget]) ->
         s = succ[base:hi]
         nxt = np.arange(base + 1, hi + 1, dtype=np.int64)
         cont = s == nxt
+        cont[:hi - base - 1] &= unused[base + 1:hi]
         if hi < n:
-            cont &= unused[base + 1:hi + 1]
+            cont[-1] &= unused[hi]
         else:
             cont[-1] = False
         pieces.append((np.flatnonzero(unused[base:hi] & ~cont) + base).astype(np.int32))
