@@ -38,6 +38,9 @@ BASE_BYTES = 160 << 20
 """Bytes a run holds besides its tables: the chunk's temporaries and the interpreter's share."""
 
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
+SETS_LIMIT = 1 << 16
+"""Most locked cycles listed one by one (their number is always given)."""
+
 SEQ = np.int32(-1)
 LOCKED = np.int32(-2)
 _MASKS = [(np.uint64(0x00AA00AA00AA00AA), np.uint64(7)), (np.uint64(0x0000CCCC0000CCCC), np.uint64(14)),
@@ -217,8 +220,10 @@ def depth_functional(succ: np.ndarray, member: np.ndarray,
             ptr[a] = np.where(lock, LOCKED, q)
             active = active or bool((~lock & (q >= 0)).any())
     # fill: a code of run i needs top[i] - code clocks (top = end + clocks from the end)
-    top = np.where(ptr == SEQ, ends + acc, -1).astype(np.int32)
-    del ptr, acc
+    top = acc  # in place: no array beside the jumps and counters
+    top += ends
+    top[ptr != SEQ] = -1
+    del ptr
     for base in range(0, n, CHUNK):
         _tick(budget, rounds)
         hi = min(n, base + CHUNK)
@@ -233,21 +238,36 @@ def depth_functional(succ: np.ndarray, member: np.ndarray,
     return steps, rounds
 
 
-def functional_cycles(succ: np.ndarray, steps: np.ndarray,
-                      budget: Optional[Budget] = None) -> list[np.ndarray]:
-    """The cycles among the locked codes (``steps < 0``) of a one-successor table, each sorted.
+def _take(table: np.ndarray, idx: np.ndarray) -> np.ndarray:
+    """``table[idx]`` a chunk at a time (no index array widened to 64 bits as a whole)."""
+    out = np.empty(idx.size, dtype=table.dtype)
+    for lo in range(0, idx.size, CHUNK):
+        out[lo:lo + CHUNK] = table[idx[lo:lo + CHUNK]]
+    return out
 
-    The locked codes are closed under the successor; after 2^r >= their
-    number of doublings (``p = p[p]``) every code sits on its cycle, and
-    the cycles are labelled by the smallest position on them. 32-bit
-    positions throughout.
+
+def _positions(mask: np.ndarray, offset: int = 0) -> np.ndarray:
+    """``flatnonzero(mask) + offset`` as int32, a chunk at a time."""
+    parts = [np.flatnonzero(mask[b:b + CHUNK]).astype(np.int32) + np.int32(b + offset)
+             for b in range(0, mask.size, CHUNK)]
+    return np.concatenate(parts) if parts else np.zeros(0, dtype=np.int32)
+
+
+def functional_cycles(succ: np.ndarray, steps: np.ndarray, budget: Optional[Budget] = None,
+                      limit: int = SETS_LIMIT) -> tuple[list[np.ndarray], int]:
+    """The cycles among the locked codes (``steps < 0``) of a one-successor table, and how many.
+
+    Returns the first ``limit`` cycles by smallest code (each sorted) and the
+    number of cycles. The locked codes are closed under the successor; after
+    2^r >= their number of doublings (``p = p[p]``) every code sits on its
+    cycle, and a cycle is labelled by the smallest position on it. Positions
+    are 32-bit and gathered a chunk at a time: at most 20 bytes a locked code.
     """
-    n = steps.size
     locked = np.concatenate([np.flatnonzero(steps[b:b + CHUNK] < 0).astype(np.int32) + np.int32(b)
-                             for b in range(0, n, CHUNK)])
+                             for b in range(0, steps.size, CHUNK)])
     size = locked.size
     if size == 0:
-        return []
+        return [], 0
     pos = np.empty(size, dtype=np.int32)
     for lo in range(0, size, CHUNK):
         _tick(budget)
@@ -256,18 +276,34 @@ def functional_cycles(succ: np.ndarray, steps: np.ndarray,
     p = pos.copy()
     for _ in range(rounds):
         _tick(budget)
-        p = p[p]
-    on = np.unique(p)
+        p = _take(p, p)
+    mark = np.zeros(size, dtype=bool)
+    for lo in range(0, size, CHUNK):
+        mark[p[lo:lo + CHUNK]] = True
     del p
-    q = np.searchsorted(on, pos[on]).astype(np.int32)
+    on = _positions(mark)
+    del mark
+    q = np.empty(on.size, dtype=np.int32)
+    for lo in range(0, on.size, CHUNK):
+        q[lo:lo + CHUNK] = np.searchsorted(on, pos[on[lo:lo + CHUNK]])
     del pos
-    lab = np.arange(on.size, dtype=np.int32)
+    codes = _take(locked, on)
+    del locked, on
+    lab = np.arange(codes.size, dtype=np.int32)
     for _ in range(rounds):
-        lab = np.minimum(lab, lab[q])
-        q = q[q]
-    codes = locked[on]
-    order = np.lexsort((codes, lab))
-    lab, codes = lab[order], codes[order]
+        _tick(budget)
+        lab = np.minimum(lab, _take(lab, q))
+        q = _take(q, q)
+    del q
+    heads = np.flatnonzero(lab == np.arange(lab.size, dtype=np.int32))  # one per cycle, in code order
+    count = int(heads.size)
+    if count > limit:  # keep the cycles of the first ``limit`` heads only
+        keep = lab < heads[limit]
+        codes, lab = codes[keep], lab[keep]
+    order = np.argsort(lab, kind="stable")  # codes stay ascending within a cycle
+    lab = lab[order]
     cuts = np.flatnonzero(np.diff(lab)) + 1
-    sets = [np.sort(s).astype(np.int64) for s in np.split(codes, cuts)]
-    return sorted(sets, key=lambda a: int(a[0]))
+    del lab
+    codes = codes[order]
+    del order
+    return [s.astype(np.int64) for s in np.split(codes, cuts)], count

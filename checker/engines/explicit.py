@@ -133,7 +133,9 @@ class Analysis:
     ``steps[c]``: 0 for a sequence code, the worst number of clocks to reach
     the sequence for an unused code, -1 for one that can stay unused forever.
     ``locked_sets``: every strongly connected set of unused codes that holds a
-    cycle, each sorted, the sets sorted. ``worst`` is None when some code can
+    cycle, each sorted, the sets sorted; ``locked_total`` how many there are
+    (more than are listed only when a one-successor graph has more than
+    :data:`compact.SETS_LIMIT` cycles). ``worst`` is None when some code can
     stay unused forever; ``worst_code`` the smallest code attaining ``worst``.
     """
 
@@ -144,13 +146,30 @@ class Analysis:
     locked_sets: list[np.ndarray] = field(default_factory=list)
     unused_count: int = 0
     rounds: int = 0
+    locked_total: int = -1
+
+    def __post_init__(self) -> None:
+        if self.locked_total < 0:
+            self.locked_total = len(self.locked_sets)
 
     @property
     def locked(self) -> bool:
         return bool(self.locked_sets)
 
-    def locked_json(self) -> list[list[int]]:
-        return [[int(c) for c in s] for s in self.locked_sets]
+    @property
+    def locked_cut(self) -> bool:
+        """Whether some locked sets are not listed (see ``locked_total``)."""
+        return self.locked_total > len(self.locked_sets)
+
+    def locked_json(self, limit: Optional[int] = None) -> list[list[int]]:
+        """The locked sets as lists of ints; with ``limit``, the first sets that fit in that many codes."""
+        out, n = [], 0
+        for s in self.locked_sets:
+            if limit is not None and n + s.size > limit:
+                break
+            out.append([int(c) for c in s])
+            n += s.size
+        return out
 
 
 # --- feasibility and admissible inputs -----------------------------------
@@ -631,9 +650,13 @@ def analyse(g: Graph, budget: Optional[Budget] = None, compact: bool = True) -> 
     count = g.size - int(np.count_nonzero(g.member))
     if count == 0:
         return Analysis(g, steps, 0, None, [], 0, rounds)
-    sets = C.functional_cycles(g.succ[0], steps, budget) if g.deterministic and compact else _cycles(g, steps)
+    if g.deterministic and compact:
+        sets, total = C.functional_cycles(g.succ[0], steps, budget)
+    else:
+        sets = _cycles(g, steps)
+        total = len(sets)
     if sets or bool((steps < 0).any()):  # a sequence code's steps are 0
-        return Analysis(g, steps, None, None, sets, count, rounds)
+        return Analysis(g, steps, None, None, sets, count, rounds, total)
     worst_code = int(np.argmax(steps))
     return Analysis(g, steps, int(steps[worst_code]), worst_code, sets, count, rounds)
 
