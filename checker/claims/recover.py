@@ -36,8 +36,9 @@ from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 TRACE_LIMIT = 4096
 """Longest locked cycle a trace walks around in full."""
 
-SAT_FIRST_WIDTH = 16
-"""With engine 'auto', codes wider than this get a short SAT search before the exhaustive one."""
+SAT_FIRST_WIDTH = 24
+"""With engine 'auto', codes wider than this get a short SAT search before the exhaustive one
+(up to 2^24 codes the compact explicit engine takes about a second: tests/perf/RESULTS_explicit.md)."""
 
 SAT_FIRST_DEPTH = 16
 """Frames of that short SAT search."""

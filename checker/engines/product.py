@@ -82,6 +82,10 @@ def simulate_inputs(model: Model, init: list[int], inputs: list[dict[str, int]])
     return states
 
 
+SLICE_EDGES = 1 << 16
+"""(State, input) pairs of a frontier evaluated at once: memory stays small whatever the frontier."""
+
+
 @dataclass
 class ExplicitResult:
     """``inputs`` of a shortest run reaching ``bad`` (None when unreachable),
@@ -113,32 +117,35 @@ def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1
     frontier = np.array([start], dtype=np.uint64)
     depth = 0
     roots = [bad] + model.next_lits
+    piece = max(1, SLICE_EDGES >> ni)  # states of a frontier evaluated at once
     while len(frontier):
-        if budget is not None and budget.expired():
-            return None
-        nf = len(frontier)
-        st = np.repeat(frontier, 1 << ni)
-        leaves: dict[int, object] = {}
-        for k, l in enumerate(model.state_lits):
-            leaves[l >> 1] = ((st >> np.uint64(ns - 1 - k)) & np.uint64(1)).astype(bool)
-        for n, l in zip(model.inputs, model.input_lits):
-            leaves[l >> 1] = np.tile(in_bits[n], nf)
-        ones = np.ones(len(st), dtype=bool)
-        vals = [np.broadcast_to(v, st.shape) for v in evaluate(model.aig, leaves, roots, ones)]
-        hit = np.flatnonzero(vals[0])
-        if len(hit):
-            j = int(hit[0])
-            return ExplicitResult(_path(parent, int(st[j]), j % (1 << ni), model.inputs), len(parent), depth)
-        nxt = np.zeros(len(st), dtype=np.uint64)
-        for v in vals[1:]:
-            nxt = (nxt << np.uint64(1)) | v.astype(np.uint64)
-        new = []
-        for j, (s, t) in enumerate(zip(st.tolist(), nxt.tolist())):
-            if t not in parent:
-                parent[t] = (s, j % (1 << ni))
-                new.append(t)
-        if len(parent) > max_states:
-            return None
+        new: list[int] = []
+        for lo in range(0, len(frontier), piece):
+            if budget is not None and budget.expired():
+                return None
+            part = frontier[lo:lo + piece]
+            nf = len(part)
+            st = np.repeat(part, 1 << ni)
+            leaves: dict[int, object] = {}
+            for k, l in enumerate(model.state_lits):
+                leaves[l >> 1] = ((st >> np.uint64(ns - 1 - k)) & np.uint64(1)).astype(bool)
+            for n, l in zip(model.inputs, model.input_lits):
+                leaves[l >> 1] = np.tile(in_bits[n], nf)
+            ones = np.ones(len(st), dtype=bool)
+            vals = [np.broadcast_to(v, st.shape) for v in evaluate(model.aig, leaves, roots, ones)]
+            hit = np.flatnonzero(vals[0])
+            if len(hit):
+                j = int(hit[0])
+                return ExplicitResult(_path(parent, int(st[j]), j % (1 << ni), model.inputs), len(parent), depth)
+            nxt = np.zeros(len(st), dtype=np.uint64)
+            for v in vals[1:]:
+                nxt = (nxt << np.uint64(1)) | v.astype(np.uint64)
+            for j, (s, t) in enumerate(zip(st.tolist(), nxt.tolist())):
+                if t not in parent:
+                    parent[t] = (s, j % (1 << ni))
+                    new.append(t)
+            if len(parent) > max_states:
+                return None
         frontier = np.array(new, dtype=np.uint64)
         depth += 1
     return ExplicitResult(None, len(parent), depth)
