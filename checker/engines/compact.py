@@ -99,15 +99,19 @@ def planes_to_codes(planes: list[np.ndarray], size: int) -> np.ndarray:
     nbytes = size // 8
     out = np.zeros(size, dtype=np.uint32)
     view = out.view(np.uint8).reshape(size, 4)
+    t = np.empty(nbytes, dtype=np.uint64)
     for g in range(0, len(planes), 8):
-        group = planes[g:g + 8]
-        m = np.zeros((nbytes, 8), dtype=np.uint8)
-        for j, p in enumerate(group):
-            m[:, j] = np.ascontiguousarray(p).view(np.uint8)
-        x = m.view(np.uint64).ravel()
-        for mask, s in _MASKS:
-            t = (x ^ (x >> s)) & mask
-            x = x ^ t ^ (t << s)
+        m = np.zeros((8, nbytes), dtype=np.uint8)
+        for j, p in enumerate(planes[g:g + 8]):
+            m[j] = np.ascontiguousarray(p).view(np.uint8)
+        x = np.ascontiguousarray(m.T).view(np.uint64).ravel()
+        for mask, s in _MASKS:  # x ^= t ^ (t << s) with t = (x ^ (x >> s)) & mask, in place
+            np.right_shift(x, s, out=t)
+            t ^= x
+            t &= mask
+            x ^= t
+            t <<= s
+            x ^= t
         view[:, g // 8] = x.view(np.uint8)
     return out
 
@@ -209,10 +213,10 @@ def depth_functional(succ: np.ndarray, member: np.ndarray,
         _tick(budget, rounds)
         active = False
         for lo in range(0, k, CHUNK):
-            a = np.flatnonzero(ptr[lo:lo + CHUNK] >= 0).astype(np.int32) + np.int32(lo)
+            a = np.flatnonzero(ptr[lo:lo + CHUNK] >= 0) + lo  # native indices: no conversion per gather
             if a.size == 0:
                 continue
-            p = ptr[a]
+            p = ptr[a].astype(np.intp)
             q = ptr[p]
             s = acc[a].astype(np.int64) + acc[p]
             lock = (q == LOCKED) | (s > n)
