@@ -34,8 +34,9 @@ MEMORY_LIMIT = 8 << 30
 CHUNK = 1 << 21
 """Codes evaluated, or ranked, per pass (a multiple of 64 and a power of two)."""
 
-BASE_BYTES = 160 << 20
-"""Bytes a run holds besides its tables: the chunk's temporaries and the interpreter's share."""
+BASE_BYTES = 256 << 20
+"""Bytes a run holds besides its tables: the interpreter and libraries (about 110 MiB resident),
+a chunk's temporaries, and, up to 2^20 codes, the second analysis of a repair plan."""
 
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
 SETS_LIMIT = 1 << 16

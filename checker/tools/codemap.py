@@ -19,7 +19,7 @@ from typing import Optional
 import numpy as np
 
 from ..claims.common import Options, stepping
-from ..claims.recover import choose_engine, locked_listing
+from ..claims.recover import LOCKED_LIST_LIMIT, choose_engine
 from ..elab import Check
 from ..engines import explicit as X
 from ..engines import repair
@@ -167,8 +167,8 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
     if analysis is not None:
         doc.analysis = analysis
         doc["worst"] = analysis.worst
-        doc["locked"], cut = locked_listing(analysis.locked_json())
-        if cut:
+        doc["locked"] = analysis.locked_json(LOCKED_LIST_LIMIT)  # never every code of a huge set as ints
+        if len(doc["locked"]) < analysis.locked_total:
             doc["locked_complete"] = False
         doc["unused"] = _entries(analysis, _order(analysis, limit))
         if not check.design.model.synchronous:
