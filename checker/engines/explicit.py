@@ -669,7 +669,8 @@ def explore(space: CodeSpace, cond: int, budget: Optional[Budget] = None, solver
     rows = admissible_rows(space, cond, solver)
     if not space.model.synchronous:
         return analyse(build_settled_graph(space, rows, budget), budget, compact)
-    return analyse(build_graph(space, rows, budget, compact), budget, compact)
+    with C.small_pages():
+        return analyse(build_graph(space, rows, budget, compact), budget, compact)
 
 
 class NeverSettles(Exception):
