@@ -231,3 +231,14 @@ def test_over_the_limit_is_refused_with_the_bytes(monkeypatch, write):
     assert claim["engine"] == "sat" and claim["status"] == "proved"
     rc, out, err = run(["check", p, "--jobs", "1"])
     assert "explicit engine not used" in out and "would need" in out
+
+
+def test_a_recover_result_says_the_memory_stated_before_the_run():
+    from checker.claims import run_claim
+    from checker.claims.common import Options
+
+    check = load_text(tail_counter(12, 63))
+    claim = [c for c in check.claims if c.kind == "recover"][0]
+    r = run_claim(check, claim, Options(engine="explicit"))
+    assert r.status == "proved" and r.details["memory_bound"] == C.memory_needed(12, 1)
+    assert any(f"at most {C.gib(C.memory_needed(12, 1))}" in line for line in r.evidence)

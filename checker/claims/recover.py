@@ -200,19 +200,21 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
     def one(c: int) -> str:
         return code_and_decimal(c, check.width, radix)
 
+    need = X.memory_needed(check.space, cond, solver)  # stated before the run (feasible refused above the limit)
     a = X.explore(check.space, cond, budget, solver)
     g = a.graph
     seq = check.sequence
     assert seq is not None
     details: dict = {"engine": "explicit", "worst": a.worst, "worst_code": a.worst_code,
-                     "unused_count": a.unused_count}
+                     "unused_count": a.unused_count, "memory_bound": need}
     listed = a.locked_json(LOCKED_LIST_LIMIT)
     cut = len(listed) < a.locked_total
     details["locked"] = listed
     details["locked_complete"] = not cut
     if cut:
         details["locked_truncated"] = True
-    evidence = [f"engine explicit: {g.size} codes, {a.unused_count} unused, {len(g.rows)} input row(s)"]
+    evidence = [f"engine explicit: {g.size} codes, {a.unused_count} unused, {len(g.rows)} input row(s); "
+                f"memory stated before the run: at most {X.C.gib(need)}"]
     if a.locked:
         sizes = [int(s.size) for s in a.locked_sets]
         details["locked_sizes"] = sizes
