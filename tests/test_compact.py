@@ -242,3 +242,22 @@ def test_a_recover_result_says_the_memory_stated_before_the_run():
     r = run_claim(check, claim, Options(engine="explicit"))
     assert r.status == "proved" and r.details["memory_bound"] == C.memory_needed(12, 1)
     assert any(f"at most {C.gib(C.memory_needed(12, 1))}" in line for line in r.evidence)
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(designs, st.integers(1, 40), st.sampled_from([8, 64, 1 << 21]))
+def test_the_map_picks_the_slowest_codes_a_chunk_at_a_time(text, limit, chunk):
+    """The map's order (locked first, then slowest, then smallest code) against a plain sort."""
+    from checker.tools import codemap
+
+    check = load_text(text)
+    a = X.explore(check.space, condition(check))
+    saved = codemap.ORDER_CHUNK
+    codemap.ORDER_CHUNK = chunk
+    try:
+        got = codemap._order(a, limit).tolist()
+    finally:
+        codemap.ORDER_CHUNK = saved
+    unused = [c for c in range(a.graph.size) if not a.graph.member[c]]
+    key = {c: (1 << 40) if a.steps[c] < 0 else int(a.steps[c]) for c in unused}
+    assert got == sorted(unused, key=lambda c: (-key[c], c))[:limit]
