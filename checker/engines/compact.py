@@ -302,16 +302,19 @@ def functional_cycles(succ: np.ndarray, steps: np.ndarray, budget: Optional[Budg
         _tick(budget)
         pos[lo:lo + CHUNK] = np.searchsorted(locked, succ[locked[lo:lo + CHUNK]].astype(np.int32))
     rounds = max(1, int(size).bit_length() + 1)
-    p = pos.copy()
-    for _ in range(rounds):
-        _tick(budget)
-        p = _take(p, p)
-    mark = np.zeros(size, dtype=bool)
-    for lo in range(0, size, CHUNK):
-        mark[p[lo:lo + CHUNK]] = True
-    del p
-    on = _positions(mark)
-    del mark
+    if bool((np.bincount(pos, minlength=size) == 1).all()):
+        on = np.arange(size, dtype=np.int32)  # a permutation of the locked codes: every one is on a cycle
+    else:
+        p = pos.copy()
+        for _ in range(rounds):
+            _tick(budget)
+            p = _take(p, p)
+        mark = np.zeros(size, dtype=bool)
+        for lo in range(0, size, CHUNK):
+            mark[p[lo:lo + CHUNK]] = True
+        del p
+        on = _positions(mark)
+        del mark
     q = np.empty(on.size, dtype=np.int32)
     for lo in range(0, on.size, CHUNK):
         q[lo:lo + CHUNK] = np.searchsorted(on, pos[on[lo:lo + CHUNK]])
