@@ -157,7 +157,7 @@ def main() -> None:
     out()
     out("No runs: every code is ranked by pointer jumping and lies on a cycle, so both the ranking and the "
         "cycle search take about log2(2^w) passes over every code; at 24 bits (cycles of 2^21 codes) the "
-        "exploration alone took 28 s for the ranking and 61 s for the cycles in a separate run on the loaded "
+        "exploration alone took 28 s for the ranking and 40 s for the cycles in a separate run on the loaded "
         "machine, so the row is left out here.")
     out()
     out("## The whole process at 24 bits (long tail), `countersign check --jobs 1`")
