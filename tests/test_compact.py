@@ -181,8 +181,7 @@ def test_peak_memory_within_the_stated_bound(monkeypatch, text, rows):
 
 def test_peak_memory_with_several_rows(monkeypatch):
     monkeypatch.setattr(C, "CHUNK", 1 << 12)
-    from test_explicit import dosing_designs  # noqa: F401  (the same pump, here at 14 bits)
-    n = 14
+    n = 14  # the dosing pump of tests/test_explicit.py, at 14 bits
     top = (1 << n) - 1
     text = f"""
 design pump
