@@ -361,7 +361,7 @@ def test_xnor_shift_register_locks_at_all_ones():
 def test_feasible_says_why_not():
     check = load_text("""
 design wide
-  flop q[29:0] : D (d = q)
+  flop q[30:0] : D (d = q)
 end
 check all of wide
   code q
@@ -370,7 +370,7 @@ check all of wide
 end
 """)
     ok, why = X.feasible(check.space, stepping(check))
-    assert not ok and "30 bits" in why
+    assert not ok and "31 bits" in why
 
 
 def test_too_many_inputs_for_rows():

@@ -266,7 +266,11 @@ def test_cases_recover_claims_agree():
         pytest.skip("no recover claims in cases/ yet")
 
 
-def test_auto_tries_a_short_sat_search_on_wide_explicit_codes(write):
+def test_auto_tries_a_short_sat_search_on_wide_explicit_codes(write, monkeypatch):
+    # above SAT_FIRST_WIDTH (24 bits); lowered here so that the exhaustive engine stays small
+    from checker.claims import recover
+
+    monkeypatch.setattr(recover, "SAT_FIRST_WIDTH", 16)
     short = load(write, tail_counter(20, (0b11 << 18) | 0b11))
     r = run_claim(short, claims_of(short)[0], Options())
     assert r.details["engine"] == "sat" and r.details["worst"] == 4

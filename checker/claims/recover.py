@@ -38,8 +38,9 @@ from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 TRACE_LIMIT = 4096
 """Longest locked cycle a trace walks around in full."""
 
-SAT_FIRST_WIDTH = 16
-"""With engine 'auto', codes wider than this get a short SAT search before the exhaustive one."""
+SAT_FIRST_WIDTH = 24
+"""With engine 'auto', codes wider than this get a short SAT search before the exhaustive one
+(up to 2^24 codes the compact explicit engine takes about a second: tests/perf/RESULTS_explicit.md)."""
 
 SAT_FIRST_DEPTH = 16
 """Frames of that short SAT search."""
@@ -209,17 +210,19 @@ CODES_SHOWN = 32
 """Codes of one locked set a readable report lists."""
 
 
-def set_lines(sets: list[list[int]], fmt: Callable[[int], str] = str, limit: int = SETS_SHOWN,
-              more: str = "--json lists every one") -> list[str]:
-    """The first ``limit`` sets of codes as readable lines, each cut short when long; every cut
-    says how much was shown of how much, and ``more`` says how to see the rest."""
+def set_lines(sets, fmt: Callable[[int], str] = str, limit: int = SETS_SHOWN,
+              more: str = "--json lists every one", total: Optional[int] = None) -> list[str]:
+    """The first ``limit`` sets of codes (lists or arrays) as readable lines, each cut short when
+    long; every cut says how much was shown of how much, and ``more`` says how to see the rest.
+    ``total``: the number of sets when ``sets`` lists only the first of them."""
     lines = []
+    total = len(sets) if total is None else total
     for s in sets[:limit]:
         cut = len(s) > CODES_SHOWN
-        lines.append("  {" + ", ".join(fmt(c) for c in s[:CODES_SHOWN])
+        lines.append("  {" + ", ".join(fmt(int(c)) for c in s[:CODES_SHOWN])
                      + (f", ... ({CODES_SHOWN} of {len(s)} codes shown)" if cut else "") + "}")
-    if len(sets) > limit:
-        lines.append(f"  ({limit} of {len(sets)} locked sets shown; {more})")
+    if total > limit:
+        lines.append(f"  ({limit} of {total} locked sets shown; {more})")
     return lines
 
 
@@ -230,37 +233,41 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
     def one(c: int) -> str:
         return code_and_decimal(c, check.width, radix)
 
+    need = X.memory_needed(check.space, cond, solver)  # stated before the run (feasible refused above the limit)
     a = X.explore(check.space, cond, budget, solver)
     g = a.graph
     seq = check.sequence
     assert seq is not None
     details: dict = {"engine": "explicit", "worst": a.worst, "worst_code": a.worst_code,
-                     "unused_count": a.unused_count}
-    sets = a.locked_json()
-    listed, cut = locked_listing(sets)
+                     "unused_count": a.unused_count, "memory_bound": need}
+    listed = a.locked_json(LOCKED_LIST_LIMIT)
+    cut = len(listed) < a.locked_total
     details["locked"] = listed
     details["locked_complete"] = not cut
     if cut:
         details["locked_truncated"] = True
-    evidence = [f"engine explicit: {g.size} codes, {a.unused_count} unused, {count(len(g.rows), 'input row')}"]
+    evidence = [f"engine explicit: {g.size} codes, {a.unused_count} unused, {count(len(g.rows), 'input row')}; "
+                f"memory stated before the run: at most {X.C.gib(need)}"]
     if a.locked:
-        sizes = [len(s) for s in sets]
+        sizes = [int(s.size) for s in a.locked_sets]
         details["locked_sizes"] = sizes
         smallest = min(a.locked_sets, key=lambda s: (s.size, int(s[0])))
         codes, rows, complete = X.cycle_run(a, smallest, TRACE_LIMIT)
         trace = _replayed(check, codes, [g.rows.full[r] for r in rows])
         n_locked = int((a.steps < 0).sum())
-        evidence.append(f"locked: {count(len(sets), 'set of unused codes')} "
-                        f"{'holds' if len(sets) == 1 else 'hold'} a cycle "
-                        f"({'size' if len(sets) == 1 else 'sizes'} {_sizes(sizes)}); "
+        n_sets = a.locked_total
+        evidence.append(f"locked: {count(n_sets, 'set of unused codes')} "
+                        f"{'holds' if n_sets == 1 else 'hold'} a cycle "
+                        f"({'size' if n_sets == 1 else 'sizes'} {_sizes(sizes)}"
+                        f"{'' if not a.locked_cut else f' of the first {len(sizes)}'}); "
                         f"{count(n_locked, 'unused code')} can stay unused forever")
-        evidence.extend(set_lines(sets, fmt))
+        evidence.extend(set_lines(a.locked_sets, fmt, total=n_sets))
         evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + _arrow(codes, fmt=fmt))
         if complete:
             evidence.extend(lock_inputs_lines(check, codes, [t.inputs or {} for t in trace[:-1]], fmt))
         if not complete:
             details["trace_truncated"] = True
-        res = make_result(check, claim, REFUTED, f"locked: {count(len(sets), 'set')} of unused codes with a cycle",
+        res = make_result(check, claim, REFUTED, f"locked: {count(a.locked_total, 'set')} of unused codes with a cycle",
                           trace=trace, details=details, evidence=evidence)
     elif claim.within is not None and a.worst is not None and a.worst > claim.within:
         codes, rows = X.worst_run(a, a.worst_code, claim.within)

@@ -56,6 +56,16 @@ class Budget:
         if self.expired():
             raise OutOfBudget(depth)
 
+    def share(self, fraction: float, at_least: float, unbounded: float) -> "Budget":
+        """A budget for a first try within this one: ``fraction`` of the time left, at least
+        ``at_least`` seconds (never past this deadline), or ``unbounded`` seconds when this
+        budget has no deadline. Progress is not shared."""
+        now = time.monotonic()
+        if self.deadline is None:
+            return Budget(now + unbounded)
+        left = max(0.0, self.deadline - now)
+        return Budget(now + min(left, max(at_least, fraction * left)))
+
     def report(self, **kv: Any) -> None:
         """Record progress (for example ``depth=k``); it survives a hard stop, and a live
         display sees it too."""

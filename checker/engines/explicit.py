@@ -13,17 +13,23 @@ In v1 ``code`` names every flop, so a code is the whole state; the engine
 refuses a check whose code leaves a flop out. Repair hints drawn from an
 :class:`Analysis` are in :mod:`checker.repair`.
 
-Memory: the successor table takes 4 bytes per edge (one edge per code and
-admissible input row), at most :data:`EDGE_LIMIT` edges (128 MiB); the depth
-and cycle arrays add about 40 bytes per code when the inputs do not matter
-and about 24 bytes per edge when they do, so the bound is about 1 GiB. At
-2^24 codes with one input row the measured peak is 0.5 to 0.7 GiB
-(tests/perf/RESULTS_recover.md).
+Memory: the tables are compact (:mod:`checker.engines.compact`): 4 bytes per
+code and input row for the successors, 4 per code for the depths, and what
+the analysis holds on top; :func:`feasible` states the bytes a run will need
+from the width and the row count alone and refuses a check above
+:data:`compact.MEMORY_LIMIT` (8 GiB) before anything is built. With one
+input row that is 29 bytes a code at most: 2^28 codes fit, and the
+measured peaks are far below the bound (tests/perf/RESULTS_explicit.md).
 
-Time: one vectorised pass per table chunk, then pointer jumping (one
-successor per code: log2(2^w) rounds whatever the tails) or retrograde
-rounds (several successors: one round per clock of the worst, finished by a
-work queue when a long thin tail remains).
+Time: one vectorised pass per table chunk, then (one successor per code)
+runs of codes counting up by one contracted and the rest ranked by pointer
+jumping, or (several successors) retrograde rounds, one round per clock of
+the worst, finished by a work queue when a long thin tail remains.
+
+The engine before the compact tables (a successor table of at most
+:data:`EDGE_LIMIT` edges, pointer jumping over every code) is kept as
+``compact=False``: tests and tests/perf/bench_explicit.py hold the two side
+by side.
 """
 
 from __future__ import annotations
@@ -42,15 +48,16 @@ from ..model.simulate import eval_states
 from ..model.events import EventModel, packed, unpacked
 from ..model.space import CodeSpace
 from .cascade import Exploration
+from . import compact as C
 
 ASYNC_MAX_WIDTH = 16
 """Widest code of an asynchronous design whose every clock the explicit engine explores."""
 
-MAX_WIDTH = 25
-"""Widest code the explicit engine takes."""
+MAX_WIDTH = 30
+"""Widest code the explicit engine takes (codes and depths are 32-bit; memory decides below this)."""
 
 EDGE_LIMIT = 1 << 25
-"""Most edges (codes times admissible input rows) the successor table may hold."""
+"""Most edges (codes times admissible input rows) the table of ``compact=False`` may hold."""
 
 INPUT_BITS_LIMIT = 12
 """Most input bits that may reach the next code (rows are their combinations)."""
@@ -126,7 +133,9 @@ class Analysis:
     ``steps[c]``: 0 for a sequence code, the worst number of clocks to reach
     the sequence for an unused code, -1 for one that can stay unused forever.
     ``locked_sets``: every strongly connected set of unused codes that holds a
-    cycle, each sorted, the sets sorted. ``worst`` is None when some code can
+    cycle, each sorted, the sets sorted; ``locked_total`` how many there are
+    (more than are listed only when a one-successor graph has more than
+    :data:`compact.SETS_LIMIT` cycles). ``worst`` is None when some code can
     stay unused forever; ``worst_code`` the smallest code attaining ``worst``.
     """
 
@@ -137,13 +146,30 @@ class Analysis:
     locked_sets: list[np.ndarray] = field(default_factory=list)
     unused_count: int = 0
     rounds: int = 0
+    locked_total: int = -1
+
+    def __post_init__(self) -> None:
+        if self.locked_total < 0:
+            self.locked_total = len(self.locked_sets)
 
     @property
     def locked(self) -> bool:
         return bool(self.locked_sets)
 
-    def locked_json(self) -> list[list[int]]:
-        return [[int(c) for c in s] for s in self.locked_sets]
+    @property
+    def locked_cut(self) -> bool:
+        """Whether some locked sets are not listed (see ``locked_total``)."""
+        return self.locked_total > len(self.locked_sets)
+
+    def locked_json(self, limit: Optional[int] = None) -> list[list[int]]:
+        """The locked sets as lists of ints; with ``limit``, the first sets that fit in that many codes."""
+        out, n = [], 0
+        for s in self.locked_sets:
+            if limit is not None and n + s.size > limit:
+                break
+            out.append([int(c) for c in s])
+            n += s.size
+        return out
 
 
 # --- feasibility and admissible inputs -----------------------------------
@@ -179,13 +205,19 @@ def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> tuple
     nxt = _next_input_nodes(space)
     if len(nxt) > INPUT_BITS_LIMIT:
         return False, f"{len(nxt)} input bits reach the next code (the explicit engine enumerates up to {INPUT_BITS_LIMIT})"
-    bound = (1 << w) << len(nxt)
-    if bound > EDGE_LIMIT:
+    if C.memory_needed(w, 1 << len(nxt)) > C.MEMORY_LIMIT:
         # the exact row count may be smaller: the condition can fix some inputs
         rows = len(admissible_rows(space, cond, solver))
-        if (1 << w) * rows > EDGE_LIMIT:
-            return False, f"2^{w} codes times {rows} input rows exceed the explicit engine's {EDGE_LIMIT:,} edges"
+        need = C.memory_needed(w, rows)
+        if need > C.MEMORY_LIMIT:
+            return False, (f"2^{w} codes and {rows} input row(s) would need {C.gib(need)} "
+                           f"(the explicit engine's limit is {C.gib(C.MEMORY_LIMIT)})")
     return True, ""
+
+
+def memory_needed(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> int:
+    """The bytes an explicit run of this check under ``cond`` will hold at most (before it starts)."""
+    return C.memory_needed(space.width, len(admissible_rows(space, cond, solver)))
 
 
 def require_whole_state(space: CodeSpace) -> None:
@@ -280,13 +312,24 @@ def _pack(bits: np.ndarray) -> np.ndarray:
     return np.packbits(bits, bitorder="little").view(np.uint64)
 
 
-def build_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] = None) -> Graph:
-    """The next code of every code under every admissible row, bit-parallel in chunks."""
-    m = space.model
+def build_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] = None, compact: bool = True) -> Graph:
+    """The next code of every code under every admissible row, bit-parallel in chunks.
+
+    ``compact`` (the default) builds the table with :func:`compact.successors`
+    within :data:`compact.MEMORY_LIMIT`; False builds it as the engine did
+    before, one byte per bit, within :data:`EDGE_LIMIT` edges.
+    """
     w = space.width
+    if compact:
+        need = C.memory_needed(w, len(rows))
+        if w > MAX_WIDTH or need > C.MEMORY_LIMIT:
+            raise ValueError(f"the explicit engine would need {C.gib(need)}, over its {C.gib(C.MEMORY_LIMIT)}")
+        succ = C.successors(space, rows.values, rows.names, budget)
+        return Graph.of(w, succ, rows, C.members(space, budget))
+    m = space.model
     n = 1 << w
     total = n * len(rows)
-    if w > MAX_WIDTH or total > EDGE_LIMIT:
+    if w > 25 or total > EDGE_LIMIT:
         raise ValueError(f"{total} edges exceed the explicit engine's limits")
     aig: Aig = m.aig
     roots = [m.next_lits[i] for i in space.code]  # msb first
@@ -601,29 +644,41 @@ def _cycles(g: Graph, steps: np.ndarray) -> list[np.ndarray]:
 
 # --- the analysis -------------------------------------------------------------
 
-def analyse(g: Graph, budget: Optional[Budget] = None) -> Analysis:
-    """Exact worst steps of every unused code, the locked codes and every locked cycle set."""
-    if g.deterministic:
+def analyse(g: Graph, budget: Optional[Budget] = None, compact: bool = True) -> Analysis:
+    """Exact worst steps of every unused code, the locked codes and every locked cycle set.
+
+    ``compact=False`` ranks a one-successor graph as the engine did before the
+    compact tables (pointer jumping over every code, 64-bit cycle search)."""
+    if g.deterministic and compact:
+        steps, rounds = C.depth_functional(g.succ[0], g.member, budget)
+    elif g.deterministic:
         steps, rounds = _depth_functional(g, budget)
     else:
         steps, rounds = _depth_game(g, budget)
-    unused = ~g.member
-    count = int(unused.sum())
+    count = g.size - int(np.count_nonzero(g.member))
     if count == 0:
         return Analysis(g, steps, 0, None, [], 0, rounds)
-    sets = _cycles(g, steps)
-    if sets or bool((steps[unused] < 0).any()):
-        return Analysis(g, steps, None, None, sets, count, rounds)
+    if g.deterministic and compact:
+        sets, total = C.functional_cycles(g.succ[0], steps, budget)
+    else:
+        sets = _cycles(g, steps)
+        total = len(sets)
+    if sets or bool((steps < 0).any()):  # a sequence code's steps are 0
+        return Analysis(g, steps, None, None, sets, count, rounds, total)
     worst_code = int(np.argmax(steps))
     return Analysis(g, steps, int(steps[worst_code]), worst_code, sets, count, rounds)
 
 
-def explore(space: CodeSpace, cond: int, budget: Optional[Budget] = None, solver: str = DEFAULT_SOLVER) -> Analysis:
+def explore(space: CodeSpace, cond: int, budget: Optional[Budget] = None, solver: str = DEFAULT_SOLVER,
+            compact: bool = True) -> Analysis:
     """Build the successor graph of ``space`` under ``cond`` and analyse it (an asynchronous
-    design's successors are its settled codes, every order of every clock)."""
+    design's successors are its settled codes, every order of every clock). ``compact=False``:
+    the engine before the compact tables, for comparison."""
     rows = admissible_rows(space, cond, solver)
-    build = build_graph if space.model.synchronous else build_settled_graph
-    return analyse(build(space, rows, budget), budget)
+    if not space.model.synchronous:
+        return analyse(build_settled_graph(space, rows, budget), budget, compact)
+    with C.small_pages():
+        return analyse(build_graph(space, rows, budget, compact), budget, compact)
 
 
 class NeverSettles(Exception):

@@ -82,6 +82,10 @@ def simulate_inputs(model: Model, init: list[int], inputs: list[dict[str, int]])
     return states
 
 
+SLICE_EDGES = 1 << 16
+"""(State, input) pairs of a frontier evaluated at once: memory stays small whatever the frontier."""
+
+
 @dataclass
 class ExplicitResult:
     """``inputs`` of a shortest run reaching ``bad`` (None when unreachable),
@@ -185,23 +189,26 @@ def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1
     frontier = [start]
     depth = 0
     roots = [bad] + model.next_lits
+    piece = max(1, SLICE_EDGES >> ni)  # states of a frontier evaluated at once
     while frontier:
-        if budget is not None and budget.expired():
-            return None
-        nf = len(frontier)
-        if nf << ni <= INT_LANES:
-            hit_at, nxt = _layer_ints(model, frontier, ni, roots)
-        else:
-            hit_at, nxt = _layer_arrays(model, frontier, ni, roots, in_bits)
-        if hit_at is not None:
-            return ExplicitResult(_path(parent, frontier[hit_at >> ni], hit_at % (1 << ni), model.inputs), len(parent), depth)
-        new = []
-        for j, t in enumerate(nxt):
-            if t not in parent:
-                parent[t] = (frontier[j >> ni], j % (1 << ni))
-                new.append(t)
-        if len(parent) > max_states:
-            return None
+        new: list[int] = []
+        for lo in range(0, len(frontier), piece):
+            if budget is not None and budget.expired():
+                return None
+            part = frontier[lo:lo + piece]
+            if len(part) << ni <= INT_LANES:
+                hit_at, nxt = _layer_ints(model, part, ni, roots)
+            else:
+                hit_at, nxt = _layer_arrays(model, part, ni, roots, in_bits)
+            if hit_at is not None:
+                return ExplicitResult(_path(parent, part[hit_at >> ni], hit_at % (1 << ni), model.inputs),
+                                      len(parent), depth)
+            for j, t in enumerate(nxt):
+                if t not in parent:
+                    parent[t] = (part[j >> ni], j % (1 << ni))
+                    new.append(t)
+            if len(parent) > max_states:
+                return None
         frontier = new
         depth += 1
     return ExplicitResult(None, len(parent), depth)

@@ -19,7 +19,7 @@ from typing import Optional
 import numpy as np
 
 from ..claims.common import Options, stepping
-from ..claims.recover import choose_engine, locked_listing
+from ..claims.recover import LOCKED_LIST_LIMIT, choose_engine
 from ..elab import Check
 from ..engines import explicit as X
 from ..engines import repair
@@ -68,21 +68,37 @@ def analyse(check: Check, cond: Optional[int] = None, opts: Optional[Options] = 
     return X.explore(check.space, lit, budget, opts.solver)
 
 
+def _top(codes: np.ndarray, key: np.ndarray, limit: int) -> tuple[np.ndarray, np.ndarray]:
+    """The ``limit`` codes (ascending ``codes``) of largest ``key``, ties to the smallest codes, kept ascending."""
+    if codes.size <= limit:
+        return codes, key
+    t = np.partition(key, codes.size - limit)[codes.size - limit]  # the limit-th largest key
+    above = np.flatnonzero(key > t)
+    tied = np.flatnonzero(key == t)[:limit - above.size]
+    keep = np.sort(np.concatenate([above, tied]))
+    return codes[keep], key[keep]
+
+
+ORDER_CHUNK = 1 << 21
+"""Codes whose keys are held at once while the slowest are picked (memory stays near the tables)."""
+
+
 def _order(a: X.Analysis, limit: int) -> np.ndarray:
-    """Up to ``limit`` unused codes, locked first, then by worst steps, then by code."""
-    unused = np.flatnonzero(~a.graph.member)
-    if unused.size == 0 or limit <= 0:
-        return unused[:0]
-    key = X.worst_key(a.steps[unused])
-    if unused.size > limit:
-        # the limit-th largest key; ties at it go to the smallest codes
-        t = np.partition(key, unused.size - limit)[unused.size - limit]
-        above = np.flatnonzero(key > t)
-        tied = np.flatnonzero(key == t)[:limit - above.size]
-        keep = np.concatenate([above, tied])
-        unused, key = unused[keep], key[keep]
-    order = np.lexsort((unused, -key))
-    return unused[order]
+    """Up to ``limit`` unused codes, locked first, then by worst steps, then by code.
+
+    Picked a chunk of codes at a time, so that a map of 2^28 codes holds no
+    array of every unused code beside the engine's tables."""
+    member = a.graph.member
+    if limit <= 0:
+        return np.zeros(0, dtype=np.int64)
+    codes = np.zeros(0, dtype=np.int64)
+    key = np.zeros(0, dtype=np.int64)
+    for b in range(0, member.size, ORDER_CHUNK):
+        u = np.flatnonzero(~member[b:b + ORDER_CHUNK]) + b
+        cu, ku = _top(u, X.worst_key(a.steps[u]), limit)
+        codes, key = _top(np.concatenate([codes, cu]), np.concatenate([key, ku]), limit)
+    order = np.lexsort((codes, -key))
+    return codes[order]
 
 
 def _entries(a: X.Analysis, codes: np.ndarray) -> list[dict]:
@@ -167,8 +183,8 @@ def recovery_map(check: Check, cond: Optional[int] = None, limit: int = 256, opt
     if analysis is not None:
         doc.analysis = analysis
         doc["worst"] = analysis.worst
-        doc["locked"], cut = locked_listing(analysis.locked_json())
-        if cut:
+        doc["locked"] = analysis.locked_json(LOCKED_LIST_LIMIT)  # never every code of a huge set as ints
+        if len(doc["locked"]) < analysis.locked_total:
             doc["locked_complete"] = False
         doc["unused"] = _entries(analysis, _order(analysis, limit))
         if not check.design.model.synchronous:

@@ -1,0 +1,341 @@
+"""The explicit engine's compact tables: successors and depths in 4 bytes a code, up to 2^28 codes.
+
+Three pieces, each bounded in memory before it starts:
+
+* :func:`memory_needed` says, from the code width and the number of input
+  rows alone, how many bytes the widest run of :func:`successors`,
+  :func:`members` and the analysis can hold at once (an upper bound, checked
+  against ``tracemalloc`` in tests/test_compact.py); the engine refuses a
+  check above :data:`MEMORY_LIMIT` before anything is built.
+* :func:`successors` evaluates the next-state function over bit-packed codes,
+  :data:`CHUNK` codes at a time, and turns the bit planes it gets back into
+  one ``uint32`` per code with an 8x8 bit-matrix transpose (Warren, Hacker's
+  Delight, 2nd ed., section 7-3), with no array of one byte per bit.
+* :func:`depth_functional` finds, when every code has one successor, the
+  number of clocks each unused code needs to reach the sequence: runs of
+  consecutive codes that count up by one (what a counter's unused codes do)
+  are contracted to one node each, and pointer jumping (Wyllie 1979) ranks
+  the contracted graph in place, a chunk at a time, with 32-bit counters.
+"""
+
+from __future__ import annotations
+
+from contextlib import contextmanager
+from typing import Iterator, Optional
+
+import numpy as np
+
+from ..model import Aig, evaluate
+from ..model.space import CodeSpace
+from .budget import Budget
+
+MEMORY_LIMIT = 8 << 30
+"""Most bytes the explicit engine's tables may need (checked before a run starts)."""
+
+CHUNK = 1 << 21
+"""Codes evaluated, or ranked, per pass (a multiple of 64 and a power of two)."""
+
+BASE_BYTES = 256 << 20
+"""Bytes a run holds besides its tables: the interpreter and libraries (about 110 MiB resident),
+a chunk's temporaries, and, up to 2^20 codes, the second analysis of a repair plan."""
+
+ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
+SETS_LIMIT = 1 << 16
+"""Most locked cycles listed one by one (their number is always given)."""
+
+SEQ = np.int32(-1)
+LOCKED = np.int32(-2)
+_MASKS = [(np.uint64(0x00AA00AA00AA00AA), np.uint64(7)), (np.uint64(0x0000CCCC0000CCCC), np.uint64(14)),
+          (np.uint64(0x00000000F0F0F0F0), np.uint64(28))]
+
+
+def memory_needed(width: int, rows: int) -> int:
+    """Upper bound on the bytes a compact run over 2^width codes and ``rows`` input rows holds.
+
+    One row: the table (4 bytes a code), the sequence mask (1) and the
+    depths (4), and while ranking or finding cycles at most 20 bytes more a
+    code (run ends, jumps and counters, or locked codes, their successors'
+    positions and a doubling of them, each 4 bytes). Several rows: the table
+    and its reversed form (24 bytes a code and row at the widest: the
+    destinations, the sort's 8-byte order, the sources and their sorted
+    copy), the mask, depths, counters, unused codes and the reversed
+    table's 8-byte offsets and their count (25 bytes a code).
+    """
+    n = 1 << width
+    if rows <= 1:
+        return 29 * n + BASE_BYTES
+    return 24 * rows * n + 25 * n + BASE_BYTES
+
+
+@contextmanager
+def small_pages() -> Iterator[None]:
+    """Large NumPy arrays on ordinary pages while the engine runs.
+
+    NumPy asks the kernel for 2 MiB pages on large arrays (``madvise``); on the
+    virtual machines this project runs on, the first touch of such pages costs
+    several times that of ordinary ones, and the engine writes its tables
+    once, in order: a 26-bit exploration took 3.7 to 4.2 s with ordinary pages
+    against 6.5 to 8.0 s with large ones, measured side by side.
+    """
+    try:
+        from numpy._core import multiarray as ma
+    except ImportError:  # NumPy 1.x
+        from numpy.core import multiarray as ma  # type: ignore[no-redef]
+    switch = getattr(ma, "_set_madvise_hugepage", None)
+    if switch is None:
+        yield
+        return
+    before = switch(False)
+    try:
+        yield
+    finally:
+        switch(bool(before))
+
+
+def gib(nbytes: int) -> str:
+    """Bytes for people: '6.3 GiB' or '410 MiB'."""
+    return f"{nbytes / (1 << 30):.1f} GiB" if nbytes >= 1 << 30 else f"{nbytes / (1 << 20):.0f} MiB"
+
+
+def _tick(budget: Optional[Budget], depth: int = 0) -> None:
+    if budget is not None:
+        budget.check(depth)
+
+
+# --- the successor table -------------------------------------------------------
+
+def _code_bit(base: int, nw: int, k: int) -> np.ndarray:
+    """Words of bit k of the codes base, base+1, ... (base a multiple of 64)."""
+    if k < 6:
+        v = 0
+        for i in range(64):
+            if (i >> k) & 1:
+                v |= 1 << i
+        return np.full(nw, np.uint64(v), dtype=np.uint64)
+    words = (np.arange(nw, dtype=np.uint64) + np.uint64(base >> 6)) >> np.uint64(k - 6)
+    return (words & np.uint64(1)) * ONES
+
+
+def planes_to_codes(planes: list[np.ndarray], size: int) -> np.ndarray:
+    """One uint32 per sample from bit planes (``planes[b]``: words of bit b of every sample).
+
+    Eight planes at a time: byte i of each plane's word is stacked into one
+    64-bit word, an 8x8 bit matrix, and transposed by three delta swaps
+    (Warren, Hacker's Delight, 7-3), giving one byte per sample.
+    """
+    nbytes = size // 8
+    out = np.zeros(size, dtype=np.uint32)
+    view = out.view(np.uint8).reshape(size, 4)
+    t = np.empty(nbytes, dtype=np.uint64)
+    for g in range(0, len(planes), 8):
+        group = [np.ascontiguousarray(p).view(np.uint8) for p in planes[g:g + 8]]
+        group += [np.zeros(nbytes, dtype=np.uint8)] * (8 - len(group))
+        x = np.stack(group, axis=1).view(np.uint64).ravel()  # byte j of word i: plane j's byte i
+        for mask, s in _MASKS:  # x ^= t ^ (t << s) with t = (x ^ (x >> s)) & mask, in place
+            np.right_shift(x, s, out=t)
+            t ^= x
+            t &= mask
+            x ^= t
+            t <<= s
+            x ^= t
+        view[:, g // 8] = x.view(np.uint8)
+    return out
+
+
+def successors(space: CodeSpace, rows_values: list[list[int]], names: list[str],
+               budget: Optional[Budget] = None) -> np.ndarray:
+    """``succ[r, c]``: the next code of code ``c`` under input row ``r`` (uint32), in chunks."""
+    m = space.model
+    w = space.width
+    n = 1 << w
+    aig: Aig = m.aig
+    roots = [m.next_lits[i] for i in space.code]  # msb first
+    code_nodes = [m.state_lits[i] >> 1 for i in space.code]
+    lit_of = dict(zip(m.inputs, m.input_lits))
+    out = np.empty((len(rows_values), n), dtype=np.uint32)
+    size = max(64, min(CHUNK, n))
+    nw = size // 64
+    full = np.full(nw, ONES, dtype=np.uint64)
+    zero = np.zeros(nw, dtype=np.uint64)
+    for r, values in enumerate(rows_values):
+        row_leaves = {lit_of[name] >> 1: (full if b else zero) for name, b in zip(names, values)}
+        for base in range(0, n, size):
+            _tick(budget)
+            leaves = dict(row_leaves)
+            for pos, node in enumerate(code_nodes):
+                leaves[node] = _code_bit(base, nw, w - 1 - pos)
+            vals = evaluate(aig, leaves, roots, full)
+            planes = [np.broadcast_to(v, (nw,)) for v in reversed(vals)]  # bit 0 first
+            got = planes_to_codes(planes, size)
+            out[r, base:base + size] = got[:min(size, n)]
+    return out
+
+
+def members(space: CodeSpace, budget: Optional[Budget] = None) -> np.ndarray:
+    """The sequence mask of every code (bool), asked a chunk at a time."""
+    n = 1 << space.width
+    out = np.empty(n, dtype=bool)
+    for base in range(0, n, CHUNK):
+        _tick(budget)
+        hi = min(n, base + CHUNK)
+        out[base:hi] = space.member_array(np.arange(base, hi, dtype=np.uint64))
+    return out
+
+
+# --- depth with one successor per code ------------------------------------------
+
+def _run_ends(succ: np.ndarray, unused: np.ndarray, budget: Optional[Budget]) -> np.ndarray:
+    """The last code of every run of unused codes c, c+1, ... in which each steps to the next."""
+    n = succ.size
+    pieces = []
+    ramp = np.arange(min(n, CHUNK), dtype=np.uint32)
+    for base in range(0, n, CHUNK):
+        _tick(budget)
+        hi = min(n, base + CHUNK)
+        cont = (succ[base:hi] - ramp[:hi - base]) == np.uint32(base + 1)  # succ[c] == c + 1, in 32 bits
+        cont[:hi - base - 1] &= unused[base + 1:hi]
+        if hi < n:
+            cont[-1] &= unused[hi]
+        else:
+            cont[-1] = False
+        pieces.append((np.flatnonzero(unused[base:hi] & ~cont) + base).astype(np.int32))
+    return np.concatenate(pieces) if pieces else np.zeros(0, dtype=np.int32)
+
+
+def depth_functional(succ: np.ndarray, member: np.ndarray,
+                     budget: Optional[Budget] = None) -> tuple[np.ndarray, int]:
+    """Clocks from every code to the sequence when every code has one successor (-1: never).
+
+    A run of unused codes ``a, a+1, ..., e`` in which each steps to the next
+    needs ``e - c`` clocks from ``c`` to its end ``e``, so only run ends are
+    ranked: end ``i`` jumps to the run holding ``succ[e_i]`` at a known
+    distance. Pointer jumping then doubles every jump a round; a jump longer
+    than the number of codes that has not reached the sequence has met a
+    cycle, so its code is locked. Updates are in place, a chunk at a time (a
+    jump read from an end already updated this round only goes further).
+    """
+    n = succ.size
+    ends = _run_ends(succ, ~member, budget)
+    k = ends.size
+    if k == 0:
+        return np.where(member, 0, -1).astype(np.int32), 0
+    steps = np.empty(n, dtype=np.int32)
+    # ptr[i] >= 0: end i is acc[i] clocks before end ptr[i], every code between unused;
+    # ptr[i] == SEQ: end i is acc[i] clocks from the sequence; ptr[i] == LOCKED: never
+    ptr = np.empty(k, dtype=np.int32)
+    acc = np.empty(k, dtype=np.int32)
+    for lo in range(0, k, CHUNK):
+        _tick(budget)
+        t = succ[ends[lo:lo + CHUNK]].astype(np.int32)
+        into = member[t]
+        j = np.searchsorted(ends, t).astype(np.int32)
+        ptr[lo:lo + CHUNK] = np.where(into, SEQ, j)
+        acc[lo:lo + CHUNK] = 1 + np.where(into, 0, ends[np.minimum(j, k - 1)] - t)
+    rounds = 0
+    active = True
+    while active:
+        rounds += 1
+        _tick(budget, rounds)
+        active = False
+        for lo in range(0, k, CHUNK):
+            a = np.flatnonzero(ptr[lo:lo + CHUNK] >= 0) + lo  # native indices: no conversion per gather
+            if a.size == 0:
+                continue
+            p = ptr[a].astype(np.intp)
+            q = ptr[p]
+            s = acc[a].astype(np.int64) + acc[p]
+            lock = (q == LOCKED) | (s > n)
+            acc[a] = np.where(lock, 0, s)
+            ptr[a] = np.where(lock, LOCKED, q)
+            active = active or bool((~lock & (q >= 0)).any())
+    # fill: a code of run i needs top[i] - code clocks (top = end + clocks from the end)
+    top = acc  # in place: no array beside the jumps and counters
+    top += ends
+    top[ptr != SEQ] = -1
+    del ptr
+    for base in range(0, n, CHUNK):
+        _tick(budget, rounds)
+        hi = min(n, base + CHUNK)
+        lo_i, hi_i = (int(x) for x in np.searchsorted(ends, [base, hi]))
+        cuts = ends[lo_i:hi_i].astype(np.int64) - base + 1  # the code after an end starts the next run
+        lens = np.diff(np.concatenate(([0], cuts, [hi - base])))
+        vals = top[lo_i:hi_i + 1] if hi_i < k else np.append(top[lo_i:hi_i], np.int32(-1))
+        t = np.repeat(vals, lens)
+        seg = np.where(t < 0, np.int32(-1), t - np.arange(base, hi, dtype=np.int32))
+        seg[member[base:hi]] = 0
+        steps[base:hi] = seg
+    return steps, rounds
+
+
+def _take(table: np.ndarray, idx: np.ndarray) -> np.ndarray:
+    """``table[idx]`` a chunk at a time (no index array widened to 64 bits as a whole)."""
+    out = np.empty(idx.size, dtype=table.dtype)
+    for lo in range(0, idx.size, CHUNK):
+        out[lo:lo + CHUNK] = table[idx[lo:lo + CHUNK]]
+    return out
+
+
+def _positions(mask: np.ndarray, offset: int = 0) -> np.ndarray:
+    """``flatnonzero(mask) + offset`` as int32, a chunk at a time."""
+    parts = [np.flatnonzero(mask[b:b + CHUNK]).astype(np.int32) + np.int32(b + offset)
+             for b in range(0, mask.size, CHUNK)]
+    return np.concatenate(parts) if parts else np.zeros(0, dtype=np.int32)
+
+
+def functional_cycles(succ: np.ndarray, steps: np.ndarray, budget: Optional[Budget] = None,
+                      limit: int = SETS_LIMIT) -> tuple[list[np.ndarray], int]:
+    """The cycles among the locked codes (``steps < 0``) of a one-successor table, and how many.
+
+    Returns the first ``limit`` cycles by smallest code (each sorted) and the
+    number of cycles. The locked codes are closed under the successor; after
+    2^r >= their number of doublings (``p = p[p]``) every code sits on its
+    cycle, and a cycle is labelled by the smallest position on it. Positions
+    are 32-bit and gathered a chunk at a time: at most 20 bytes a locked code.
+    """
+    locked = np.concatenate([np.flatnonzero(steps[b:b + CHUNK] < 0).astype(np.int32) + np.int32(b)
+                             for b in range(0, steps.size, CHUNK)])
+    size = locked.size
+    if size == 0:
+        return [], 0
+    pos = np.empty(size, dtype=np.int32)
+    for lo in range(0, size, CHUNK):
+        _tick(budget)
+        pos[lo:lo + CHUNK] = np.searchsorted(locked, succ[locked[lo:lo + CHUNK]].astype(np.int32))
+    rounds = max(1, int(size).bit_length() + 1)
+    if bool((np.bincount(pos, minlength=size) == 1).all()):
+        on = np.arange(size, dtype=np.int32)  # a permutation of the locked codes: every one is on a cycle
+    else:
+        p = pos.copy()
+        for _ in range(rounds):
+            _tick(budget)
+            p = _take(p, p)
+        mark = np.zeros(size, dtype=bool)
+        for lo in range(0, size, CHUNK):
+            mark[p[lo:lo + CHUNK]] = True
+        del p
+        on = _positions(mark)
+        del mark
+    q = np.empty(on.size, dtype=np.int32)
+    for lo in range(0, on.size, CHUNK):
+        q[lo:lo + CHUNK] = np.searchsorted(on, pos[on[lo:lo + CHUNK]])
+    del pos
+    codes = _take(locked, on)
+    del locked, on
+    lab = np.arange(codes.size, dtype=np.int32)
+    for _ in range(rounds):
+        _tick(budget)
+        lab = np.minimum(lab, _take(lab, q))
+        q = _take(q, q)
+    del q
+    heads = np.flatnonzero(lab == np.arange(lab.size, dtype=np.int32))  # one per cycle, in code order
+    count = int(heads.size)
+    if count > limit:  # keep the cycles of the first ``limit`` heads only
+        keep = lab < heads[limit]
+        codes, lab = codes[keep], lab[keep]
+    order = np.argsort(lab, kind="stable")  # codes stay ascending within a cycle
+    lab = lab[order]
+    cuts = np.flatnonzero(np.diff(lab)) + 1
+    del lab
+    codes = codes[order]
+    del order
+    return [s.astype(np.int64) for s in np.split(codes, cuts)], count
