@@ -172,6 +172,8 @@ def warning_lines(firings: list[Firing]) -> list[str]:
             if w.kind == "short pulse":
                 out.append(f"short pulse: {w.text}; the logic model completes the change, a real flop "
                            f"does only if the pulse meets its minimum width")
+            elif w.kind == "SR fault":
+                out.append(f"SR fault: {w.text} (a fault: what a real flop does then is not defined)")
             else:
                 out.append(f"race: {w.text}; which edge a real flop takes depends on its timing")
     return out
