@@ -39,7 +39,8 @@ order has more than L firings. Two ways to know that:
 * by SAT otherwise: no order of L firings exists (every step firing is
   unsatisfiable), so every order settles within L - 1 firings. An order of L
   firings that comes back to a cascade it has met is one that never
-  settles. Past :data:`MAX_FIRINGS_FACTOR` times the flops the engine stops,
+  settles (one more question asks for such an order when the first order
+  found does not repeat). Past :data:`MAX_FIRINGS_FACTOR` times the flops the engine stops,
   and the caller says so (``open``).
 """
 
@@ -286,6 +287,14 @@ class Firings:
         """Literal: some change is still pending after ``t`` steps."""
         return self.g.or_all(self.frames[t].p)
 
+    def lasso(self, t: int) -> int:
+        """Literal: the code and pending changes after ``t`` steps equal those after some earlier step."""
+        g, last = self.g, self.frames[t]
+
+        def same(f: Frame) -> int:
+            return g.and_all(g.xnor(a, b) for a, b in zip(f.q + f.p, last.q + last.p))
+        return g.or_all(same(f) for f in self.frames[:t])
+
     def deep(self, k: int) -> int:
         """Literal: some firing within the steps built has depth at least ``k``."""
         return self.g.or_all(self.g.and_(s.fired, ge_const(self.g, s.depth, k)) for s in self.steps)
@@ -385,6 +394,12 @@ def settle_bound(fir: Firings, start: Sequence[int], budget: Optional[Budget] = 
         code, inputs = fir.start()
         flops = fir.order(L)
         cut = repeat_cut(fir.model, code, inputs, flops)
+        if cut is None and fir.solve(list(start) + [st.fired for st in fir.steps[:L]] + [fir.lasso(L)], budget):
+            code, inputs = fir.start()  # an order of L firings that ends in a cascade it met before
+            flops = fir.order(L)
+            cut = repeat_cut(fir.model, code, inputs, flops)
+            if cut is None:
+                raise AssertionError("the firings engine's repeated cascade does not repeat in the event model")
         if cut is not None:
             return Bound(None, "sat", never=(code, inputs, cut), tried=L)
         if L >= limit:
