@@ -103,7 +103,7 @@ def test_ripple_step_to_the_top_half_passes_n_transient_codes_at_depth_n(tmp_pat
     fir.close()
 
 
-@pytest.mark.parametrize("n", [24, 32, 64])
+@pytest.mark.parametrize("n", [24, 32])
 def test_wide_ripple_claims(tmp_path, n):
     chk = load(tmp_path, ripple(n, extra_checks=f"  settle within {n}\n  settle within {n - 1}\n"
                                                  f"  glitchfree full\n  glitchfree low")).checks[0]
@@ -116,7 +116,7 @@ def test_wide_ripple_claims(tmp_path, n):
     assert rs[4].details["values"][:3] == [0, 1, 0]
 
 
-@pytest.mark.parametrize("n", [24, 32, 64])
+@pytest.mark.parametrize("n", [24, 32])
 def test_wide_ripple_with_a_decoded_asynchronous_clear(tmp_path, n):
     chk = load(tmp_path, ripple(n, clear=True, extra_checks=f"  settle within {n}\n  glitchfree full")).checks[0]
     rs = [run_claim(chk, c, Options(timeout=120, radix="hex")) for c in chk.claims]
@@ -199,3 +199,49 @@ def test_claim_verdicts_agree_between_engines(tmp_path, spec, within):
     a, b = verdicts(chk, "explicit"), verdicts(chk, "sat")
     for x, y in zip(a, b):
         assert x == y or OPEN in (x, y), (text, a, b)
+
+
+# --- SR faults on asynchronous count --------------------------------------------------------------
+
+SR_RIPPLE = """
+# tray turner on a seed-tray line: a ripple stage built from an SR flop
+design turner
+  in go, jam
+  flop a : T (t = go)
+  flop b : SR (s = a & !b, r = a & (b | jam)) clock fall a
+end
+check turns of turner
+  code {b, a}
+  count 0 .. 3
+  hold when !go
+end
+"""
+
+SR_EDGE = """
+# vent flap on a greenhouse: an SR flop on the system clock drives a ripple stage
+design flap
+  in go, shut
+  flop a : SR (s = go & !a, r = go & (a | shut))
+  flop b : T (t = 1) clock fall a
+end
+check vents of flap
+  code {b, a}
+  count 0 .. 3
+  hold when !go
+end
+"""
+
+
+@pytest.mark.parametrize("text, flop", [(SR_RIPPLE, "b"), (SR_EDGE, "a")])
+@pytest.mark.parametrize("engine", ["explicit", "sat"])
+def test_async_count_refutes_an_sr_fault(tmp_path, text, flop, engine):
+    chk = load(tmp_path, text).checks[0]
+    r = run_claim(chk, chk.claims[0], Options(engine=engine, timeout=60))
+    assert r.status == REFUTED and r.details.get("fault") == flop, (r.summary, r.details)
+    assert "SR fault" in r.summary
+
+
+def test_async_count_without_the_fault_input_is_proved(tmp_path):
+    text = SR_RIPPLE.replace("r = a & (b | jam)", "r = a & b")
+    chk = load(tmp_path, text).checks[0]
+    assert verdicts(chk, "explicit") == verdicts(chk, "sat") == [PROVED]

@@ -307,7 +307,7 @@ def _prove_settled(check: Check, claim: Claim, opts: Options, budget: Budget) ->
                 order = warned(ex, root, "SR fault")
             fault = None if out.never or wrong else (
                 check.design.model.states[edge_faults[0]] if edge_faults else
-                next(w.text for f in order for w in f.warnings if w.kind == "SR fault"))
+                next(check.design.model.states[w.flop] for f in order for w in f.warnings if w.kind == "SR fault"))
             return _refute_settled(check, claim, em, root.code, dict(inputs), order, expected, opts,
                                    {"engine": "explicit", "settled": sorted(code_of(check, s) for s in out.settled)},
                                    fault=fault)
@@ -386,7 +386,8 @@ def _prove_wide(check: Check, claim: Claim, opts: Options, budget: Budget) -> Re
             em, order = firings_of(check, code, inputs, flops)
             hit = em.edge_faults(code)
             where = (check.design.model.states[hit[0]] if hit else
-                     next((x.text for f in order for x in f.warnings if x.kind == "SR fault"), None))
+                     next((check.design.model.states[x.flop] for f in order for x in f.warnings
+                           if x.kind == "SR fault"), None))
             if where is None:
                 raise ReplayError(f"the event model meets no SR fault along the order from {code_of(check, code)}")
             return _refute_settled(check, claim, em, code, inputs, order,
