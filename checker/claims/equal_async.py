@@ -160,18 +160,30 @@ def paired_points(check: Check, b: Design, on_sequence: bool) -> Iterator[tuple[
             yield s, inputs
 
 
-def first_difference(sa: Settler, sb: Settler, pos: list[int], state: int, inputs: dict[str, int]) -> Optional[dict]:
+def first_difference(sa: Settler, sb: Settler, pos: list[int], state: int, inputs: dict[str, int],
+                     sets: bool = False) -> Optional[dict]:
     """How the two designs differ at one (state, inputs), or None when they agree: outputs,
-    an order that never settles, or two orders that settle in different codes."""
+    an order that never settles, or two orders that settle in different codes. With ``sets``
+    (what ``compare`` asks: did an edit change what can happen?) they agree when they can
+    settle in the same codes and never settle alike, even if some order decides between codes."""
     oa, ob = sa.outputs(state, inputs), sb.outputs(_to_b(state, pos), inputs)
     outs = [n for n in sa.model.outputs if oa[n] != ob.get(n)]
     exa, ra, outa = sa.settle(state, inputs)
     exb, rb, outb = sb.settle(_to_b(state, pos), inputs)
-    for who, ex, root, out in (("a", exa, ra, outa), ("b", exb, rb, outb)):
-        if out.never:
-            return {"kind": "never", "who": who, "order": never_settling(ex, root), "outputs": outs}
     set_a = sorted(outa.settled)
     set_b = sorted(_to_a(x, pos) for x in outb.settled)
+    if sets and outa.never == outb.never and set_a == set_b and not outs:
+        return None
+    for who, ex, root, out in (("a", exa, ra, outa), ("b", exb, rb, outb)):
+        if out.never and not (sets and outa.never == outb.never):
+            return {"kind": "never", "who": who, "order": never_settling(ex, root), "outputs": outs}
+    if sets:
+        only = sorted(set(set_a) ^ set(set_b))
+        if only:
+            x = only[0] if only[0] in set_a else set_a[0] if set_a else only[0]
+            y = only[0] if only[0] in set_b else set_b[0] if set_b else only[0]
+            return {"kind": "settled", "outputs": outs, "a": x, "b": y, "set_a": set_a, "set_b": set_b}
+        return {"kind": "outputs", "outputs": outs, "set_a": set_a, "set_b": set_b}
     pair = next(((x, y) for x in set_a for y in set_b if x != y), None)
     if pair is None and not outs:
         return None
@@ -417,3 +429,47 @@ def _undetermined(check: Check, claim: Claim, d: Design, runs: list, und: list[s
     if d is not check.design:  # the other design's run: its code beside, the check's own left at 0
         trace = [TraceEntry(0, 0, trace[0].inputs, trace[0].code)]
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev)
+
+
+# --- for compare -----------------------------------------------------------------------------------
+
+def settled_differences(a: Design, b: Design, states: Optional[list[int]], budget: Budget,
+                        limit: int = 64) -> Optional[dict]:
+    """Where two designs with the same flop names can settle differently (different sets of
+    settled codes, or one never settling where the other does, or different outputs), over
+    ``states`` (state integers of ``a``; None: every state) under every input, in the shape of
+    ``compare``'s cover: differing points as cubes of every flop and input (up to ``limit``),
+    the flops whose settled values differ, the outputs that differ. None: beyond the limits."""
+    n_in = len(a.model.inputs)
+    count = (1 << len(a.model.states)) if states is None else len(states)
+    if n_in > MAX_INPUT_BITS or count << n_in > MAX_POINTS:
+        return None
+    pos = _mapping(a, b)
+    sa, sb = Settler(a), Settler(b)
+    cubes: list[dict] = []
+    flops: set[str] = set()
+    outs: set[str] = set()
+    combos = _inputs(a.model)
+    found = 0
+    for k, s in enumerate(range(1 << len(a.model.states)) if states is None else states):
+        if k % 64 == 0:
+            budget.check(k)
+        for inputs in combos:
+            d = first_difference(sa, sb, pos, s, inputs, sets=True)
+            if d is None:
+                continue
+            found += 1
+            outs.update(d["outputs"])
+            if d["kind"] == "settled":
+                for x in set(d["set_a"]) ^ set(d["set_b"]):
+                    for y in d["set_a"] + d["set_b"]:
+                        flops.update(n for i, n in enumerate(a.model.states) if (x >> i) & 1 != (y >> i) & 1)
+            elif d["kind"] == "never":
+                flops.add("(never settles)")
+            if len(cubes) < limit:
+                cube = {n: (s >> i) & 1 for i, n in enumerate(a.model.states)}
+                cube.update(inputs)
+                cubes.append(cube)
+    return {"points": found, "cubes": cubes, "complete": found <= limit,
+            "next_differs": [n for n in a.model.states if n in flops] + sorted(f for f in flops if f.startswith("(")),
+            "outputs_differ": [n for n in a.model.outputs if n in outs]}
