@@ -245,3 +245,29 @@ def test_async_count_without_the_fault_input_is_proved(tmp_path):
     text = SR_RIPPLE.replace("r = a & (b | jam)", "r = a & b")
     chk = load(tmp_path, text).checks[0]
     assert verdicts(chk, "explicit") == verdicts(chk, "sat") == [PROVED]
+
+
+# --- radix of settle, glitchfree and count evidence -------------------------------------------
+
+# each code written by hand as the report must show it: 7 and 15 start the deepest orders (to 8 and 0)
+SHOWN = {"hex": {7: "0x7", 15: "0xF (15)", 6: "0x6", 14: "0xE (14)"},
+         "bin": {7: "0b0111 (7)", 15: "0b1111 (15)", 6: "0b0110 (6)", 14: "0b1110 (14)"},
+         "dec": {7: "7", 15: "15", 6: "6", 14: "14"}}
+
+
+@pytest.mark.parametrize("engine", ["explicit", "sat"])
+@pytest.mark.parametrize("radix", ["hex", "bin", "dec"])
+def test_settle_and_glitchfree_evidence_follow_the_radix(tmp_path, engine, radix):
+    chk = load(tmp_path, ripple(4, extra_checks="  settle within 3\n  glitchfree low")).checks[0]
+    rs = [run_claim(chk, c, Options(engine=engine, timeout=60, radix=radix)) for c in chk.claims]
+    settle, glitch = rs[1], rs[2]
+    assert settle.status == glitch.status == REFUTED
+    start = settle.trace[0].code
+    assert start in (7, 15)
+    shown = SHOWN[radix]
+    assert settle.summary.startswith(f"from code {shown[start]} an order")
+    assert any(line.strip() == f"start  {shown[start]}" for line in settle.evidence)
+    assert any(line.strip() == f"q[0] -> 0  {shown[start - 1]}  depth 1" for line in settle.evidence)
+    prefix = {"hex": "0x", "bin": "0b", "dec": ""}[radix]
+    after = glitch.summary.split("from code ")[1]
+    assert after.startswith(prefix) and after[len(prefix)].isdigit() or after[len(prefix)] in "ABCDEF"
