@@ -25,7 +25,8 @@ other flop writes it), so a bit per flop says what is pending. For `settle`
 each pending change also carries its depth (binary, saturating one past the
 bound asked about) and whether an asynchronous clear or preset made it (such
 a change keeps its depth when the clear holds on; a clocked one is
-replaced).
+replaced); with no asynchronous clear or preset a firing's depth is its
+flop's place in the clock tree, so no depth is carried.
 
 **Completeness.** An unrolling of L steps is a complete argument only if no
 order has more than L firings. Two ways to know that:
@@ -78,6 +79,27 @@ def system_rooted(model: Model) -> list[bool]:
         for x in path:
             memo[x] = memo[cur]
     return [memo[g] for g in range(n)]
+
+
+def chain_depths(model: Model) -> Optional[list[int]]:
+    """Per flop, the depth of its every firing when no asynchronous clear or preset exists: 1 on
+    the system clock, one more than its clock source's otherwise (a change is made only by the
+    edge or by a firing of the source); 0 for a flop whose chain never reaches the system clock
+    (it never fires). None when some asynchronous clear or preset exists."""
+    if any(l != FALSE for l in model.async_clear) or any(l != FALSE for l in model.async_preset):
+        return None
+    rooted = system_rooted(model)
+    clocks = model.clocks or [None] * len(model.states)
+    out: list[int] = []
+    for g in range(len(model.states)):
+        d, cur = 0, g
+        if rooted[g]:
+            d = 1
+            while clocks[cur] is not None:
+                cur = clocks[cur][1]
+                d += 1
+        out.append(d)
+    return out
 
 
 def structural_bound(model: Model) -> Optional[int]:
@@ -167,8 +189,10 @@ class Firings:
         self.apreset = model.async_preset or [FALSE] * n
         self.fault_of = {model.states.index(name): lit for name, lit in model.faults}
         self.watch_lits = list(watch)
+        self.chain = chain_depths(model)
         self.cap = depth_cap
-        self.dbits = depth_cap.bit_length() if depth_cap else 0
+        # without asynchronous clears the depth of a firing is its flop's place in the clock tree
+        self.dbits = depth_cap.bit_length() if depth_cap and self.chain is None else 0
         self.kbits = max(1, n.bit_length())  # the index: 0 .. n-1 a flop, n .. 2^k-1 nothing
         self.steps: list[Step] = []
         self.frames: list[Frame] = [self._frame(self.q0)]
@@ -279,6 +303,15 @@ class Firings:
             return False
         return self.sat.solve([a for a in assume if a != self.sat.true])
 
+    def try_solve(self, lits: Sequence[int], conflicts: int, budget: Optional[Budget] = None) -> Optional[bool]:
+        """:meth:`solve` within ``conflicts`` conflicts; None when the solver gave up first."""
+        if budget is not None:
+            budget.check(len(self.steps))
+        assume = [self.lit(l) for l in lits]
+        if any(a == -self.sat.true for a in assume):
+            return False
+        return self.sat.solve_limited([a for a in assume if a != self.sat.true], conflicts)
+
     def any_of(self, lits: Sequence[int]) -> int:
         """A literal of :attr:`g`: some of ``lits``."""
         return self.g.or_all(lits)
@@ -297,7 +330,12 @@ class Firings:
 
     def deep(self, k: int) -> int:
         """Literal: some firing within the steps built has depth at least ``k``."""
-        return self.g.or_all(self.g.and_(s.fired, ge_const(self.g, s.depth, k)) for s in self.steps)
+        if self.chain is not None:
+            deep = [i for i, d in enumerate(self.chain) if d >= k]
+            return self.g.or_all(s.sel[i] for s in self.steps for i in deep)
+        assert self.dbits, "depths are tracked only when a depth cap is given"
+        # a firing at step t has depth at most t + 1 (each level was made by an earlier firing)
+        return self.g.or_all(self.g.and_(s.fired, ge_const(self.g, s.depth, k)) for s in self.steps[max(0, k - 1):])
 
     def sr_fault(self) -> tuple[int, list[tuple[int, int]]]:
         """Literal: some SR flop samples s = r = 1 (at the edge or when clocked by a firing);
