@@ -18,8 +18,7 @@ from __future__ import annotations
 
 import json
 
-import pytest
-from hypothesis import HealthCheck, given, settings, strategies as st
+from hypothesis import HealthCheck, given, settings
 
 from checker.api import compare_files
 from checker.claims import run_claim

@@ -271,3 +271,25 @@ def test_settle_and_glitchfree_evidence_follow_the_radix(tmp_path, engine, radix
     prefix = {"hex": "0x", "bin": "0b", "dec": ""}[radix]
     after = glitch.summary.split("from code ")[1]
     assert after.startswith(prefix) and after[len(prefix)].isdigit() or after[len(prefix)] in "ABCDEF"
+
+
+# --- honest verdicts: open, never proved, when the firings engine cannot finish --------------
+
+def test_no_bound_on_firings_leaves_the_claim_open(tmp_path, monkeypatch):
+    import checker.engines.firings as firings
+    chk = load(tmp_path, ripple(8, clear=True, extra_checks="  settle within 8\n  glitchfree full")).checks[0]
+    m = chk.design.model
+    fir = Firings(m)
+    bound = settle_bound(fir, [], max_firings=2)  # orders of 2 firings exist and never repeat a cascade
+    assert bound.steps is None and bound.never is None and bound.tried == 2
+    fir.close()
+    monkeypatch.setattr(firings, "MAX_FIRINGS_FACTOR", 0)  # the search may try 1 firing only
+    rs = [run_claim(chk, c, Options(engine="sat", timeout=60)) for c in chk.claims]
+    assert [r.status for r in rs] == [OPEN, OPEN, OPEN]
+    assert all("firings" in r.summary for r in rs)
+
+
+def test_out_of_time_is_open(tmp_path):
+    chk = load(tmp_path, ripple(64, clear=True, extra_checks="  settle within 64")).checks[0]
+    rs = [run_claim(chk, c, Options(timeout=0.05)) for c in chk.claims]
+    assert [r.status for r in rs] == [OPEN, OPEN]

@@ -26,7 +26,7 @@ from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, state_of, warning_lines)
 from .common import Options, ReplayError, code_and_decimal, make_result, regions, replay, rule_spec, trace_lines
-from .wide import firings_of, no_bound, setup, the_model, wide_engine
+from .wide import Wide, firings_of, no_bound, setup, the_model, wide_engine
 
 
 
@@ -361,45 +361,54 @@ def _prove_wide(check: Check, claim: Claim, opts: Options, budget: Budget) -> Re
     decided, expected_bits = rule_spec(check)
     try:
         w = setup(check, opts, budget, extra=[decided])
-        fir = w.fir
-        if w.bound.never is not None:
-            code, inputs, flops = w.bound.never
-            em, order = firings_of(check, code, inputs, flops)
-            return _refute_settled(check, claim, em, code, inputs, order,
-                                   reference_next(check, code_of(check, code), inputs), opts, w.details())
-        if w.bound.steps is None:
-            return no_bound(check, claim, w)
-        L = w.bound.steps
-        final = fir.frames[L].q
-        exp = fir.first(expected_bits)
-        g = fir.g
-        wbits = check.width
-        differ = g.or_all(g.xor(final[check.code[wbits - 1 - k]], e) for k, e in enumerate(exp))
-        if fir.solve(w.start + [fir.pending_at(L) ^ 1, differ], budget):
-            code, inputs, flops = the_model(w)
-            em, order = firings_of(check, code, inputs, flops)
-            return _refute_settled(check, claim, em, code, inputs, order,
-                                   reference_next(check, code_of(check, code), inputs), opts, w.details())
-        faulty, parts = fir.sr_fault()
-        if parts and fir.solve(w.start + [fir.pending_at(L) ^ 1, faulty], budget):
-            code, inputs, flops = the_model(w)
-            em, order = firings_of(check, code, inputs, flops)
-            hit = em.edge_faults(code)
-            where = (check.design.model.states[hit[0]] if hit else
-                     next((check.design.model.states[x.flop] for f in order for x in f.warnings
-                           if x.kind == "SR fault"), None))
-            if where is None:
-                raise ReplayError(f"the event model meets no SR fault along the order from {code_of(check, code)}")
-            return _refute_settled(check, claim, em, code, inputs, order,
-                                   reference_next(check, code_of(check, code), inputs), opts, w.details(),
-                                   fault=where)
-        details = dict(w.details(), depth=None)
+    except OutOfBudget:
+        return make_result(check, claim, OPEN, "ran out of time in the firings engine",
+                           details={"engine": "firings", "depth": None})
+    try:
+        return _wide_questions(check, claim, opts, budget, w, expected_bits)
     except OutOfBudget:
         return make_result(check, claim, OPEN, "ran out of time in the firings engine",
                            details={"engine": "firings", "depth": None})
     finally:
-        if "w" in locals():
-            w.fir.close()
+        w.fir.close()
+
+
+def _wide_questions(check: Check, claim: Claim, opts: Options, budget: Budget, w: Wide,
+                    expected_bits: list[int]) -> Result:
+    """The questions of the asynchronous count claim on a set-up firings problem (see _prove_wide)."""
+    fir = w.fir
+    if w.bound.never is not None:
+        code, inputs, flops = w.bound.never
+        em, order = firings_of(check, code, inputs, flops)
+        return _refute_settled(check, claim, em, code, inputs, order,
+                               reference_next(check, code_of(check, code), inputs), opts, w.details())
+    if w.bound.steps is None:
+        return no_bound(check, claim, w)
+    L = w.bound.steps
+    final = fir.frames[L].q
+    exp = fir.first(expected_bits)
+    g = fir.g
+    wbits = check.width
+    differ = g.or_all(g.xor(final[check.code[wbits - 1 - k]], e) for k, e in enumerate(exp))
+    if fir.solve(w.start + [fir.pending_at(L) ^ 1, differ], budget):
+        code, inputs, flops = the_model(w)
+        em, order = firings_of(check, code, inputs, flops)
+        return _refute_settled(check, claim, em, code, inputs, order,
+                               reference_next(check, code_of(check, code), inputs), opts, w.details())
+    faulty, parts = fir.sr_fault()
+    if parts and fir.solve(w.start + [fir.pending_at(L) ^ 1, faulty], budget):
+        code, inputs, flops = the_model(w)
+        em, order = firings_of(check, code, inputs, flops)
+        hit = em.edge_faults(code)
+        where = (check.design.model.states[hit[0]] if hit else
+                 next((check.design.model.states[x.flop] for f in order for x in f.warnings
+                       if x.kind == "SR fault"), None))
+        if where is None:
+            raise ReplayError(f"the event model meets no SR fault along the order from {code_of(check, code)}")
+        return _refute_settled(check, claim, em, code, inputs, order,
+                               reference_next(check, code_of(check, code), inputs), opts, w.details(),
+                               fault=where)
+    details = dict(w.details(), depth=None)
     return make_result(check, claim, PROVED, f"every order of every clock from the sequence "
                        f"({check.sequence.describe()}) settles where the rules say "
                        f"(every order has at most {L} firings, by {w.bound.how})", details=details)

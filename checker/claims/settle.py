@@ -22,7 +22,7 @@ from .clocking import (code_of, each_clock, events_json, order_lines, out_of_rea
                        require_explicit, warning_lines)
 from .common import Options, ReplayError, code_and_decimal, inputs_text, make_result, replay
 from .wide import firings_of, no_bound, setup, the_model, wide_engine
-from .result import PROVED, REFUTED, Result, TraceEntry
+from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 
 def _synchronous(check: Check, claim: Claim, opts: Options) -> Result:

@@ -13,7 +13,7 @@ model of the solver into an order of firings that the event model replays.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Optional, Sequence
+from typing import Sequence
 
 from ..elab import Check, Claim
 from ..engines.budget import Budget
@@ -53,9 +53,13 @@ def setup(check: Check, opts: Options, budget: Budget, extra: Sequence[int] = ()
     seq = check.sequence
     assert seq is not None
     fir = Firings(model, depth_cap, watch, opts.solver)
-    member = seq.member(model.aig, check.code_lits())
-    start = fir.first([member, *extra])
-    bound = settle_bound(fir, start, budget)
+    try:
+        member = seq.member(model.aig, check.code_lits())
+        start = fir.first([member, *extra])
+        bound = settle_bound(fir, start, budget)
+    except BaseException:
+        fir.close()
+        raise
     return Wide(fir, start, bound)
 
 
@@ -84,8 +88,3 @@ def the_model(w: Wide) -> tuple[int, dict[str, int], list[int]]:
     """(start state integer, inputs, order) of the solver's last model."""
     code, inputs = w.fir.start()
     return code, inputs, w.fir.order(w.bound.steps)
-
-
-def never_order(w: Wide) -> Optional[tuple[int, dict[str, int], list[int]]]:
-    """The order that never settles, when the termination search met one."""
-    return w.bound.never
