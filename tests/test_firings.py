@@ -293,3 +293,32 @@ def test_out_of_time_is_open(tmp_path):
     chk = load(tmp_path, ripple(64, clear=True, extra_checks="  settle within 64")).checks[0]
     rs = [run_claim(chk, c, Options(timeout=0.05)) for c in chk.claims]
     assert [r.status for r in rs] == [OPEN, OPEN]
+
+
+BUZZER = """
+# a fault on the brewhouse's alarm buzzer: q's clear and preset chase each other while go holds
+design buzz
+  in go
+  flop a : T (t = go)
+  flop q : T (t = 0) clear async go & q preset async go & !q
+  out w = a & q
+end
+check c of buzz
+  code {q, a}
+  count 0 .. 3
+  settle within 3
+  glitchfree w when !go
+  glitchfree w
+end
+"""
+
+
+@pytest.mark.parametrize("engine", ["explicit", "sat"])
+def test_a_clock_that_never_settles_refutes_every_claim_about_it(tmp_path, engine):
+    # the contract: a cascade that can revisit a code with the same changes pending never settles,
+    # and that refutes every claim about that clock; under !go the clock settles
+    chk = load(tmp_path, BUZZER).checks[0]
+    rs = [run_claim(chk, c, Options(engine=engine, timeout=60)) for c in chk.claims]
+    assert [r.status for r in rs] == [REFUTED, REFUTED, PROVED, REFUTED]
+    assert "never settles" in rs[1].summary and "never settles" in rs[3].summary
+    assert rs[3].trace[0].inputs["go"] == 1

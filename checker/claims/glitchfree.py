@@ -28,7 +28,7 @@ from typing import Optional
 
 from ..elab import Check, Claim
 from ..engines.budget import Budget, OutOfBudget
-from ..engines.cascade import CascadeLimit, Exploration, glitching
+from ..engines.cascade import CascadeLimit, Exploration, glitching, never_settling
 from ..engines.sat import Encoder, Sat, Unrolling
 from ..model.events import EventModel, Firing, state_int
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
@@ -219,6 +219,9 @@ def _explicit(check: Check, claim: Claim, budget: Budget, opts: Options = Option
     try:
         for code, inputs, em, ex, root, out in each_clock(check, claim.cond, budget, watch):
             visited += len(ex.memo)
+            if out.never:  # the contract: an order that never settles refutes every claim about the clock
+                return _never(check, claim, em, root.code, inputs, never_settling(ex, root),
+                              {"engine": "explicit"}, opts)
             if out.glitch:
                 k = next(k for k in range(len(watch)) if out.glitch >> k & 1)
                 order = glitching(ex, root, k)
