@@ -322,3 +322,16 @@ def test_a_clock_that_never_settles_refutes_every_claim_about_it(tmp_path, engin
     assert [r.status for r in rs] == [REFUTED, REFUTED, PROVED, REFUTED]
     assert "never settles" in rs[1].summary and "never settles" in rs[3].summary
     assert rs[3].trace[0].inputs["go"] == 1
+
+
+def test_auto_walks_explicitly_when_the_firings_engine_finds_no_bound(tmp_path, monkeypatch):
+    import checker.claims.wide as wide
+    import checker.engines.firings as firings
+    chk = load(tmp_path, ripple(4, clear=True, extra_checks="  settle within 4\n  glitchfree full")).checks[0]
+    monkeypatch.setattr(wide, "AUTO_EXPLICIT_STARTS", 0)  # auto: the firings engine first, at any size
+    rs = [run_claim(chk, c, Options(timeout=60)) for c in chk.claims]
+    assert {r.details["engine"] for r in rs} == {"firings"}
+    monkeypatch.setattr(firings, "MAX_FIRINGS_FACTOR", 0)  # ... which now finds no bound
+    again = [run_claim(chk, c, Options(timeout=60)) for c in chk.claims]
+    assert {r.details["engine"] for r in again} == {"explicit"}
+    assert [r.status for r in again] == [r.status for r in rs] == [REFUTED, PROVED, PROVED]

@@ -26,7 +26,7 @@ from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, state_of, warning_lines)
 from .common import Options, ReplayError, code_and_decimal, make_result, regions, replay, rule_spec, trace_lines
-from .wide import Wide, firings_of, no_bound, setup, the_model, wide_engine
+from .wide import explicit_after, Wide, firings_of, no_bound, setup, the_model, wide_engine
 
 
 
@@ -279,7 +279,9 @@ def _prove_settled(check: Check, claim: Claim, opts: Options, budget: Budget) ->
     Start by start with the explicit cascade engine where it can visit every start; otherwise
     by the firings engine over every start at once (:mod:`checker.claims.wide`)."""
     if wide_engine(check, opts):
-        return _prove_wide(check, claim, opts, budget)
+        res = _prove_wide(check, claim, opts, budget)
+        if not explicit_after(check, opts, res):
+            return res
     require_explicit(check, "count")
     visited = 0
     rules_say: dict[str, Optional[int]] = {}

@@ -34,7 +34,7 @@ from ..model.events import EventModel, Firing, state_int
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, warning_lines)
 from .common import Options, ReplayError, code_and_decimal, inputs_text, make_result, reference_of, replay
-from .wide import firings_of, no_bound, setup, the_model, wide_engine
+from .wide import explicit_after, firings_of, no_bound, setup, the_model, wide_engine
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 
@@ -238,5 +238,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget, engine: Opt
     if check.design.model.synchronous and (engine or opts.engine) != "explicit":
         return _sync(check, claim, opts, budget)
     if not check.design.model.synchronous and (engine or opts.engine) != "explicit" and wide_engine(check, opts):
-        return _wide(check, claim, opts, budget)
+        res = _wide(check, claim, opts, budget)
+        if not explicit_after(check, opts, res):
+            return res
     return _explicit(check, claim, budget, opts)

@@ -21,7 +21,7 @@ from ..model.events import EventModel
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, warning_lines)
 from .common import Options, ReplayError, code_and_decimal, inputs_text, make_result, replay
-from .wide import firings_of, no_bound, setup, the_model, wide_engine
+from .wide import explicit_after, firings_of, no_bound, setup, the_model, wide_engine
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 
@@ -57,7 +57,9 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     if model.synchronous:
         return _synchronous(check, claim, opts)
     if wide_engine(check, opts):
-        return _wide(check, claim, opts, budget)
+        res = _wide(check, claim, opts, budget)
+        if not explicit_after(check, opts, res):
+            return res
     require_explicit(check, "settle")
     n = claim.within
     assert n is not None

@@ -39,10 +39,28 @@ class Wide:
                 "solver": self.fir.sat.name, "vars": self.fir.sat.nvars, "clauses": self.fir.sat.nclauses}
 
 
+AUTO_EXPLICIT_STARTS = 1 << 12
+"""``--engine auto`` walks up to this many (sequence code, input) starts explicitly; past it the
+firings engine goes first (a 16-bit ripple divider: 0.2 s against 40 s, tests/perf/RESULTS_events.md)."""
+
+
 def wide_engine(check: Check, opts: Options) -> bool:
-    """Whether the claims about one clock take the firings engine for ``check``: the explicit
-    path cannot visit every start, or ``--engine sat`` asks for it."""
-    return opts.engine == "sat" or explicit_limit(check) is not None
+    """Whether the claims about one clock take the firings engine for ``check``: ``--engine sat``
+    asks for it, the explicit path cannot visit every start, or (``auto``) it has more than
+    :data:`AUTO_EXPLICIT_STARTS` starts."""
+    if opts.engine == "explicit":
+        return False
+    if opts.engine == "sat" or explicit_limit(check) is not None:
+        return True
+    assert check.sequence is not None
+    return check.sequence.length() << len(check.design.model.inputs) > AUTO_EXPLICIT_STARTS
+
+
+def explicit_after(check: Check, opts: Options, result: Result) -> bool:
+    """Whether ``auto`` should try the explicit path after the firings engine left ``result``:
+    it is open for want of a bound on firings, and the explicit path can visit every start."""
+    return (result.status == OPEN and opts.engine == "auto" and explicit_limit(check) is None
+            and result.details.get("engine") == "firings" and result.details.get("firings", 0) is None)
 
 
 def setup(check: Check, opts: Options, budget: Budget, extra: Sequence[int] = (), depth_cap: int = 0,
