@@ -133,18 +133,21 @@ def test_wide_ripple_with_a_decoded_asynchronous_clear(tmp_path, n):
 
 @st.composite
 def designs(draw):
-    """A random asynchronous design of 2 to 4 flops: each T or D, on the system clock or an edge of
+    """A random asynchronous design of 2 to 4 flops: each T, D or SR, on the system clock or an edge of
     another flop (clock loops allowed), pins a random gate of two flop bits or the input, and now
     and then an asynchronous clear or preset decoded from two flop bits; at least one system flop."""
     n = draw(st.integers(2, 4))
     atoms = [f"q[{i}]" for i in range(n)] + ["go", "!go"] + [f"!q[{i}]" for i in range(n)]
     lines = ["design mix", "  in go"]
     for i in reversed(range(n)):
-        kind = draw(st.sampled_from(["T", "D"]))
+        kind = draw(st.sampled_from(["T", "D", "T", "D", "SR"]))
         a, b = draw(st.sampled_from(atoms)), draw(st.sampled_from(atoms))
         op = draw(st.sampled_from(["&", "|", "^"]))
-        pin = "t" if kind == "T" else "d"
-        text = f"  flop q[{i}] : {kind} ({pin} = {a} {op} {b})"
+        if kind == "SR":  # s = r = 1 is an SR fault, which the asynchronous count claim refutes
+            text = f"  flop q[{i}] : SR (s = {a}, r = {b})"
+        else:
+            pin = "t" if kind == "T" else "d"
+            text = f"  flop q[{i}] : {kind} ({pin} = {a} {op} {b})"
         if i > 0 and draw(st.booleans()):
             src = draw(st.sampled_from([j for j in range(n) if j != i]))
             text += f" clock {draw(st.sampled_from(['rise', 'fall']))} q[{src}]"
