@@ -20,7 +20,7 @@ from ..engines.cascade import CascadeLimit, Exploration, Outcome, settling_in
 from ..errors import InputError
 from ..model.aig import evaluate
 from ..model.events import Cascade, EventModel, Firing, packed, unpacked
-from .common import ReplayError, code_radix, code_text, make_result
+from .common import ReplayError, code_and_decimal, make_result
 from .result import OPEN, Result
 
 MAX_START_POINTS = 1 << 20
@@ -149,11 +149,11 @@ def replay_order(em: EventModel, start: int, firings: list[Firing]) -> list[int]
 
 def order_lines(check: Check, start: int, firings: list[Firing], radix: str = "auto") -> list[str]:
     """An order for people: each firing, the flop's new value, the code after it (in ``radix``,
-    see ``common.code_text``, with its decimal), its depth."""
+    see ``common.code_and_decimal``), its depth."""
     w = check.width
 
     def shown(c: int) -> str:
-        return str(c) if code_radix(w, radix) == "dec" else f"{code_text(c, w, radix)} ({c})"
+        return code_and_decimal(c, w, radix)
     names = check.design.model.states
     lines = [f"  start  {shown(code_of(check, start))}"]
     for f in firings:
@@ -172,6 +172,8 @@ def warning_lines(firings: list[Firing]) -> list[str]:
             if w.kind == "short pulse":
                 out.append(f"short pulse: {w.text}; the logic model completes the change, a real flop "
                            f"does only if the pulse meets its minimum width")
+            elif w.kind == "SR fault":
+                out.append(f"SR fault: {w.text} (a fault: what a real flop does then is not defined)")
             else:
                 out.append(f"race: {w.text}; which edge a real flop takes depends on its timing")
     return out

@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 from ..engines.budget import Budget, OutOfBudget
-from ..engines.cascade import CascadeLimit, never_settling, settling_in
+from ..engines.cascade import CascadeLimit, never_settling, settling_in, warned
 from ..elab import Check, Claim
 from ..model import FALSE, TRUE, Aig, evaluate
 from ..engines.sat import Sat, Unrolling
@@ -26,6 +26,7 @@ from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, state_of, warning_lines)
 from .common import Options, ReplayError, code_and_decimal, inputs_text, make_result, regions, replay, rule_spec, trace_lines
+from .wide import explicit_after, Wide, firings_of, no_bound, setup, the_model, wide_engine
 
 
 
@@ -260,7 +261,7 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget, split: bool
     seq = check.sequence
     assert seq is not None
     if not check.design.model.synchronous:
-        return _prove_settled(check, claim, budget)
+        return _prove_settled(check, claim, opts, budget)
     with Sat(opts.solver) as sat:
         p = build_count(check, sat, split)
         details = {"engine": "sat", "solver": opts.solver, "vars": sat.nvars, "clauses": sat.nclauses,
@@ -279,9 +280,16 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget, split: bool
                            details=details)
 
 
-def _prove_settled(check: Check, claim: Claim, budget: Budget) -> Result:
+def _prove_settled(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     """The count claim on an asynchronous design: every order of every clock from a code of
-    the sequence, under every input the rules decide, settles in the rules' next code."""
+    the sequence, under every input the rules decide, settles in the rules' next code, and no
+    SR flop samples s = r = 1 (at the edge, or clocked by a firing) along any of them.
+    Start by start with the explicit cascade engine where it can visit every start; otherwise
+    by the firings engine over every start at once (:mod:`checker.claims.wide`)."""
+    if wide_engine(check, opts):
+        res = _prove_wide(check, claim, opts, budget)
+        if not explicit_after(check, opts, res):
+            return res
     require_explicit(check, "count")
     visited = 0
     rules_say: dict[str, Optional[int]] = {}
@@ -295,27 +303,122 @@ def _prove_settled(check: Check, claim: Claim, budget: Budget) -> Result:
             expected = rules_say["next"]
             visited += len(ex.memo)
             wrong = sorted(code_of(check, s) for s in out.settled if code_of(check, s) != expected)
-            if not out.never and not wrong:
+            edge_faults = em.edge_faults(root.code)
+            order_fault = any(k == "SR fault" for k, _ in out.warnings)
+            if not out.never and not wrong and not edge_faults and not order_fault:
                 continue
-            order = never_settling(ex, root) if out.never else settling_in(ex, root, state_of(check, wrong[0]))
-            replay_order(em, root.code, order)
-            entry = TraceEntry(0, code, dict(inputs), events=events_json(check, order))
-            warns = warning_lines(order)
             if out.never:
-                trace = [entry]
-                summary = f"from code {code} an order of firings never settles"
-                details = {"engine": "explicit", "expected": expected, "actual": None, "warnings": warns}
+                order = never_settling(ex, root)
+            elif wrong:
+                order = settling_in(ex, root, state_of(check, wrong[0]))
+            elif edge_faults:
+                order = settling_in(ex, root, min(out.settled))
             else:
-                actual = code_of(check, order[-1].code) if order else code
-                trace = [entry, TraceEntry(1, actual)]
-                summary = f"code {code} can settle in {actual}, the rules say {expected}"
-                details = {"engine": "explicit", "expected": expected, "actual": actual,
-                           "settled": sorted(code_of(check, s) for s in out.settled), "warnings": warns}
-            replay(check.design, check, trace)  # the order again, and the syntax tree at every firing
-            lines = [summary + "; the order of firings:"] + order_lines(check, root.code, order) + warns
-            return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=lines)
+                order = warned(ex, root, "SR fault")
+            fault = None if out.never or wrong else (
+                check.design.model.states[edge_faults[0]] if edge_faults else
+                next(check.design.model.states[w.flop] for f in order for w in f.warnings if w.kind == "SR fault"))
+            return _refute_settled(check, claim, em, root.code, dict(inputs), order, expected, opts,
+                                   {"engine": "explicit", "settled": sorted(code_of(check, s) for s in out.settled)},
+                                   fault=fault)
     except (CascadeLimit, OutOfBudget) as e:
         return out_of_reach(check, claim, e)
     return make_result(check, claim, PROVED, f"every order of every clock from the sequence "
                        f"({check.sequence.describe()}) settles where the rules say",
                        details={"engine": "explicit", "cascade_states": visited})
+
+
+def _refute_settled(check: Check, claim: Claim, em, start: int, inputs: dict[str, int], order: list,
+                    expected: Optional[int], opts: Options, details: dict, fault: Optional[str] = None) -> Result:
+    """A refutation of the asynchronous count claim by one order of firings (replayed first):
+    it never settles, settles away from ``expected``, or meets an SR fault (``fault``)."""
+    replay_order(em, start, order)
+    code = code_of(check, start)
+    last = em.edge(start)
+    for f in order:
+        last, _ = em.fire(last, f.flop)
+    never = bool(last.pending)
+    entry = TraceEntry(0, code, dict(inputs), events=events_json(check, order))
+    warns = warning_lines(order)
+
+    def c(v):  # a code as the report shows it
+        return code_and_decimal(v, check.width, opts.radix)
+    if never:
+        trace = [entry]
+        summary = f"from code {c(code)} an order of firings never settles"
+        details = dict(details, expected=expected, actual=None)
+    else:
+        actual = code_of(check, last.code)
+        trace = [entry, TraceEntry(1, actual)]
+        if fault is None:
+            if actual == expected:
+                raise ReplayError(f"the order from {code} settles in {actual}, which the rules say")
+            summary = f"code {c(code)} can settle in {c(actual)}, the rules say {c(expected)}"
+        else:
+            summary = f"SR fault in the clock from code {c(code)}: {fault} has s = r = 1 when it samples"
+            details = dict(details, fault=fault)
+        details = dict(details, expected=expected, actual=actual)
+    details["warnings"] = warns
+    replay(check.design, check, trace)  # the order again, and the syntax tree at every firing
+    lines = [summary + "; the order of firings:"] + order_lines(check, start, order, opts.radix) + warns
+    return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=lines)
+
+
+def _prove_wide(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+    """The asynchronous count claim by the firings engine: one SAT question for a start of the
+    sequence, under inputs the rules decide, and a complete order that settles away from the
+    rules' code; one for an SR fault along an order. Both unsatisfiable: proved."""
+    decided, expected_bits = rule_spec(check)
+    try:
+        w = setup(check, opts, budget, extra=[decided])
+    except OutOfBudget:
+        return make_result(check, claim, OPEN, "ran out of time in the firings engine",
+                           details={"engine": "firings", "depth": None})
+    try:
+        return _wide_questions(check, claim, opts, budget, w, expected_bits)
+    except OutOfBudget:
+        return make_result(check, claim, OPEN, "ran out of time in the firings engine",
+                           details={"engine": "firings", "depth": None})
+    finally:
+        w.fir.close()
+
+
+def _wide_questions(check: Check, claim: Claim, opts: Options, budget: Budget, w: Wide,
+                    expected_bits: list[int]) -> Result:
+    """The questions of the asynchronous count claim on a set-up firings problem (see _prove_wide)."""
+    fir = w.fir
+    if w.bound.never is not None:
+        code, inputs, flops = w.bound.never
+        em, order = firings_of(check, code, inputs, flops)
+        return _refute_settled(check, claim, em, code, inputs, order,
+                               reference_next(check, code_of(check, code), inputs), opts, w.details())
+    if w.bound.steps is None:
+        return no_bound(check, claim, w)
+    L = w.bound.steps
+    final = fir.frames[L].q
+    exp = fir.first(expected_bits)
+    g = fir.g
+    wbits = check.width
+    differ = g.or_all(g.xor(final[check.code[wbits - 1 - k]], e) for k, e in enumerate(exp))
+    if fir.solve(w.start + [fir.pending_at(L) ^ 1, differ], budget):
+        code, inputs, flops = the_model(w)
+        em, order = firings_of(check, code, inputs, flops)
+        return _refute_settled(check, claim, em, code, inputs, order,
+                               reference_next(check, code_of(check, code), inputs), opts, w.details())
+    faulty, parts = fir.sr_fault()
+    if parts and fir.solve(w.start + [fir.pending_at(L) ^ 1, faulty], budget):
+        code, inputs, flops = the_model(w)
+        em, order = firings_of(check, code, inputs, flops)
+        hit = em.edge_faults(code)
+        where = (check.design.model.states[hit[0]] if hit else
+                 next((check.design.model.states[x.flop] for f in order for x in f.warnings
+                       if x.kind == "SR fault"), None))
+        if where is None:
+            raise ReplayError(f"the event model meets no SR fault along the order from {code_of(check, code)}")
+        return _refute_settled(check, claim, em, code, inputs, order,
+                               reference_next(check, code_of(check, code), inputs), opts, w.details(),
+                               fault=where)
+    details = dict(w.details(), depth=None)
+    return make_result(check, claim, PROVED, f"every order of every clock from the sequence "
+                       f"({check.sequence.describe()}) settles where the rules say "
+                       f"(every order has at most {L} firings, by {w.bound.how})", details=details)

@@ -14,6 +14,9 @@ machine, answered by bounded model checking (Biere et al. 1999) for
 counterexamples, signal correspondence (van Eijk 2000) for proofs, and
 IC3/PDR (Bradley 2011) strengthened with the correspondences where they are
 not enough.
+
+With an asynchronous design on either side the designs are compared through
+their settled codes, exhaustively (:mod:`checker.claims.equal_async`).
 """
 
 from __future__ import annotations
@@ -37,6 +40,7 @@ from ..words import plural
 from ..model import TRUE
 from ..model.simulate import code_value, eval_states, leaf_arrays
 from .common import Options, ReplayError, code_and_decimal, code_text, inputs_text, make_result, replay
+from .equal_async import prove_async
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 UNUSED_LIMIT = 256  # unused codes enumerated by blocking clauses
@@ -479,6 +483,8 @@ def after_engines(prod: Product, init: list[int], opts: Options, budget: Budget,
 
 def prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     """Prove or refute one ``equal`` claim (see the module docstring)."""
+    if not (check.design.model.synchronous and claim.other is not None and claim.other.model.synchronous):
+        return prove_async(check, claim, opts, budget)
     if claim.mode == "after":
         return _prove_after(check, claim, opts, budget)
     return _prove_paired(check, claim, opts, budget)

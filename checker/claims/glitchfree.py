@@ -16,7 +16,10 @@ again. This is the function-hazard reading of ternary simulation
 flops as the inputs that change. UNSAT is the proof; a model gives the code,
 the inputs and an order, replayed through the event model before it is shown.
 
-Asynchronous designs: the explicit cascade engine over every start and order.
+Asynchronous designs: the explicit cascade engine over every start and order;
+one too wide for it goes to the firings engine (:mod:`checker.claims.wide`),
+where a glitch of a watched bit is a value that leaves its start value and
+comes back to it along one order (changing at least twice).
 """
 
 from __future__ import annotations
@@ -25,12 +28,13 @@ from typing import Optional
 
 from ..elab import Check, Claim
 from ..engines.budget import Budget, OutOfBudget
-from ..engines.cascade import CascadeLimit, Exploration, glitching
+from ..engines.cascade import CascadeLimit, Exploration, glitching, never_settling
 from ..engines.sat import Encoder, Sat, Unrolling
 from ..model.events import EventModel, Firing, state_int
 from .clocking import (code_of, each_clock, events_json, order_lines, out_of_reach, replay_order,
                        require_explicit, warning_lines)
-from .common import Options, ReplayError, inputs_text, make_result, reference_of, replay
+from .common import Options, ReplayError, code_and_decimal, inputs_text, make_result, reference_of, replay
+from .wide import explicit_after, firings_of, no_bound, setup, the_model, wide_engine
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 
@@ -119,7 +123,7 @@ def _sync(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     for j in order_flops:
         st, f = em.fire(st, j)
         firings.append(f)
-    return _refute(check, claim, em, start, inputs, firings, name, details)
+    return _refute(check, claim, em, start, inputs, firings, name, details, opts)
 
 
 def _names(claim: Claim) -> str:
@@ -133,7 +137,7 @@ def _values_along(check: Check, em: EventModel, codes: list[int], lit: int) -> l
 
 
 def _refute(check: Check, claim: Claim, em: EventModel, start: int, inputs: dict[str, int],
-            firings: list[Firing], name: str, details: dict) -> Result:
+            firings: list[Firing], name: str, details: dict, opts: Options = Options()) -> Result:
     lit = dict(claim.signals)[name]
     codes = replay_order(em, start, firings)
     vals = _values_along(check, em, codes, lit)
@@ -153,27 +157,76 @@ def _refute(check: Check, claim: Claim, em: EventModel, start: int, inputs: dict
     trace = [entry, TraceEntry(1, code_of(check, codes[-1]))]
     replay(check.design, check, trace)  # the order again, and the syntax tree at every firing
     warns = warning_lines(firings)
-    lines = [f"from code {code} under {inputs_text(check, inputs)}, {name} goes "
+    shown = code_and_decimal(code, check.width, opts.radix)
+    lines = [f"from code {shown} under {inputs_text(check, inputs)}, {name} goes "
              + " -> ".join(map(str, vals)) + " along this order:"]
-    lines += order_lines(check, start, firings) + warns
+    lines += order_lines(check, start, firings, opts.radix) + warns
     details = dict(details, signal=name, values=vals, warnings=warns)
     return make_result(check, claim, REFUTED, f"{name} pulses between the edge and settling "
-                       f"(from code {code}: {''.join(map(str, vals))})", trace=trace, details=details,
+                       f"(from code {shown}: {''.join(map(str, vals))})", trace=trace, details=details,
                        evidence=lines)
 
 
-def _explicit(check: Check, claim: Claim, budget: Budget) -> Result:
+def _wide(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+    watch = [l for _, l in claim.signals]
+    try:
+        w = setup(check, opts, budget, extra=[] if claim.cond is None else [claim.cond], watch=watch)
+        try:
+            fir = w.fir
+            if w.bound.never is not None:
+                code, inputs, flops = w.bound.never
+                em, order = firings_of(check, code, inputs, flops)
+                return _never(check, claim, em, code, inputs, order, w.details(), opts)
+            if w.bound.steps is None:
+                return no_bound(check, claim, w)
+            glitches = [fir.glitch(k) for k in range(len(watch))]
+            if fir.solve(w.start + [fir.any_of(glitches)], budget):
+                k = next(k for k, gl in enumerate(glitches) if fir.value(gl))
+                code, inputs, flops = the_model(w)
+                em, order = firings_of(check, code, inputs, flops)
+                return _refute(check, claim, em, code, inputs, order, claim.signals[k][0], w.details(), opts)
+            details = w.details()
+        finally:
+            w.fir.close()
+    except OutOfBudget:
+        return make_result(check, claim, OPEN, "ran out of time in the firings engine",
+                           details={"engine": "firings", "depth": None})
+    return make_result(check, claim, PROVED, f"no order makes {_names(claim)} pulse, from any code of the "
+                       f"sequence (every order has at most {w.bound.steps} firings, by {w.bound.how})",
+                       details=details)
+
+
+def _never(check: Check, claim: Claim, em: EventModel, start: int, inputs: dict[str, int],
+           order: list[Firing], details: dict, opts: Options) -> Result:
+    """Refuted by an order that never settles (the contract: that refutes every claim about the clock)."""
+    replay_order(em, start, order)
+    code = code_of(check, start)
+    trace = [TraceEntry(0, code, dict(inputs), events=events_json(check, order))]
+    replay(check.design, check, trace)
+    warns = warning_lines(order)
+    shown = code_and_decimal(code, check.width, opts.radix)
+    summary = f"from code {shown} an order of firings never settles"
+    lines = [f"from code {shown} under {inputs_text(check, inputs)}, this order comes back to a cascade it "
+             f"has seen:"] + order_lines(check, start, order, opts.radix) + warns
+    return make_result(check, claim, REFUTED, summary, trace=trace, details=dict(details, warnings=warns),
+                       evidence=lines)
+
+
+def _explicit(check: Check, claim: Claim, budget: Budget, opts: Options = Options()) -> Result:
     require_explicit(check, "glitchfree")
     watch = tuple(l for _, l in claim.signals)
     visited = 0
     try:
         for code, inputs, em, ex, root, out in each_clock(check, claim.cond, budget, watch):
             visited += len(ex.memo)
+            if out.never:  # the contract: an order that never settles refutes every claim about the clock
+                return _never(check, claim, em, root.code, inputs, never_settling(ex, root),
+                              {"engine": "explicit"}, opts)
             if out.glitch:
                 k = next(k for k in range(len(watch)) if out.glitch >> k & 1)
                 order = glitching(ex, root, k)
                 return _refute(check, claim, em, root.code, inputs, order, claim.signals[k][0],
-                               {"engine": "explicit"})
+                               {"engine": "explicit"}, opts)
     except (CascadeLimit, OutOfBudget) as e:
         return out_of_reach(check, claim, e)
     return make_result(check, claim, PROVED, f"no order makes {_names(claim)} pulse, from any code of the "
@@ -184,4 +237,8 @@ def prove(check: Check, claim: Claim, opts: Options, budget: Budget, engine: Opt
     """Prove or refute `glitchfree` (see the module docstring)."""
     if check.design.model.synchronous and (engine or opts.engine) != "explicit":
         return _sync(check, claim, opts, budget)
-    return _explicit(check, claim, budget)
+    if not check.design.model.synchronous and (engine or opts.engine) != "explicit" and wide_engine(check, opts):
+        res = _wide(check, claim, opts, budget)
+        if not explicit_after(check, opts, res):
+            return res
+    return _explicit(check, claim, budget, opts)

@@ -256,8 +256,6 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design], part_only: Opti
             if other is None:
                 raise InputError(s.design_pos, f"unknown design '{s.design}'")
             _same_names(s, design, other, paired=s.mode != "after")
-            for d in (design, other):
-                _synchronous_only(s.pos, "equal", d)
             cl = Claim("equal", s.pos, other=other, mode=s.mode)
             if s.mode == "after":
                 assert s.cond is not None
@@ -268,13 +266,6 @@ def elaborate_check(c: P.CheckBlock, designs: dict[str, Design], part_only: Opti
             claims[-1].text = unparse_stmt(s)
     chk.claims = claims
     return chk
-
-
-def _synchronous_only(pos: Pos, what: str, design: Design) -> None:
-    if not design.model.synchronous:
-        raise InputError(pos, f"{what} on an asynchronous design ({design.name} has flops clocked by "
-                              f"flops, or an asynchronous clear or preset) is not supported yet; "
-                              f"count, recover, always, settle and glitchfree are")
 
 
 def _watched(design: Design, exprs: list[P.Expr]) -> list[tuple[str, int]]:

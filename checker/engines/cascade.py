@@ -194,6 +194,21 @@ def glitching(ex: Exploration, root: Cascade, k: int) -> list[Firing]:
     return ex.order(root, want)[0]
 
 
+def warned(ex: Exploration, root: Cascade, kind: str) -> list[Firing]:
+    """An order along which some firing carries a warning of ``kind`` (then on to settling)."""
+    done = [False]
+
+    def want(f: Firing, again: int, sub: Outcome) -> bool:
+        if done[0]:
+            return True
+        if any(w.kind == kind for w in f.warnings):
+            done[0] = True
+            return True
+        return any(k == kind for k, _ in sub.warnings)
+
+    return ex.order(root, want)[0]
+
+
 def warning_texts(firings: list[Firing]) -> list[Warning]:
     """Every short pulse and race met along an order."""
     return [w for f in firings for w in f.warnings]

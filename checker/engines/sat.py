@@ -72,6 +72,17 @@ class Sat:
         self._model_vars = self.nvars
         return bool(r)
 
+    def solve_limited(self, assumptions: Iterable[int], conflicts: int) -> Optional[bool]:
+        """Like :meth:`solve`, but giving up after ``conflicts`` conflicts: None then (no answer)."""
+        t0 = time.perf_counter()
+        self.solver.conf_budget(conflicts)
+        r = self.solver.solve_limited(assumptions=list(assumptions))
+        self.solve_seconds += time.perf_counter() - t0
+        self.calls += 1
+        self.last_result = None if r is None else bool(r)
+        self._model_vars = self.nvars
+        return None if r is None else bool(r)
+
     def value(self, lit: int) -> int:
         """0/1 value of a solver literal in the model of the last solve.
 

@@ -73,10 +73,11 @@ class Cascade:
 
 @dataclass(frozen=True)
 class Warning:
-    """A short pulse (an asynchronous change that fires after its cause has gone) or a race
-    (a flop clocked again while its change is pending)."""
+    """A short pulse (an asynchronous change that fires after its cause has gone), a race
+    (a flop clocked again while its change is pending), or an SR fault (an SR flop clocked
+    by the firing while s = r = 1 in the code before it)."""
 
-    kind: str  # 'short pulse' or 'race'
+    kind: str  # 'short pulse', 'race' or 'SR fault'
     flop: int
     text: str
 
@@ -111,6 +112,32 @@ class EventModel:
         self._system = frozenset(self.system)
         self._roots = list(model.next_lits) + list(self.aclear) + list(self.apreset)
         self._cache: dict[int, tuple[list[int], list[int], list[int]]] = {}
+        self.fault_of = {model.states.index(name): lit for name, lit in model.faults}
+        self._fault_cache: dict[int, frozenset] = {}
+
+    def faults(self, code: int) -> frozenset:
+        """The SR flops (state indices) whose s = r = 1, with clear and preset 0, at ``code``."""
+        hit = self._fault_cache.get(code)
+        if hit is None:
+            if not self.fault_of:
+                return frozenset()
+            m = self.model
+            lv: dict[int, object] = {l >> 1: (code >> i) & 1 for i, l in enumerate(m.state_lits)}
+            lv.update({l >> 1: self.inputs[name] for name, l in zip(m.inputs, m.input_lits)})
+            flops = sorted(self.fault_of)
+            vals = evaluate(m.aig, lv, [self.fault_of[i] for i in flops], 1)
+            hit = frozenset(i for i, v in zip(flops, vals) if v)
+            if len(self._fault_cache) < 1 << 16:
+                self._fault_cache[code] = hit
+        return hit
+
+    def edge_faults(self, code: int) -> list[int]:
+        """The SR flops on the system clock that sample s = r = 1 at the edge from ``code``
+        (an asynchronous clear or preset holding there means the flop does not sample)."""
+        if not self.fault_of:
+            return []
+        _, clr, pre = self.eval(code)
+        return sorted(g for g in self.faults(code) if g in self._system and not clr[g] and not pre[g])
 
     def eval(self, code: int) -> tuple[list[int], list[int], list[int]]:
         """(sampled next value, asynchronous clear, asynchronous preset) of every flop at ``code``."""
@@ -164,6 +191,9 @@ class EventModel:
         for g, want in self.triggers.get(flop, ()):
             if want != edge or clr_b[g] or pre_b[g]:
                 continue  # the wrong edge, or an asynchronous clear/preset held: the edge is ignored
+            if g in self.fault_of and g in self.faults(before):
+                warnings.append(Warning("SR fault", g, f"SR flop {self.model.states[g]} was clocked with "
+                                        f"s = 1 and r = 1"))
             present = (after >> g) & 1
             v = nxt_b[g]
             if g in pending:
