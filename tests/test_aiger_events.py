@@ -31,6 +31,7 @@ from test_aiger_claims import Brute
 ROOT = Path(__file__).resolve().parent.parent
 EVENT_KINDS = ("count", "settle", "glitchfree", "recover", "always")
 MAX_INPUTS = 9  # AIGER inputs of a written claim that the search enumerates at every state
+MAX_FLOPS = 8  # flops of a case design the search can afford (its latches grow about fourfold)
 
 
 def _written(claim, model) -> bool:
@@ -78,6 +79,8 @@ def case_claims():
     for f in sorted((ROOT / "cases").glob("*.cnl")):
         ns = load_namespace(str(f))
         for chk in ns.checks:
+            if len(chk.design.model.states) > MAX_FLOPS:
+                continue  # wide cases (a 32-bit ripple divider) are beyond an explicit search of the file
             for cl in chk.claims:
                 if _written(cl, chk.design.model):
                     out.append((f.name, chk.name, cl.pos.line))
