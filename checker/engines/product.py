@@ -176,7 +176,7 @@ def explicit_search(model: Model, init: list[int], bad: int, max_states: int = 1
     Exhaustive: when it returns ``inputs=None``, ``bad`` is 0 in every
     reachable state under every input.
     """
-    ns, ni = len(model.states), len(model.inputs)
+    ni = len(model.inputs)
     if ni > max_inputs:
         return None
     combos = np.arange(1 << ni, dtype=np.uint64)

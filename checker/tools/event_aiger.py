@@ -32,7 +32,8 @@ as a synchronous circuit in which one AIGER step is one event:
   the state meeting its copy again (with something pending throughout) is a
   cycle of firings.
 - ``glitchfree``: ``changed:SIG`` marks a watched bit that has changed since the
-  edge; a firing that changes it again is the pulse.
+  edge; a firing that changes it again is the pulse; an order that never
+  settles refutes it too (the contract: it refutes every claim about the clock).
 - ``recover`` takes clock after clock: after settling, the next step is the
   next edge with new inputs; ``run_ok`` says every clock so far started in an
   unused code under inputs meeting the condition; ``clocks`` counts edges.
@@ -274,11 +275,12 @@ def event_circuit(check: Check, claim: Claim) -> tuple[Circuit, list[str]]:
             diff = aig.and_(any_fire, aig.xor(w_b[k], w_a[k]))
             glitch = aig.or_(glitch, aig.and_(ch, diff))
             L.set(ch, aig.mux(edge, aig.or_(ch, diff), FALSE))
-        bad = aig.and_(start_ok, glitch)
+        bad = aig.and_(start_ok, aig.or_(glitch, never()))
         head.append("latches start free (every code); changed:SIG marks a watched bit that has changed since the "
                     "edge; the bad output can become 1 exactly when, from a code of the sequence under inputs "
-                    "meeting the condition, some order of firings changes a watched bit a second time: the claim "
-                    "is refuted")
+                    "meeting the condition, some order of firings changes a watched bit a second time or never "
+                    "settles (loop: and shadow: latches; such an order refutes every claim about the clock): the "
+                    "claim is refuted")
     c.bad.append((f"{label} at {where}", bad))
     L.close()
     return c, head

@@ -124,7 +124,7 @@ def export_cnf(check: Check, claim: Claim, path: str) -> dict:
                 "vars": sat.nvars, "clauses": len(sat.log or []), "questions": questions}
 
 
-def _write(check: Check, claim: Claim, sat: Sat, path: str, header: list[str], questions: int = 1) -> dict:
+def _write_cnf(check: Check, claim: Claim, sat: Sat, path: str, header: list[str], questions: int = 1) -> dict:
     with atomic_output(path) as f:  # whole or not at all
         sat.write_dimacs(f, header)
     return {"path": path, "check": check.name, "claim": claim.kind, "line": claim.pos.line,
@@ -159,7 +159,7 @@ def _recover_cnf(check: Check, claim: Claim, path: str) -> dict:
         header = _header(check, claim,
                          f"refuted: a code is still unused after {n} clock(s) (NAME@t: the run at clock t)",
                          f"proved: every unused code reaches the sequence within {n} clock(s)")
-        return _write(check, claim, sat, path, header)
+        return _write_cnf(check, claim, sat, path, header)
 
 
 def _equal_cnf(check: Check, claim: Claim, path: str) -> dict:
@@ -180,7 +180,7 @@ def _equal_cnf(check: Check, claim: Claim, path: str) -> dict:
         header = _header(check, claim,
                          f"refuted: {where}, under some input, a next-state bit or an output of {a.name} and {b.name} differs",
                          f"proved: {a.name} and {b.name} have the same next state and outputs {where[3:]}")
-        return _write(check, claim, m.sat, path, header)
+        return _write_cnf(check, claim, m.sat, path, header)
     finally:
         m.sat.close()
 
@@ -235,7 +235,7 @@ def export_aiger(check: Check, claim: Claim, path: str) -> dict:
     if claim.kind in ("settle", "glitchfree") or (claim.kind in EVENT_KINDS and not model.synchronous):
         c, more = event_circuit(check, claim)
         c.comments = head + more
-        return _write(c, check, claim, path)
+        return _write_aiger(c, check, claim, path)
     if not all(d.model.synchronous for d in designs) and claim.kind != "always":
         raise ValueError("an equal claim about an asynchronous design has no AIGER form: countersign does not "
                          "compare asynchronous designs yet")
@@ -351,10 +351,10 @@ def export_aiger(check: Check, claim: Claim, path: str) -> dict:
     else:
         raise ValueError(f"a {claim.kind} claim cannot be written as AIGER yet")
     c.comments = head
-    return _write(c, check, claim, path)
+    return _write_aiger(c, check, claim, path)
 
 
-def _write(c: Circuit, check: Check, claim: Claim, path: str) -> dict:
+def _write_aiger(c: Circuit, check: Check, claim: Claim, path: str) -> dict:
     """Write circuit ``c`` of a claim as AIGER in the form of ``path``'s extension; returns its statistics."""
     from pathlib import Path
 
