@@ -339,18 +339,22 @@ class _Parser:
                 ch.append(self.lvalue())
             self.take("}")
             return _tree("lv_cat", ch, line, col)
+        return self.selected(("lv_name", "lv_part", "lv_bit"), line, col)
+
+    def selected(self, rules: tuple[str, str, str], line: int, col: int) -> Tree:
+        """A name, a part select ``n[a:b]`` or a bit select ``n[a]``, as the rules named in that order."""
         n = self.name()
         if not self.at("["):
-            return _tree("lv_name", [n], line, col)
+            return _tree(rules[0], [n], line, col)
         self.i += 1
         a = self.expr()
         if self.at(":"):
             self.i += 1
             b = self.expr()
             self.take("]")
-            return _tree("lv_part", [n, a, b], line, col)
+            return _tree(rules[1], [n, a, b], line, col)
         self.take("]")
-        return _tree("lv_bit", [n, a], line, col)
+        return _tree(rules[2], [n, a], line, col)
 
     # --- expressions ----------------------------------------------------------
     def expr(self) -> Tree:
@@ -392,18 +396,7 @@ class _Parser:
             self.i += 1
             return _tree(kind.lower(), [Token(kind, text, line=line, column=col)], line, col)
         if kind in ("IDENT", "ESCAPED"):
-            n = self.name()
-            if not self.at("["):
-                return _tree("ident", [n], line, col)
-            self.i += 1
-            a = self.expr()
-            if self.at(":"):
-                self.i += 1
-                b = self.expr()
-                self.take("]")
-                return _tree("part_sel", [n, a, b], line, col)
-            self.take("]")
-            return _tree("bit_sel", [n, a], line, col)
+            return self.selected(("ident", "part_sel", "bit_sel"), line, col)
         if kind == "OP" and text == "(":
             self.i += 1
             e = self.expr()
