@@ -56,20 +56,25 @@ def explicit_limit(check: Check) -> Optional[str]:
     return None
 
 
+def input_rows(model, cond: Optional[int] = None) -> list[dict[str, int]]:
+    """Every input assignment of ``model`` (meeting ``cond``, a literal over the inputs)."""
+    out = []
+    for bits in itertools.product((0, 1), repeat=len(model.inputs)):
+        if cond is not None:
+            lv = {l >> 1: v for l, v in zip(model.input_lits, bits)}
+            lv.update({l >> 1: 0 for l in model.state_lits})
+            if not evaluate(model.aig, lv, [cond], 1)[0]:
+                continue
+        out.append(dict(zip(model.inputs, bits)))
+    return out
+
+
 def starts(check: Check, cond: Optional[int], budget: Budget) -> Iterator[tuple[int, dict[str, int]]]:
     """Every (sequence code, inputs meeting ``cond``), checking the budget as it goes."""
     m = check.design.model
     seq = check.sequence
     assert seq is not None
-    combos = []
-    for bits in itertools.product((0, 1), repeat=len(m.inputs)):
-        inputs = dict(zip(m.inputs, bits))
-        if cond is not None:
-            lv = {l >> 1: v for l, v in zip(m.input_lits, bits)}
-            lv.update({l >> 1: 0 for l in m.state_lits})
-            if not evaluate(m.aig, lv, [cond], 1)[0]:
-                continue
-        combos.append(inputs)
+    combos = input_rows(m, cond)
     for k, code in enumerate(seq.codes()):
         if k % 64 == 0:
             budget.check(k)

@@ -25,7 +25,6 @@ Both are exhaustive and limited (:data:`MAX_POINTS`, :data:`MAX_PAIRS`,
 
 from __future__ import annotations
 
-import itertools
 from collections import deque
 from typing import Iterator, Optional
 
@@ -36,6 +35,7 @@ from ..engines.cascade import CascadeLimit, Exploration, Outcome, never_settling
 from ..model.aig import evaluate
 from ..model.events import EventModel, Firing, packed, unpacked
 from .common import Options, code_and_decimal, inputs_text, make_result, replay
+from .clocking import input_rows
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 MAX_POINTS = 1 << 18
@@ -97,20 +97,6 @@ def _to_a(state: int, pos: list[int]) -> int:
     return sum(((state >> j) & 1) << i for i, j in enumerate(pos))
 
 
-def _inputs(model, cond: Optional[int] = None) -> list[dict[str, int]]:
-    """Every input assignment (meeting ``cond``, a literal over the inputs)."""
-    out = []
-    for bits in itertools.product((0, 1), repeat=len(model.inputs)):
-        inputs = dict(zip(model.inputs, bits))
-        if cond is not None:
-            lv = {l >> 1: v for l, v in zip(model.input_lits, bits)}
-            lv.update({l >> 1: 0 for l in model.state_lits})
-            if not evaluate(model.aig, lv, [cond], 1)[0]:
-                continue
-        out.append(inputs)
-    return out
-
-
 def _limit(check: Check, claim: Claim) -> Optional[str]:
     """Why the explicit settled comparison cannot take this claim, or None."""
     a, b = check.design, claim.other
@@ -150,7 +136,7 @@ def prove_async(check: Check, claim: Claim, opts: Options, budget: Budget) -> Re
 def paired_points(check: Check, b: Design, on_sequence: bool) -> Iterator[tuple[int, dict[str, int]]]:
     """Every (state integer of the check's design, inputs) the paired forms visit."""
     a = check.design
-    combos = _inputs(a.model)
+    combos = input_rows(a.model)
     if on_sequence and check.sequence is not None:
         states: Iterator[int] = (packed(check.code, c) for c in check.sequence.codes())
     else:
@@ -273,7 +259,7 @@ def _reset(s: Settler, cond: int, budget: Budget) -> tuple[Optional[int], list, 
     """One clock under ``cond`` from every state: (the one settled state or None, the runs
     (state, inputs, order, settled) that show it, the flops left undetermined)."""
     m = s.model
-    combos = _inputs(m, cond)
+    combos = input_rows(m, cond)
     runs: dict[int, tuple] = {}
     for state in range(1 << len(m.states)):
         budget.check(state)
@@ -306,7 +292,7 @@ def _after(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
             return _undetermined(check, claim, d, runs, und, opts)
         resets.append((r, runs[0]))
     (ra, run_a), (rb, run_b) = resets
-    combos = _inputs(a.model)
+    combos = input_rows(a.model)
     parent: dict[tuple[int, int], Optional[tuple]] = {(ra, rb): None}
     queue = deque([(ra, rb)])
     while queue:
@@ -449,7 +435,7 @@ def settled_differences(a: Design, b: Design, states: Optional[list[int]], budge
     cubes: list[dict] = []
     flops: set[str] = set()
     outs: set[str] = set()
-    combos = _inputs(a.model)
+    combos = input_rows(a.model)
     found = 0
     for k, s in enumerate(range(1 << len(a.model.states)) if states is None else states):
         if k % 64 == 0:
