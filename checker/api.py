@@ -58,11 +58,7 @@ MAX_CODE_BITS = 4096
 MAX_JOBS = 256
 """Most claims ``check --jobs`` runs at once."""
 
-MAX_CYCLES = 1_000_000
-"""Most clocks ``simulate`` runs."""
-
-MAX_SIM_VALUES = 20_000_000
-"""Most bit values a simulated run holds: (clocks + 1) x (flops + inputs + outputs), checked before it starts."""
+from .tools.simulation import MAX_CYCLES, MAX_SIM_VALUES, SimRun  # noqa: E402  (limits of sim; its run)
 
 SKIPPED_FOLDERS = frozenset({"node_modules", "site-packages", "__pycache__"})
 """Folder names a folder scan never enters (besides hidden folders and virtual environments)."""
@@ -320,173 +316,28 @@ def compare_files(old: str, new: str, opts: Optional[Options] = None) -> dict:
 
 # --- sim ------------------------------------------------------------------------
 
-@dataclass
-class SimRun:
-    """A simulated run: the design, the code's state indices (msb first), the steps."""
-
-    design: Design
-    code: list[int]
-    steps: list[Step]
-
-    def entries(self) -> list[dict]:
-        """The contract's ``sim --json`` trace entries."""
-        m = self.design.model
-        out = []
-        for s in self.steps:
-            e = {"clock": s.clock, "code": code_value(m, self.code, s.state), "inputs": s.inputs,
-                 "outputs": s.outputs}
-            if not m.synchronous:
-                e["events"] = [{"flop": m.states[f.flop], "value": f.value, "depth": f.depth, "time": t,
-                                "code": unpacked(self.code, f.code)} for t, f in s.events]
-                if not s.settled:
-                    e["settled"] = False
-            out.append(e)
-        return out
-
-
 def _cmdline(message: str) -> InputError:
     return InputError(Pos("<command line>", 1, 1), message)
 
 
-def parse_number(text: str, what: str) -> int:
-    """A number as the command line takes it: decimal, 0b binary or 0x hex."""
-    if len(text) > len(str(1 << MAX_CODE_BITS)) + 3:  # checked before conversion
-        raise _cmdline(f"{what}: a number of {len(text)} characters is wider than any code ({MAX_CODE_BITS} bits at most)")
-    try:
-        return int(text, 0)
-    except ValueError:
-        raise _cmdline(f"{what}: '{text}' is not a number (decimal, 0b binary or 0x hex)") from None
-
-
-def input_settings(settings: Iterable[str], design: Design) -> dict[str, int]:
-    """Input bit values from ``NAME=VALUE`` items (each may hold several, comma-separated)."""
-    fixed: dict[str, int] = {}
-    for item in (it for group in settings for it in group.split(",") if it):
-        name, eq, value = item.partition("=")
-        if not eq:
-            raise _cmdline(f"--set takes NAME=VALUE, not '{item}'")
-        v = parse_number(value, f"--set {name}")
-        if name in design.input_vectors:
-            bitsn = design.input_vectors[name]
-            if v < 0 or v >> len(bitsn):
-                raise _cmdline(f"--set {name}: {value} does not fit its {len(bitsn)} bits")
-            for k, b in enumerate(bitsn):
-                fixed[b] = (v >> (len(bitsn) - 1 - k)) & 1
-        elif name in design.model.inputs:
-            if v not in (0, 1):
-                raise _cmdline(f"--set {name}: a single bit is 0 or 1")
-            fixed[name] = v
-        else:
-            known = ", ".join(design.input_vectors) or "none"
-            raise _cmdline(f"--set {name}: design {design.name} has no input '{name}' (inputs: {known})")
-    return fixed
-
-
-MAX_TRACE_BYTES = 32 * 1024 * 1024
-"""Largest trace file ``sim --trace`` reads (the source file limit)."""
-
-
-class _TraceNumber(ValueError):
-    pass
-
-
-def _trace_int(text: str) -> int:
-    """A JSON integer of a trace, refused (before conversion) when wider than any code can be."""
-    digits = text.lstrip("-").lstrip("0")
-    if len(digits) > len(str(1 << MAX_CODE_BITS)):
-        raise _TraceNumber(f"a number of {len(digits)} digits in the trace is wider than any code "
-                           f"({MAX_CODE_BITS} bits at most)")
-    return int(text)
-
-
-def read_trace(path: str, design: Design, want_code: bool) -> tuple[list[dict], Optional[list[int]]]:
-    """The trace list of a trace file, and the code order of its check where it names one."""
-    where = Pos(path, 1, 1)
-    raw = read_limited(path, MAX_TRACE_BYTES, where, "trace file")
-    try:
-        data = json.loads(raw.decode("utf-8"), parse_int=_trace_int)
-    except UnicodeDecodeError as e:
-        raise InputError(where, f"cannot read '{path}': not UTF-8 text (byte {e.start})") from None
-    except json.JSONDecodeError as e:
-        raise InputError(Pos(path, e.lineno, e.colno), f"not JSON: {e.msg}") from None
-    except _TraceNumber as e:
-        raise InputError(where, str(e)) from None
-    code = None
-    if isinstance(data, dict) and isinstance(data.get("claims"), list) and len(data["claims"]) == 1:
-        data = data["claims"][0]
-    if isinstance(data, dict):
-        if want_code and isinstance(data.get("file"), str) and isinstance(data.get("check"), str):
-            try:
-                for c in load(data["file"]).namespace.checks:
-                    if c.name == data["check"] and c.design.name == design.name:
-                        code = list(c.code)
-            except InputError:
-                code = None
-        data = data.get("trace")
-    if not isinstance(data, list) or not data or not all(isinstance(e, dict) for e in data):
-        raise InputError(where, "a trace file holds a trace list, or a claim object with a 'trace'")
-    for i, e in enumerate(data):
-        code_i = e.get("code", 0)
-        if not isinstance(code_i, int) or not isinstance(e.get("inputs") or {}, dict):
-            raise InputError(where, f"trace entry {i}: each trace entry has an integer 'code' and an 'inputs' object")
-        for k, v in (e.get("inputs") or {}).items():
-            if k not in design.model.inputs or v not in (0, 1):
-                raise InputError(where, f"trace entry {i}: input '{k}'={v!r} is not an input bit of {design.name} "
-                                        f"set to 0 or 1")
-    return data, code
-
-
 def simulate(path: str, design: str, start: Optional[str] = None, code: Optional[str] = None,
              settings: Sequence[str] = (), cycles: Optional[int] = None, trace: Optional[str] = None,
-             timeout: Optional[float] = None) -> SimRun:
-    """Clock design ``design`` of ``path``: from code ``start`` with inputs held at ``settings``
-    for ``cycles`` clocks (default 16), or replaying the start and inputs of a JSON ``trace``.
-    ``timeout`` bounds reading the file and the run."""
-    return _within(timeout, "sim", lambda: _simulate(path, design, start, code, settings, cycles, trace))
+             timeout: Optional[float] = None, check: Optional[str] = None, claim: Optional[int] = None,
+             inputs: Optional[str] = None) -> SimRun:
+    """Clock design ``design`` of ``path``: from code ``start`` (several: ``0,5,9`` or ``0..15``,
+    clocked together bit-parallel) with inputs held at ``settings`` or read per clock from the
+    CSV or JSON file ``inputs``, for ``cycles`` clocks (default 16, or one per row of ``inputs``);
+    or replaying the start and inputs of a JSON ``trace`` (a whole ``check --json`` document:
+    the claim on line ``claim``). The code reads the flops as check ``check``'s code line does,
+    as ``code`` says, or by default as the file's checks of the design do (else in declaration
+    order). ``timeout`` bounds reading the file and the run."""
+    from .tools import simulation as S
+    req = S.SimRequest(path, design, start, code, list(settings), cycles, trace, check, claim, inputs)
 
-
-def _simulate(path: str, design: str, start: Optional[str], code: Optional[str], settings: Sequence[str],
-              cycles: Optional[int], trace: Optional[str]) -> SimRun:
-    d = load(path).find_design(design)
-    model = d.model
-    idx = list(range(len(model.states))) if code is None else flop_indices(d, parse_expr("--code", code))
-    fixed = input_settings(settings, d)
-    if trace is not None:
-        entries, code_from_trace = read_trace(trace, d, code is None)
-        if code_from_trace is not None:
-            idx = code_from_trace
-        start_code = entries[0].get("code", 0)
-        per_clock = [{**fixed, **{k: int(v) for k, v in (e.get("inputs") or {}).items()}} for e in entries]
-        orders = [[ev.get("flop") for ev in e["events"]] if isinstance(e.get("events"), list) else None
-                  for e in entries]
-        n = len(entries) - 1 if cycles is None else cycles
-    else:
-        start_code = 0 if start is None else parse_number(start, "--from")
-        per_clock = [fixed]
-        orders = None
-        n = 16 if cycles is None else cycles
-    if n < 0 or n > MAX_CYCLES:
-        raise _cmdline(f"--cycles takes a number from 0 to {MAX_CYCLES}")
-    width = len(model.states) + len(model.inputs) + len(model.outputs)
-    if (n + 1) * width > MAX_SIM_VALUES:  # the cost, said before the run rather than found during it
-        most = max(0, MAX_SIM_VALUES // max(1, width) - 1)
-        where = Pos(trace, 1, 1) if trace is not None and cycles is None else Pos("<command line>", 1, 1)
-        raise InputError(where, f"{n} clocks of {d.name} ({width} bits a clock) would hold {(n + 1) * width:,} "
-                                f"bit values; the limit is {MAX_SIM_VALUES:,}: run at most {most} clocks")
-    if start_code < 0 or start_code >> len(idx):
-        if trace is not None:
-            raise InputError(Pos(trace, 1, 1), f"trace entry 0: code {start_code} does not fit the "
-                                               f"{len(idx)}-bit code of {d.name}")
-        raise _cmdline(f"--from {start_code} does not fit the {len(idx)}-bit code")
-    if orders is not None:
-        for k, order in enumerate(orders):
-            if order is not None and not all(f in model.states for f in order):
-                raise InputError(Pos(trace or "<trace>", 1, 1), f"entry {k} of the trace fires a flop that "
-                                                               f"{d.name} does not have")
-    try:
-        return SimRun(d, idx, run(model, state_of_code(model, idx, start_code), per_clock, n, orders))
-    except ValueError as e:
-        raise InputError(Pos(trace or "<trace>", 1, 1), f"the trace's order of firings does not replay: {e}") from None
+    def work() -> SimRun:
+        prog = load(path)
+        return S.simulate(req, prog.namespace, prog.find_design(design))
+    return _within(timeout, "sim", work)
 
 
 # --- export ---------------------------------------------------------------------
@@ -589,10 +440,30 @@ def render_compare(doc: dict) -> str:
     return _compare.format_compare(doc)
 
 
-def render_sim(s: SimRun, events: bool = False, radix: str = "bin") -> str:
-    """The readable table of a simulated run; with ``events``, the firings between clocks
-    of an asynchronous design under each row; ``radix`` shows its codes."""
-    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps], events, radix)
+def render_sim(s: SimRun, events: bool = False, radix: str = "auto") -> str:
+    """The readable table of a simulated run (a table per start code when there are several),
+    input and output vectors as values; with ``events``, the firings between clocks of an
+    asynchronous design under each row; ``radix`` shows its codes and vectors."""
+    from .report.simtable import sim_table
+    from .claims.common import code_and_decimal
+    m = s.design.model
+    parts = []
+    if s.order != "declaration":
+        parts.append(f"codes read in the bit order of {s.order}")
+    for r in s.runs():
+        codes = r.codes()
+        notes = {t: "SR fault: " + ", ".join(f) for t, f in r.faults().items()}
+        evs: dict[int, list[str]] = {}
+        for t, st in enumerate(r.steps):
+            if not st.settled:
+                notes[t] = "; ".join(filter(None, [notes.get(t), "the cascade after this clock did not settle"]))
+            if events and st.events:
+                evs[t] = [f"  t+{when}: {m.states[f.flop]} -> {f.value}  "
+                          f"{code_and_decimal(unpacked(r.code, f.code), len(r.code), radix)}" for when, f in st.events]
+        if s.others:
+            parts.append(f"from {code_and_decimal(codes[0], len(r.code), radix)}:")
+        parts.append(sim_table(codes, len(r.code), r.vectors("in"), r.vectors("out"), radix, notes, evs))
+    return "\n\n".join(parts)
 
 
 def json_check(run: CheckRun) -> str:
@@ -614,8 +485,14 @@ def json_compare(doc: dict) -> str:
 
 
 def json_sim(s: SimRun) -> str:
-    """``sim --json``."""
-    return report.json.dumps(report.json.sim(s.entries()))
+    """``sim --json``: ``{"trace": [...]}``; with several start codes ``{"runs": [{"from", "trace"}]}``."""
+    if not s.others:
+        return report.json.dumps(report.json.sim(s.entries()))
+    runs = []
+    for r in s.runs():
+        entries = r.entries()
+        runs.append({"from": entries[0]["code"], "trace": entries})
+    return report.json.dumps({"runs": runs})
 
 
 def json_error(e: InputError) -> str:
@@ -638,8 +515,10 @@ def write_junit_error(e: InputError, path: str) -> None:
 
 
 def write_vcd(s: SimRun, path: str) -> None:
-    """The run as an IEEE 1364 value change dump."""
-    report.vcd.write_vcd(s.design, s.steps, path)
+    """The run as an IEEE 1364 value change dump (one run: one start code)."""
+    if s.others:
+        raise _cmdline("--vcd writes one run: give --from a single code")
+    report.vcd.write_vcd(s.design, s.as_steps(), path)
 
 
 def write_dot(m: MapRun, path: str) -> None:
