@@ -120,7 +120,7 @@ def _source(model: Model, lanes: bool, fixed: Optional[dict[int, int]] = None) -
         text, pol, _ = t
         if text is None:
             return one if pol else "0"
-        return f"({text} ^ {one})" if pol else text
+        return f"({wrap(text)} ^ {one})" if pol else text
 
     def wrap(text: str) -> str:
         return text if text.isidentifier() else f"({text})"
