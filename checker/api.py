@@ -487,12 +487,9 @@ def json_compare(doc: dict) -> str:
 def json_sim(s: SimRun) -> str:
     """``sim --json``: ``{"trace": [...]}``; with several start codes ``{"runs": [{"from", "trace"}]}``."""
     if not s.others:
-        return report.json.dumps(report.json.sim(s.entries()))
-    runs = []
-    for r in s.runs():
-        entries = r.entries()
-        runs.append({"from": entries[0]["code"], "trace": entries})
-    return report.json.dumps({"runs": runs})
+        return report.json.dumps_sim([(None, s.entries())])
+    runs = [r.entries() for r in s.runs()]
+    return report.json.dumps_sim([(entries[0]["code"], entries) for entries in runs])
 
 
 def json_error(e: InputError) -> str:

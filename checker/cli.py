@@ -103,7 +103,8 @@ def cmd_sim(args) -> int:
                        timeout=_seconds(args), check=args.check, claim=args.claim, inputs=args.inputs)
     if args.vcd:
         api.write_vcd(run, args.vcd)
-    _emit(args.json, api.json_sim(run), api.render_sim(run, args.events, _radix(args)))
+    out = api.json_sim(run) if args.json else api.render_sim(run, args.events, _radix(args))  # only the one asked for
+    _emit(args.json, out, out)
     return 0
 
 
