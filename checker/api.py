@@ -15,32 +15,47 @@ command line's text, JSON and files. Bad input raises :class:`InputError`.
 
 from __future__ import annotations
 
-import json
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Iterable, Optional, Sequence
+from typing import TYPE_CHECKING, Iterable, Optional, Sequence
 
-from . import report
 from .about import __version__
-from .claims import run_check, run_claims
-from .claims.common import CODE_RADIXES, Options
-from .claims.result import OPEN, PROVED, REFUTED, Result
-from .elab import Check, Design, Namespace, load_namespace
-from .elab.spec import condition_literal, flop_indices
-from .engines.budget import run_bounded
-from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
-from .fileio import collected, output_transaction, read_limited, shown, write_output
-from .lang.parse import parse_expr
-from .model.events import unpacked
-from .model.simulate import Step, code_value, run, state_of_code
-from .tools import compare as _compare
-from .tools.codemap import MapDoc, recovery_map
-from .tools.export import export_aiger, export_cnf
-from .tools.loading import LoadTimeout, load_within
-from .tools.netlists import FORMATS as DESIGN_FORMATS, write_design
-from .tools.stategraph import StateGraph, state_graph
+from .fileio import collected, output_transaction, shown, write_output
+from .engines.names import DEFAULT_SOLVER
+
+# Everything else is imported by the function that needs it, so that `countersign --help`
+# and `--version` start without loading the solvers, NumPy, lark or SymPy, and a command
+# loads only what its work needs. These names are importable from here all the same:
+_LAZY = {
+    "report": ("", "report"), "Options": ("claims.common", "Options"), "CODE_RADIXES": ("claims.common", "CODE_RADIXES"),
+    "Result": ("claims.result", "Result"), "OPEN": ("claims.result", "OPEN"), "PROVED": ("claims.result", "PROVED"),
+    "REFUTED": ("claims.result", "REFUTED"), "Check": ("elab", "Check"), "Design": ("elab", "Design"),
+    "Namespace": ("elab", "Namespace"), "solver_names": ("engines.sat", "solver_names"),
+    "SimRun": ("tools.simulation", "SimRun"), "MAX_CYCLES": ("tools.simulation", "MAX_CYCLES"),
+    "MAX_SIM_VALUES": ("tools.simulation", "MAX_SIM_VALUES"), "MapDoc": ("tools.codemap", "MapDoc"),
+    "StateGraph": ("tools.stategraph", "StateGraph"),
+}
+
+if TYPE_CHECKING:  # for readers and type checkers only: annotations are never evaluated here
+    from .claims.common import Options
+    from .claims.result import Result
+    from .elab import Check, Design, Namespace
+    from .tools.simulation import SimRun
+    from .tools.stategraph import StateGraph
+
+
+def __getattr__(name: str):
+    """The names above, imported when first asked for (PEP 562)."""
+    if name not in _LAZY:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    import importlib
+    module, attr = _LAZY[name]
+    mod = importlib.import_module(f"{__package__}.{module or attr}")
+    value = mod if not module else getattr(mod, attr)
+    globals()[name] = value
+    return value
 
 __all__ = [
     "__version__", "DEFAULT_SOLVER", "OPEN", "PROVED", "REFUTED", "CheckHandle", "CheckRun", "InputError",
@@ -58,7 +73,6 @@ MAX_CODE_BITS = 4096
 MAX_JOBS = 256
 """Most claims ``check --jobs`` runs at once."""
 
-from .tools.simulation import MAX_CYCLES, MAX_SIM_VALUES, SimRun  # noqa: E402  (limits of sim; its run)
 
 SKIPPED_FOLDERS = frozenset({"node_modules", "site-packages", "__pycache__"})
 """Folder names a folder scan never enters (besides hidden folders and virtual environments)."""
@@ -78,6 +92,8 @@ class CheckHandle:
 
     def run(self, timeout: Optional[float] = None, solver: str = DEFAULT_SOLVER, engine: str = "auto") -> list[Result]:
         """Prove or refute every claim of this check; one Result per claim, in written order."""
+        from .claims import run_check
+        from .claims.common import Options
         return run_check(self.spec, Options(solver=solver, timeout=timeout, engine=engine))
 
 
@@ -128,6 +144,7 @@ class Program:
 
 def load(path: str) -> Program:
     """Read and elaborate ``path`` and its ``use`` files; raises InputError on bad input."""
+    from .elab import load_namespace
     return Program(load_namespace(str(path)))
 
 
@@ -140,6 +157,8 @@ def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engin
     cleanly; the command line asks for it. ``radix`` is how evidence lines show codes
     (``dec``, ``bin``, ``hex``, or ``auto``: binary up to 8 bits, hex above).
     """
+    from .claims.common import CODE_RADIXES, Options
+    from .engines.sat import solver_names
     where = Pos("<command line>", 1, 1)
     if solver not in solver_names():
         raise InputError(where, f"unknown solver '{solver}'; python-sat offers: {', '.join(solver_names())}")
@@ -214,6 +233,9 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
     all is an InputError (``no claims in ...``), so a CI job pointed at the
     wrong place fails.
     """
+    from .claims import run_claims
+    from .claims.common import Options
+    from .tools.loading import LoadTimeout, load_within
     opts = opts or Options()
     files = expand_paths(paths)
     out = CheckRun(files=files)
@@ -243,6 +265,7 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
 
 def exit_status(results: Iterable[Result]) -> int:
     """0 every claim proved, 1 some refuted, 3 some open and none refuted."""
+    from .claims.result import OPEN, REFUTED
     statuses = {r.status for r in results}
     return 1 if REFUTED in statuses else 3 if OPEN in statuses else 0
 
@@ -265,6 +288,8 @@ class MapRun:
 
 
 def _map_work(chk: Check, cond: Optional[int], limit: int, opts: Options, want_graph: bool):
+    from .tools.codemap import recovery_map
+    from .tools.stategraph import state_graph
     def work(budget):
         doc = recovery_map(chk, cond=cond, limit=limit, opts=opts, budget=budget)
         graph = state_graph(chk, doc) if want_graph else None
@@ -281,6 +306,12 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     whole map through the same hard stop claims use; a map that runs out is
     ``"status": "open"``.
     """
+    from .claims.common import Options
+    from .elab.spec import condition_literal
+    from .engines.budget import run_bounded
+    from .lang.parse import parse_expr
+    from .tools.codemap import MapDoc
+    from .tools.loading import LoadTimeout, load_within
     opts = opts or Options()
     if limit < 0:
         raise InputError(Pos("<command line>", 1, 1), "--limit takes a count of 0 or more")
@@ -311,6 +342,8 @@ def compare_files(old: str, new: str, opts: Optional[Options] = None) -> dict:
     ``opts.timeout`` bounds each design's comparison and each claim; what runs
     out is reported open (``"open": true``), never equal.
     """
+    from .claims.common import Options
+    from .tools import compare as _compare
     return _compare.compare_files(old, new, opts or Options())
 
 
@@ -349,6 +382,7 @@ class Unfinished(Exception):
 def _within(timeout: Optional[float], what: str, work):
     """``work()`` under ``timeout`` through the hard stop; the files it writes are written here,
     only when it finished in time."""
+    from .engines.budget import run_bounded
     if timeout is None:
         return work()
 
@@ -374,6 +408,7 @@ def export_claim(path: str, check: str, line: int, output: str, timeout: Optiona
 
 
 def _export_claim(path: str, check: str, line: int, output: str) -> dict:
+    from .tools.export import export_aiger, export_cnf
     chk = load(path).find_check(check)
     claims = [c for c in chk.claims if c.pos.line == line]
     if not claims:
@@ -399,6 +434,7 @@ def export_design(path: str, design: str, output: str, timeout: Optional[float] 
 
 
 def _export_design(path: str, design: str, output: str) -> dict:
+    from .tools.netlists import FORMATS as DESIGN_FORMATS, write_design
     d = load(path).find_design(design)
     if Path(output).suffix.lower() not in DESIGN_FORMATS:
         raise _cmdline(f"a design is written as {', '.join(DESIGN_FORMATS)}: give -o a name ending in one "
@@ -426,17 +462,20 @@ def demo_path() -> Path:
 def render_check(run: CheckRun, radix: str = "dec", columns: Optional[int] = None) -> str:
     """The readable report of a check run; ``radix`` (``auto``, ``dec``, ``bin``, ``hex``) shows its
     codes; ``columns``, a terminal's width, is what the table of verdicts must fit."""
+    from . import report
     text = report.text.format_results(run.results, run.widths, radix, columns)
     return "\n".join([f"{e.pos.file}: open: {e.message}" for e in run.unread] + [text])
 
 
 def render_map(m: MapRun, radix: str = "dec") -> str:
     """The readable map table; ``radix`` shows its codes."""
+    from . import report
     return report.text.map_text(m.doc, radix)
 
 
 def render_compare(doc: dict) -> str:
     """The readable report of a comparison."""
+    from .tools import compare as _compare
     return _compare.format_compare(doc)
 
 
@@ -444,6 +483,7 @@ def render_sim(s: SimRun, events: bool = False, radix: str = "auto") -> str:
     """The readable table of a simulated run (a table per start code when there are several),
     input and output vectors as values; with ``events``, the firings between clocks of an
     asynchronous design under each row; ``radix`` shows its codes and vectors."""
+    from .model.events import unpacked
     from .report.simtable import sim_table
     from .claims.common import code_and_decimal
     m = s.design.model
@@ -468,6 +508,7 @@ def render_sim(s: SimRun, events: bool = False, radix: str = "auto") -> str:
 
 def json_check(run: CheckRun) -> str:
     """``check --json``; files not read within the timeout are listed under ``unread``."""
+    from . import report
     doc = report.json.claims(run.results)
     if run.unread:
         doc["unread"] = [{"file": e.pos.file, "message": e.message} for e in run.unread]
@@ -476,16 +517,19 @@ def json_check(run: CheckRun) -> str:
 
 def json_map(m: MapRun) -> str:
     """``map --json``."""
+    from . import report
     return report.json.dumps(m.doc)
 
 
 def json_compare(doc: dict) -> str:
     """``compare --json``."""
+    from . import report
     return report.json.dumps(doc)
 
 
 def json_sim(s: SimRun) -> str:
     """``sim --json``: ``{"trace": [...]}``; with several start codes ``{"runs": [{"from", "trace"}]}``."""
+    from . import report
     if not s.others:
         return report.json.dumps_sim([(None, s.entries())])
     runs = [r.entries() for r in s.runs()]
@@ -494,6 +538,7 @@ def json_sim(s: SimRun) -> str:
 
 def json_error(e: InputError) -> str:
     """The error document of bad input."""
+    from . import report
     return report.json.dumps(report.json.error(e))
 
 
@@ -501,6 +546,7 @@ def write_junit(run: CheckRun, path: str, open_ok: bool = False) -> None:
     """A JUnit XML report of a check run: one test per claim, one error case per unreadable file.
 
     An open claim is a failure of type ``open``; with ``open_ok`` it is skipped."""
+    from . import report
     errors = [(str(e.pos.file), f"{e.pos}: {e.message}") for e in run.errors]
     report.junit.write_junit(run.results, path, errors, [(str(e.pos.file), e.message) for e in run.unread],
                              open_ok)
@@ -508,11 +554,13 @@ def write_junit(run: CheckRun, path: str, open_ok: bool = False) -> None:
 
 def write_junit_error(e: InputError, path: str) -> None:
     """A JUnit XML report of a run that stopped on ``e`` (such as ``no claims in ...``): one error case."""
+    from . import report
     report.junit.write_junit([], path, [(str(e.pos.file), f"{e.pos}: {e.message}")])
 
 
 def write_vcd(s: SimRun, path: str) -> None:
     """The run as an IEEE 1364 value change dump (one run: one start code)."""
+    from . import report
     if s.others:
         raise _cmdline("--vcd writes one run: give --from a single code")
     report.vcd.write_vcd(s.design, s.as_steps(), path)
@@ -520,12 +568,14 @@ def write_vcd(s: SimRun, path: str) -> None:
 
 def write_dot(m: MapRun, path: str) -> None:
     """The map's state graph in Graphviz DOT."""
+    from . import report
     assert m.graph is not None, "map_check(graph=True) draws the graph"
     write_output(path, report.dot.state_graph_dot(m.graph))
 
 
 def write_svg(m: MapRun, path: str) -> None:
     """The map's state graph rendered to SVG with Graphviz's dot; an InputError when it cannot be."""
+    from . import report
     assert m.graph is not None, "map_check(graph=True) draws the graph"
     try:
         report.dot.render_svg(report.dot.state_graph_dot(m.graph), path)
@@ -555,6 +605,7 @@ def write_html_check(run: CheckRun, path: str, opts: Optional[Options] = None, r
     search, bounded by ``opts.timeout`` like a claim; where that search cannot
     run or runs out, its picture is a summary of what the claims found.
     """
+    from .claims.common import Options
     from .report import html as H
     from .tools import pictures as P
     opts = opts or Options()
@@ -575,6 +626,7 @@ def write_html_check(run: CheckRun, path: str, opts: Optional[Options] = None, r
 
 def write_html_map(m: MapRun, path: str, file: str, opts: Optional[Options] = None, radix: str = "dec") -> None:
     """The map ``m`` (made by ``map_check(file, ..., graph=True)``) as one self-contained HTML page."""
+    from .claims.common import Options
     from .report import html as H
     from .tools import pictures as P
     opts = opts or Options()

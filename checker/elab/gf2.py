@@ -37,8 +37,6 @@ from functools import lru_cache
 from typing import Iterable
 
 import numpy as np
-from sympy import isprime
-from sympy.ntheory import perfect_power
 
 
 class Unfactored(Exception):
@@ -299,6 +297,7 @@ def _cyclotomic_factors(d: int, level: int) -> tuple[tuple[int, ...], tuple[int,
     got = _FACTORS.get((d, level))
     if got is not None:
         return got
+    from sympy import isprime  # imported here: only lfsr sequences need it, and it is slow to load
     step = d if d % 2 == 0 else 2 * d
     if level == 1:
         done, parts = _cyclotomic_factors(d, 0)
@@ -349,6 +348,8 @@ def _factor(m: int, step: int, work: _Work, composite: bool = False) -> tuple[se
     """(primes, unsplit composite parts) of ``m``, all of whose prime factors
     are 1 modulo ``step``, with the given work on each composite part
     (``composite``: ``m`` is known to be composite)."""
+    from sympy import isprime
+    from sympy.ntheory import perfect_power
     primes: set[int] = set()
     unsplit: list[int] = []
     todo = [m]
