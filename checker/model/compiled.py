@@ -215,6 +215,8 @@ def compile_model(model: Model, lanes: bool = False, fixed: Optional[dict[int, i
     exec(compile(_source(model, lanes, fixed), f"<compiled {model.name}>", "exec"), scope)  # noqa: S102 (our own text)
     fn = scope["run"]
     fn._model = model
+    if len(_CACHE) >= 16:  # a few models at a time: the cache holds on to them
+        _CACHE.clear()
     _CACHE[key] = fn
     return fn
 
