@@ -531,9 +531,8 @@ def json_sim(s: SimRun) -> str:
     """``sim --json``: ``{"trace": [...]}``; with several start codes ``{"runs": [{"from", "trace"}]}``."""
     from . import report
     if not s.others:
-        return report.json.dumps_sim([(None, s.entries())])
-    runs = [r.entries() for r in s.runs()]
-    return report.json.dumps_sim([(entries[0]["code"], entries) for entries in runs])
+        return report.json.dumps_sim([(None, s.iter_entries())])
+    return report.json.dumps_sim([(r.codes()[0], r.iter_entries()) for r in s.runs()])
 
 
 def json_error(e: InputError) -> str:

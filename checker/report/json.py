@@ -46,11 +46,11 @@ def dumps(doc: dict) -> str:
     return json.dumps(_printable(doc), indent=1) + "\n"
 
 
-def dumps_sim(runs: list[tuple[Optional[int], list[dict]]]) -> str:
+def dumps_sim(runs: list[tuple[Optional[int], Iterable[dict]]]) -> str:
     """``sim --json`` as text: ``{"trace": [...]}`` for one run, ``{"runs": [{"from", "trace"}]}``
     for several; one trace entry a line, written by the C encoder (a million clocks in
     seconds). Names in a trace are the design's, already valid Unicode."""
-    def trace(entries: list[dict]) -> str:
+    def trace(entries: Iterable[dict]) -> str:
         enc = json.JSONEncoder(separators=(", ", ": ")).encode
         return "[\n" + ",\n".join("  " + enc(e) for e in entries) + "\n ]"
     if len(runs) == 1 and runs[0][0] is None:

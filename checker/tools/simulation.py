@@ -37,9 +37,13 @@ MAX_CODE_BITS = 4096
 MAX_CYCLES = 1_000_000
 """Most clocks ``sim`` runs."""
 
-MAX_SIM_VALUES = 100_000_000
+MAX_SIM_VALUES = 70_000_000
 """Most bit values a run holds, over every start code: (clocks + 1) x (flops + inputs + outputs),
-checked before it starts (a synchronous run keeps one byte per value)."""
+checked before it starts (a synchronous run keeps one byte per value; a million clocks of a
+64-bit counter fit)."""
+
+MAX_SIM_ROWS = 1_000_001
+"""Most rows (clocks + 1, over every start code) one sim prints: its table or JSON is that long."""
 
 MAX_EVENT_SIM_VALUES = 20_000_000
 """The same for an asynchronous design, whose runs keep each clock's values and firings as records."""
@@ -100,13 +104,17 @@ class SimRun:
 
     def entries(self) -> list[dict]:
         """The contract's ``sim --json`` trace entries."""
+        return list(self.iter_entries())
+
+    def iter_entries(self):
+        """The entries one at a time (a long run is written without holding them all)."""
         m = self.design.model
         if self.packed is not None:
             p = self.packed
-            ins, outs = p.inputs.tolist(), p.outputs.tolist()
-            return [{"clock": t, "code": c, "inputs": dict(zip(m.inputs, i)), "outputs": dict(zip(m.outputs, o))}
-                    for t, (c, i, o) in enumerate(zip(self.codes(), ins, outs))]
-        out = []
+            for t, c in enumerate(self.codes()):
+                yield {"clock": t, "code": c, "inputs": dict(zip(m.inputs, p.inputs[t].tolist())),
+                       "outputs": dict(zip(m.outputs, p.outputs[t].tolist()))}
+            return
         for s in self.steps:
             e = {"clock": s.clock, "code": code_value(m, self.code, s.state), "inputs": s.inputs,
                  "outputs": s.outputs}
@@ -115,8 +123,7 @@ class SimRun:
                                 "code": unpacked(self.code, f.code)} for t, f in s.events]
                 if not s.settled:
                     e["settled"] = False
-            out.append(e)
-        return out
+            yield e
 
     def as_steps(self) -> list[Step]:
         """The run as :class:`Step` records (a packed run converted clock by clock)."""
@@ -347,6 +354,9 @@ def simulate(req: SimRequest, ns: Namespace, d: Design) -> SimRun:
         raise InputError(where, f"{n} clocks of {d.name} ({width} bits a clock{runs}) would hold "
                                 f"{(n + 1) * width * len(starts):,} bit values; the limit is {limit:,}: "
                                 f"run at most {most} clocks")
+    if (n + 1) * len(starts) > MAX_SIM_ROWS:
+        raise _cmdline(f"{len(starts)} start codes x {n + 1} clocks would print {(n + 1) * len(starts):,} rows; "
+                       f"the limit is {MAX_SIM_ROWS:,}")
     for c in starts:
         if c < 0 or c >> len(idx):
             if req.trace is not None:
