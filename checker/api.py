@@ -15,33 +15,47 @@ command line's text, JSON and files. Bad input raises :class:`InputError`.
 
 from __future__ import annotations
 
-import json
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Iterable, Optional, Sequence
+from typing import TYPE_CHECKING, Iterable, Optional, Sequence
 
-from . import report
 from .about import __version__
-from .claims import run_check, run_claims
-from .claims.common import CODE_RADIXES, Options, check_radix
-from .claims.result import OPEN, PROVED, REFUTED, Result
-from .elab import Check, Design, Namespace, load_namespace
-from .elab.spec import condition_literal, flop_indices
-from .engines.budget import run_bounded
-from .engines.sat import DEFAULT_SOLVER, solver_names
 from .errors import InputError, Pos
-from .words import count
-from .fileio import collected, output_transaction, read_limited, shown, write_output
-from .lang.parse import parse_expr
-from .model.events import unpacked
-from .model.simulate import Step, code_value, run, state_of_code
-from .tools import compare as _compare
-from .tools.codemap import MapDoc, recovery_map
-from .tools.export import export_aiger, export_cnf
-from .tools.loading import LoadTimeout, load_within
-from .tools.netlists import FORMATS as DESIGN_FORMATS, NoForm, write_design
-from .tools.stategraph import StateGraph, state_graph
+from .fileio import collected, output_transaction, shown, write_output
+from .engines.names import DEFAULT_SOLVER
+
+# Everything else is imported by the function that needs it, so that `countersign --help`
+# and `--version` start without loading the solvers, NumPy, lark or SymPy, and a command
+# loads only what its work needs. These names are importable from here all the same:
+_LAZY = {
+    "report": ("", "report"), "Options": ("claims.common", "Options"), "CODE_RADIXES": ("claims.common", "CODE_RADIXES"),
+    "Result": ("claims.result", "Result"), "OPEN": ("claims.result", "OPEN"), "PROVED": ("claims.result", "PROVED"),
+    "REFUTED": ("claims.result", "REFUTED"), "Check": ("elab", "Check"), "Design": ("elab", "Design"),
+    "Namespace": ("elab", "Namespace"), "solver_names": ("engines.sat", "solver_names"),
+    "SimRun": ("tools.simulation", "SimRun"), "MAX_CYCLES": ("tools.simulation", "MAX_CYCLES"),
+    "MAX_SIM_VALUES": ("tools.simulation", "MAX_SIM_VALUES"), "MapDoc": ("tools.codemap", "MapDoc"),
+    "StateGraph": ("tools.stategraph", "StateGraph"),
+}
+
+if TYPE_CHECKING:  # for readers and type checkers only: annotations are never evaluated here
+    from .claims.common import Options
+    from .claims.result import Result
+    from .elab import Check, Design, Namespace
+    from .tools.simulation import SimRun
+    from .tools.stategraph import StateGraph
+
+
+def __getattr__(name: str):
+    """The names above, imported when first asked for (PEP 562)."""
+    if name not in _LAZY:
+        raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+    import importlib
+    module, attr = _LAZY[name]
+    mod = importlib.import_module(f"{__package__}.{module or attr}")
+    value = mod if not module else getattr(mod, attr)
+    globals()[name] = value
+    return value
 
 __all__ = [
     "__version__", "DEFAULT_SOLVER", "OPEN", "PROVED", "REFUTED", "CheckHandle", "CheckRun", "InputError",
@@ -59,11 +73,6 @@ MAX_CODE_BITS = 4096
 MAX_JOBS = 256
 """Most claims ``check --jobs`` runs at once."""
 
-MAX_CYCLES = 1_000_000
-"""Most clocks ``simulate`` runs."""
-
-MAX_SIM_VALUES = 20_000_000
-"""Most bit values a simulated run holds: (clocks + 1) x (flops + inputs + outputs), checked before it starts."""
 
 SKIPPED_FOLDERS = frozenset({"node_modules", "site-packages", "__pycache__"})
 """Folder names a folder scan never enters (besides hidden folders and virtual environments)."""
@@ -83,6 +92,8 @@ class CheckHandle:
 
     def run(self, timeout: Optional[float] = None, solver: str = DEFAULT_SOLVER, engine: str = "auto") -> list[Result]:
         """Prove or refute every claim of this check; one Result per claim, in written order."""
+        from .claims import run_check
+        from .claims.common import Options
         return run_check(self.spec, Options(solver=solver, timeout=timeout, engine=engine))
 
 
@@ -133,6 +144,7 @@ class Program:
 
 def load(path: str) -> Program:
     """Read and elaborate ``path`` and its ``use`` files; raises InputError on bad input."""
+    from .elab import load_namespace
     return Program(load_namespace(str(path)))
 
 
@@ -145,6 +157,8 @@ def options(solver: str = DEFAULT_SOLVER, timeout: Optional[float] = None, engin
     cleanly; the command line asks for it. ``radix`` is how evidence lines show codes
     (``dec``, ``bin``, ``hex``, or ``auto``: binary up to 8 bits, hex above).
     """
+    from .claims.common import CODE_RADIXES, Options
+    from .engines.sat import solver_names
     where = Pos("<command line>", 1, 1)
     if solver not in solver_names():
         raise InputError(where, f"unknown solver '{solver}'; python-sat offers: {', '.join(solver_names())}")
@@ -221,6 +235,9 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
     wrong place fails. With ``progress``, a live line per running claim goes to stderr
     (:mod:`checker.report.progress`; the caller decides that stderr is a terminal).
     """
+    from .claims import run_claims
+    from .claims.common import Options
+    from .tools.loading import LoadTimeout, load_within
     opts = opts or Options()
     files = expand_paths(paths)
     out = CheckRun(files=files)
@@ -256,6 +273,7 @@ def check_files(paths: Sequence[str], opts: Optional[Options] = None, jobs: int 
 
 def exit_status(results: Iterable[Result]) -> int:
     """0 every claim proved, 1 some refuted, 3 some open and none refuted."""
+    from .claims.result import OPEN, REFUTED
     statuses = {r.status for r in results}
     return 1 if REFUTED in statuses else 3 if OPEN in statuses else 0
 
@@ -279,6 +297,8 @@ class MapRun:
 
 
 def _map_work(chk: Check, cond: Optional[int], limit: int, opts: Options, want_graph: bool):
+    from .tools.codemap import recovery_map
+    from .tools.stategraph import state_graph
     def work(budget):
         doc = recovery_map(chk, cond=cond, limit=limit, opts=opts, budget=budget)
         graph = state_graph(chk, doc) if want_graph else None
@@ -295,6 +315,12 @@ def map_check(path: str, check: str, when: Optional[str] = None, limit: int = 25
     whole map through the same hard stop claims use; a map that runs out is
     ``"status": "open"``. With ``progress``, a live line on stderr while it runs.
     """
+    from .claims.common import Options, check_radix
+    from .elab.spec import condition_literal
+    from .engines.budget import run_bounded
+    from .lang.parse import parse_expr
+    from .tools.codemap import MapDoc
+    from .tools.loading import LoadTimeout, load_within
     opts = opts or Options()
     if limit < 0:
         raise InputError(Pos("<command line>", 1, 1), "--limit takes a count of 0 or more")
@@ -332,178 +358,35 @@ def compare_files(old: str, new: str, opts: Optional[Options] = None) -> dict:
     ``opts.timeout`` bounds each design's comparison and each claim; what runs
     out is reported open (``"open": true``), never equal.
     """
+    from .claims.common import Options
+    from .tools import compare as _compare
     return _compare.compare_files(old, new, opts or Options())
 
 
 # --- sim ------------------------------------------------------------------------
 
-@dataclass
-class SimRun:
-    """A simulated run: the design, the code's state indices (msb first), the steps."""
-
-    design: Design
-    code: list[int]
-    steps: list[Step]
-
-    def entries(self) -> list[dict]:
-        """The contract's ``sim --json`` trace entries."""
-        m = self.design.model
-        out = []
-        for s in self.steps:
-            e = {"clock": s.clock, "code": code_value(m, self.code, s.state), "inputs": s.inputs,
-                 "outputs": s.outputs}
-            if not m.synchronous:
-                e["events"] = [{"flop": m.states[f.flop], "value": f.value, "depth": f.depth, "time": t,
-                                "code": unpacked(self.code, f.code)} for t, f in s.events]
-                if not s.settled:
-                    e["settled"] = False
-            out.append(e)
-        return out
-
-
 def _cmdline(message: str) -> InputError:
     return InputError(Pos("<command line>", 1, 1), message)
 
 
-def parse_number(text: str, what: str) -> int:
-    """A number as the command line takes it: decimal, 0b binary or 0x hex."""
-    if len(text) > len(str(1 << MAX_CODE_BITS)) + 3:  # checked before conversion
-        raise _cmdline(f"{what}: a number of {len(text)} characters is wider than any code ({MAX_CODE_BITS} bits at most)")
-    try:
-        return int(text, 0)
-    except ValueError:
-        raise _cmdline(f"{what}: '{text}' is not a number (decimal, 0b binary or 0x hex)") from None
-
-
-def input_settings(settings: Iterable[str], design: Design) -> dict[str, int]:
-    """Input bit values from ``NAME=VALUE`` items (each may hold several, comma-separated)."""
-    fixed: dict[str, int] = {}
-    for item in (it for group in settings for it in group.split(",") if it):
-        name, eq, value = item.partition("=")
-        if not eq:
-            raise _cmdline(f"--set takes NAME=VALUE, not '{item}'")
-        v = parse_number(value, f"--set {name}")
-        if name in design.input_vectors:
-            bitsn = design.input_vectors[name]
-            if v < 0 or v >> len(bitsn):
-                raise _cmdline(f"--set {name}: {value} does not fit its {count(len(bitsn), 'bit')}")
-            for k, b in enumerate(bitsn):
-                fixed[b] = (v >> (len(bitsn) - 1 - k)) & 1
-        elif name in design.model.inputs:
-            if v not in (0, 1):
-                raise _cmdline(f"--set {name}: a single bit is 0 or 1")
-            fixed[name] = v
-        else:
-            known = ", ".join(design.input_vectors) or "none"
-            raise _cmdline(f"--set {name}: design {design.name} has no input '{name}' (inputs: {known})")
-    return fixed
-
-
-MAX_TRACE_BYTES = 32 * 1024 * 1024
-"""Largest trace file ``sim --trace`` reads (the source file limit)."""
-
-
-class _TraceNumber(ValueError):
-    pass
-
-
-def _trace_int(text: str) -> int:
-    """A JSON integer of a trace, refused (before conversion) when wider than any code can be."""
-    digits = text.lstrip("-").lstrip("0")
-    if len(digits) > len(str(1 << MAX_CODE_BITS)):
-        raise _TraceNumber(f"a number of {len(digits)} digits in the trace is wider than any code "
-                           f"({MAX_CODE_BITS} bits at most)")
-    return int(text)
-
-
-def read_trace(path: str, design: Design, want_code: bool) -> tuple[list[dict], Optional[list[int]]]:
-    """The trace list of a trace file, and the code order of its check where it names one."""
-    where = Pos(path, 1, 1)
-    raw = read_limited(path, MAX_TRACE_BYTES, where, "trace file")
-    try:
-        data = json.loads(raw.decode("utf-8"), parse_int=_trace_int)
-    except UnicodeDecodeError as e:
-        raise InputError(where, f"cannot read '{path}': not UTF-8 text (byte {e.start})") from None
-    except json.JSONDecodeError as e:
-        raise InputError(Pos(path, e.lineno, e.colno), f"not JSON: {e.msg}") from None
-    except _TraceNumber as e:
-        raise InputError(where, str(e)) from None
-    code = None
-    if isinstance(data, dict) and isinstance(data.get("claims"), list) and len(data["claims"]) == 1:
-        data = data["claims"][0]
-    if isinstance(data, dict):
-        if want_code and isinstance(data.get("file"), str) and isinstance(data.get("check"), str):
-            try:
-                for c in load(data["file"]).namespace.checks:
-                    if c.name == data["check"] and c.design.name == design.name:
-                        code = list(c.code)
-            except InputError:
-                code = None
-        data = data.get("trace")
-    if not isinstance(data, list) or not data or not all(isinstance(e, dict) for e in data):
-        raise InputError(where, "a trace file holds a trace list, or a claim object with a 'trace'")
-    for i, e in enumerate(data):
-        code_i = e.get("code", 0)
-        if not isinstance(code_i, int) or not isinstance(e.get("inputs") or {}, dict):
-            raise InputError(where, f"trace entry {i}: each trace entry has an integer 'code' and an 'inputs' object")
-        for k, v in (e.get("inputs") or {}).items():
-            if k not in design.model.inputs or v not in (0, 1):
-                raise InputError(where, f"trace entry {i}: input '{k}'={v!r} is not an input bit of {design.name} "
-                                        f"set to 0 or 1")
-    return data, code
-
-
 def simulate(path: str, design: str, start: Optional[str] = None, code: Optional[str] = None,
              settings: Sequence[str] = (), cycles: Optional[int] = None, trace: Optional[str] = None,
-             timeout: Optional[float] = None) -> SimRun:
-    """Clock design ``design`` of ``path``: from code ``start`` with inputs held at ``settings``
-    for ``cycles`` clocks (default 16), or replaying the start and inputs of a JSON ``trace``.
-    ``timeout`` bounds reading the file and the run."""
-    return _within(timeout, "sim", lambda: _simulate(path, design, start, code, settings, cycles, trace))
+             timeout: Optional[float] = None, check: Optional[str] = None, claim: Optional[int] = None,
+             inputs: Optional[str] = None) -> SimRun:
+    """Clock design ``design`` of ``path``: from code ``start`` (several: ``0,5,9`` or ``0..15``,
+    clocked together bit-parallel) with inputs held at ``settings`` or read per clock from the
+    CSV or JSON file ``inputs``, for ``cycles`` clocks (default 16, or one per row of ``inputs``);
+    or replaying the start and inputs of a JSON ``trace`` (a whole ``check --json`` document:
+    the claim on line ``claim``). The code reads the flops as check ``check``'s code line does,
+    as ``code`` says, or by default as the file's checks of the design do (else in declaration
+    order). ``timeout`` bounds reading the file and the run."""
+    from .tools import simulation as S
+    req = S.SimRequest(path, design, start, code, list(settings), cycles, trace, check, claim, inputs)
 
-
-def _simulate(path: str, design: str, start: Optional[str], code: Optional[str], settings: Sequence[str],
-              cycles: Optional[int], trace: Optional[str]) -> SimRun:
-    d = load(path).find_design(design)
-    model = d.model
-    idx = list(range(len(model.states))) if code is None else flop_indices(d, parse_expr("--code", code))
-    fixed = input_settings(settings, d)
-    if trace is not None:
-        entries, code_from_trace = read_trace(trace, d, code is None)
-        if code_from_trace is not None:
-            idx = code_from_trace
-        start_code = entries[0].get("code", 0)
-        per_clock = [{**fixed, **{k: int(v) for k, v in (e.get("inputs") or {}).items()}} for e in entries]
-        orders = [[ev.get("flop") for ev in e["events"]] if isinstance(e.get("events"), list) else None
-                  for e in entries]
-        n = len(entries) - 1 if cycles is None else cycles
-    else:
-        start_code = 0 if start is None else parse_number(start, "--from")
-        per_clock = [fixed]
-        orders = None
-        n = 16 if cycles is None else cycles
-    if n < 0 or n > MAX_CYCLES:
-        raise _cmdline(f"--cycles takes a number from 0 to {MAX_CYCLES}")
-    width = len(model.states) + len(model.inputs) + len(model.outputs)
-    if (n + 1) * width > MAX_SIM_VALUES:  # the cost, said before the run rather than found during it
-        most = max(0, MAX_SIM_VALUES // max(1, width) - 1)
-        where = Pos(trace, 1, 1) if trace is not None and cycles is None else Pos("<command line>", 1, 1)
-        raise InputError(where, f"{n} clocks of {d.name} ({width} bits a clock) would hold {(n + 1) * width:,} "
-                                f"bit values; the limit is {MAX_SIM_VALUES:,}: run at most {most} clocks")
-    if start_code < 0 or start_code >> len(idx):
-        if trace is not None:
-            raise InputError(Pos(trace, 1, 1), f"trace entry 0: code {start_code} does not fit the "
-                                               f"{len(idx)}-bit code of {d.name}")
-        raise _cmdline(f"--from {start_code} does not fit the {len(idx)}-bit code")
-    if orders is not None:
-        for k, order in enumerate(orders):
-            if order is not None and not all(f in model.states for f in order):
-                raise InputError(Pos(trace or "<trace>", 1, 1), f"entry {k} of the trace fires a flop that "
-                                                               f"{d.name} does not have")
-    try:
-        return SimRun(d, idx, run(model, state_of_code(model, idx, start_code), per_clock, n, orders))
-    except ValueError as e:
-        raise InputError(Pos(trace or "<trace>", 1, 1), f"the trace's order of firings does not replay: {e}") from None
+    def work() -> SimRun:
+        prog = load(path)
+        return S.simulate(req, prog.namespace, prog.find_design(design))
+    return _within(timeout, "sim", work)
 
 
 # --- export ---------------------------------------------------------------------
@@ -515,6 +398,7 @@ class Unfinished(Exception):
 def _within(timeout: Optional[float], what: str, work):
     """``work()`` under ``timeout`` through the hard stop; the files it writes are written here,
     only when it finished in time."""
+    from .engines.budget import run_bounded
     if timeout is None:
         return work()
 
@@ -540,6 +424,7 @@ def export_claim(path: str, check: str, line: int, output: str, timeout: Optiona
 
 
 def _export_claim(path: str, check: str, line: int, output: str) -> dict:
+    from .tools.export import export_aiger, export_cnf
     chk = load(path).find_check(check)
     claims = [c for c in chk.claims if c.pos.line == line]
     if not claims:
@@ -565,6 +450,7 @@ def export_design(path: str, design: str, output: str, timeout: Optional[float] 
 
 
 def _export_design(path: str, design: str, output: str) -> dict:
+    from .tools.netlists import FORMATS as DESIGN_FORMATS, NoForm, write_design
     d = load(path).find_design(design)
     if Path(output).suffix.lower() not in DESIGN_FORMATS:
         raise _cmdline(f"a design is written as {', '.join(DESIGN_FORMATS)}: give -o a name ending in one "
@@ -591,28 +477,53 @@ def demo_path() -> Path:
 def render_check(run: CheckRun, radix: str = "dec", columns: Optional[int] = None) -> str:
     """The readable report of a check run; ``radix`` (``auto``, ``dec``, ``bin``, ``hex``) shows its
     codes; ``columns``, a terminal's width, is what the table of verdicts must fit."""
+    from . import report
     text = report.text.format_results(run.results, run.widths, radix, columns)
     return "\n".join([f"{e.pos.file}: open: {e.message}" for e in run.unread] + [text])
 
 
 def render_map(m: MapRun, radix: str = "dec") -> str:
     """The readable map table; ``radix`` shows its codes."""
+    from . import report
     return report.text.map_text(m.doc, m.auto_radix if radix == "auto" else radix)
 
 
 def render_compare(doc: dict) -> str:
     """The readable report of a comparison."""
+    from .tools import compare as _compare
     return _compare.format_compare(doc)
 
 
-def render_sim(s: SimRun, events: bool = False, radix: str = "bin") -> str:
-    """The readable table of a simulated run; with ``events``, the firings between clocks
-    of an asynchronous design under each row; ``radix`` shows its codes."""
-    return report.text.sim_table(s.entries(), len(s.code), [st.faults for st in s.steps], events, radix)
+def render_sim(s: SimRun, events: bool = False, radix: str = "auto") -> str:
+    """The readable table of a simulated run (a table per start code when there are several),
+    input and output vectors as values; with ``events``, the firings between clocks of an
+    asynchronous design under each row; ``radix`` shows its codes and vectors."""
+    from .model.events import unpacked
+    from .report.simtable import sim_table
+    from .claims.common import code_and_decimal
+    m = s.design.model
+    parts = []
+    if s.order != "declaration":
+        parts.append(f"codes read in the bit order of {s.order}")
+    for r in s.runs():
+        codes = r.codes()
+        notes = {t: "SR fault: " + ", ".join(f) for t, f in r.faults().items()}
+        evs: dict[int, list[str]] = {}
+        for t, st in enumerate(r.steps):
+            if not st.settled:
+                notes[t] = "; ".join(filter(None, [notes.get(t), "the cascade after this clock did not settle"]))
+            if events and st.events:
+                evs[t] = [f"  t+{when}: {m.states[f.flop]} -> {f.value}  "
+                          f"{code_and_decimal(unpacked(r.code, f.code), len(r.code), radix)}" for when, f in st.events]
+        if s.others:
+            parts.append(f"from {code_and_decimal(codes[0], len(r.code), radix)}:")
+        parts.append(sim_table(codes, len(r.code), r.vectors("in"), r.vectors("out"), radix, notes, evs))
+    return "\n\n".join(parts)
 
 
 def json_check(run: CheckRun) -> str:
     """``check --json``; files not read within the timeout are listed under ``unread``."""
+    from . import report
     doc = report.json.claims(run.results)
     if run.unread:
         doc["unread"] = [{"file": e.pos.file, "message": e.message} for e in run.unread]
@@ -621,21 +532,27 @@ def json_check(run: CheckRun) -> str:
 
 def json_map(m: MapRun) -> str:
     """``map --json``."""
+    from . import report
     return report.json.dumps(m.doc)
 
 
 def json_compare(doc: dict) -> str:
     """``compare --json``."""
+    from . import report
     return report.json.dumps(doc)
 
 
 def json_sim(s: SimRun) -> str:
-    """``sim --json``."""
-    return report.json.dumps(report.json.sim(s.entries()))
+    """``sim --json``: ``{"trace": [...]}``; with several start codes ``{"runs": [{"from", "trace"}]}``."""
+    from . import report
+    if not s.others:
+        return report.json.dumps_sim([(None, s.iter_entries())])
+    return report.json.dumps_sim([(r.codes()[0], r.iter_entries()) for r in s.runs()])
 
 
 def json_error(e: InputError) -> str:
     """The error document of bad input."""
+    from . import report
     return report.json.dumps(report.json.error(e))
 
 
@@ -643,6 +560,7 @@ def write_junit(run: CheckRun, path: str, open_ok: bool = False) -> None:
     """A JUnit XML report of a check run: one test per claim, one error case per unreadable file.
 
     An open claim is a failure of type ``open``; with ``open_ok`` it is skipped."""
+    from . import report
     errors = [(str(e.pos.file), f"{e.pos}: {e.message}") for e in run.errors]
     report.junit.write_junit(run.results, path, errors, [(str(e.pos.file), e.message) for e in run.unread],
                              open_ok)
@@ -650,22 +568,28 @@ def write_junit(run: CheckRun, path: str, open_ok: bool = False) -> None:
 
 def write_junit_error(e: InputError, path: str) -> None:
     """A JUnit XML report of a run that stopped on ``e`` (such as ``no claims in ...``): one error case."""
+    from . import report
     report.junit.write_junit([], path, [(str(e.pos.file), f"{e.pos}: {e.message}")])
 
 
 def write_vcd(s: SimRun, path: str) -> None:
-    """The run as an IEEE 1364 value change dump."""
-    report.vcd.write_vcd(s.design, s.steps, path)
+    """The run as an IEEE 1364 value change dump (one run: one start code)."""
+    from . import report
+    if s.others:
+        raise _cmdline("--vcd writes one run: give --from a single code")
+    report.vcd.write_vcd(s.design, s.as_steps(), path)
 
 
 def write_dot(m: MapRun, path: str) -> None:
     """The map's state graph in Graphviz DOT."""
+    from . import report
     assert m.graph is not None, "map_check(graph=True) draws the graph"
     write_output(path, report.dot.state_graph_dot(m.graph))
 
 
 def write_svg(m: MapRun, path: str) -> None:
     """The map's state graph rendered to SVG with Graphviz's dot; an InputError when it cannot be."""
+    from . import report
     assert m.graph is not None, "map_check(graph=True) draws the graph"
     try:
         report.dot.render_svg(report.dot.state_graph_dot(m.graph), path)
@@ -695,6 +619,7 @@ def write_html_check(run: CheckRun, path: str, opts: Optional[Options] = None, r
     search, bounded by ``opts.timeout`` like a claim; where that search cannot
     run or runs out, its picture is a summary of what the claims found.
     """
+    from .claims.common import Options
     from .report import html as H
     from .tools import pictures as P
     opts = opts or Options()
@@ -715,6 +640,7 @@ def write_html_check(run: CheckRun, path: str, opts: Optional[Options] = None, r
 
 def write_html_map(m: MapRun, path: str, file: str, opts: Optional[Options] = None, radix: str = "dec") -> None:
     """The map ``m`` (made by ``map_check(file, ..., graph=True)``) as one self-contained HTML page."""
+    from .claims.common import Options
     from .report import html as H
     from .tools import pictures as P
     opts = opts or Options()

@@ -112,10 +112,11 @@ def _seconds(args) -> Optional[float]:
 
 def cmd_sim(args) -> int:
     run = api.simulate(args.file, args.design, args.start, args.code, args.set or [], args.cycles, args.trace,
-                       timeout=_seconds(args))
+                       timeout=_seconds(args), check=args.check, claim=args.claim, inputs=args.inputs)
     if args.vcd:
         api.write_vcd(run, args.vcd)
-    _emit(args.json, api.json_sim(run), api.render_sim(run, args.events, _radix(args)))
+    out = api.json_sim(run) if args.json else api.render_sim(run, args.events, _radix(args))  # only the one asked for
+    _emit(args.json, out, out)
     return 0
 
 
@@ -214,11 +215,18 @@ def build_parser() -> argparse.ArgumentParser:
     sp = sub.add_parser("sim", help="clock a design, print a table")
     sp.add_argument("file", metavar="FILE")
     sp.add_argument("design", metavar="DESIGN")
-    sp.add_argument("--from", dest="start", metavar="CODE", help="starting code (default 0)")
-    sp.add_argument("--code", metavar="VEC", help="flop bits the code spells, most significant first (default: all, in order)")
+    sp.add_argument("--from", dest="start", metavar="CODE", help="starting code (default 0); several (0,5,9 or 0..15) "
+                                                                 "run together, a table each")
+    sp.add_argument("--code", metavar="VEC", help="flop bits the code spells, most significant first (default: as the "
+                                                  "file's checks of the design order them, else in declaration order)")
+    sp.add_argument("--check", metavar="NAME", help="read codes in the bit order of check NAME's code line")
+    sp.add_argument("--inputs", metavar="FILE", help="inputs per clock from a CSV (header of input names) or JSON "
+                                                     "(a list of objects) file, one row per clock")
     sp.add_argument("--set", action="append", metavar="NAME=VALUE", help="hold an input bit or vector at VALUE every clock")
     sp.add_argument("--cycles", type=int, default=None, metavar="N", help="clocks to run (default 16)")
-    sp.add_argument("--trace", metavar="FILE", help="replay the inputs and start of a JSON trace printed by check")
+    sp.add_argument("--trace", metavar="FILE", help="replay the inputs and start of a JSON trace printed by check "
+                                                    "(a claim, or the whole check --json document)")
+    sp.add_argument("--claim", type=int, metavar="LINE", help="with --trace of a whole document: the claim on LINE")
     sp.add_argument("--vcd", metavar="FILE", help="write the run as an IEEE 1364 value change dump")
     sp.add_argument("--events", action="store_true",
                     help="an asynchronous design: print the firings between clocks (unit delays)")

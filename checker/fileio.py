@@ -21,7 +21,6 @@ import io
 import errno
 import os
 import stat
-import tempfile
 from typing import IO, Iterator, Optional
 
 from .errors import InputError, Pos
@@ -146,6 +145,7 @@ def atomic_output(path: str, binary: bool = False) -> Iterator[IO]:
         raise OSError(errno.EACCES, "permission denied", path)
     folder, name = os.path.split(target)
     try:
+        import tempfile  # here: the command line starts without it (and what it loads)
         fd, tmp = tempfile.mkstemp(dir=folder or ".", prefix=f".{name}.", suffix=".part")
     except OSError as e:
         raise _named(e, path) from None

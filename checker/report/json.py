@@ -8,7 +8,7 @@ module wraps them into the documents the contract names and writes them.
 from __future__ import annotations
 
 import json
-from typing import Iterable
+from typing import Iterable, Optional
 
 from ..claims.result import Result
 from ..errors import InputError
@@ -44,3 +44,16 @@ def _printable(x):
 def dumps(doc: dict) -> str:
     """One JSON document as text, newline-terminated; strings are always valid Unicode."""
     return json.dumps(_printable(doc), indent=1) + "\n"
+
+
+def dumps_sim(runs: list[tuple[Optional[int], Iterable[dict]]]) -> str:
+    """``sim --json`` as text: ``{"trace": [...]}`` for one run, ``{"runs": [{"from", "trace"}]}``
+    for several; one trace entry a line, written by the C encoder (a million clocks in
+    seconds). Names in a trace are the design's, already valid Unicode."""
+    def trace(entries: Iterable[dict]) -> str:
+        enc = json.JSONEncoder(separators=(", ", ": ")).encode
+        return "[\n" + ",\n".join("  " + enc(e) for e in entries) + "\n ]"
+    if len(runs) == 1 and runs[0][0] is None:
+        return '{"trace": ' + trace(runs[0][1]) + "}\n"
+    parts = [f' {{"from": {start}, "trace": {trace(entries)}}}' for start, entries in runs]
+    return '{"runs": [\n' + ",\n".join(parts) + "\n]}\n"

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from datetime import datetime, timezone
 from typing import Sequence
 
 from vcd import VCDWriter
@@ -32,7 +33,7 @@ def write_vcd(design: Design, steps: Sequence[Step], path: str, period_ns: int =
     clock_name = "clk"
     while clock_name in taken:
         clock_name += "_"
-    with atomic_output(path) as f, VCDWriter(f, timescale="1 ns", date="today", version="countersign") as w:
+    with atomic_output(path) as f, VCDWriter(f, timescale="1 ns", date=_now(), version="countersign") as w:
         top = design.name
         clk = w.register_var(top, clock_name, "wire", size=1, init=0)
         vars_ = []
@@ -53,12 +54,27 @@ def write_vcd(design: Design, steps: Sequence[Step], path: str, period_ns: int =
                     val = (val << 1) | (values.get(b, 0) & 1)
                 w.change(v, t, val)
 
-        for s in steps:
-            t = s.clock * period
-            values = {**s.state, **s.inputs, **s.outputs}
-            dump(t, values)
-            w.change(clk, t, 0)
-            w.change(clk, t + period // 2, 1)
-            for when, f in s.events:
-                values[names[f.flop]] = f.value
-                dump(t + period // 2 + when, values)
+        # clock k >= 1 begins with the rising edge at k * period; flops change one
+        # nanosecond after it (after the last firing of an asynchronous cascade), and the
+        # inputs of clock k with them, so they are steady at the next rising edge
+        prev: dict = {}
+        for s, fired in zip(steps, [[]] + [s.events for s in steps[:-1]]):
+            edge = s.clock * period
+            if s.clock > 0:
+                w.change(clk, edge, 1)
+            settled = 0
+            if fired:
+                values = {**prev}
+                for when, fl in fired:
+                    values[names[fl.flop]] = fl.value
+                    dump(edge + when, values)
+                settled = max(when for when, _ in fired)
+            prev = {**s.state, **s.inputs, **s.outputs}
+            dump(edge + (settled + 1 if s.clock > 0 else 0), prev)
+            if s.clock > 0:
+                w.change(clk, edge + period // 2, 0)
+
+
+def _now() -> str:
+    """The dump's ``$date``: when it was written, in UTC."""
+    return datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M:%S UTC")
