@@ -37,22 +37,25 @@ def _json(capsys, *args):
     return rc, (json.loads(out.out) if out.out else None), out.err
 
 
-def test_default_code_order_is_the_checks_and_agrees_with_map(write, capsys):
+def test_check_code_order_agrees_with_map_and_the_default_is_declaration(write, capsys):
     path = write(VENT)
-    rc, doc, _ = _json(capsys, "sim", path, "vent", "--from", "3", "--set", "go=1", "--cycles", "2")
+    rc, doc, _ = _json(capsys, "sim", path, "vent", "--check", "steps", "--from", "3", "--set", "go=1",
+                       "--cycles", "2")
     assert rc == 0 and [e["code"] for e in doc["trace"]] == [3, 4, 5]  # counts up in the check's order
-    rc, named, _ = _json(capsys, "sim", path, "vent", "--check", "steps", "--from", "3", "--set", "go=1",
-                         "--cycles", "2")
-    assert rc == 0 and named["trace"] == doc["trace"]
-    # the declaration order (p[0] first, most significant) reads the same states differently
-    rc, decl, _ = _json(capsys, "sim", path, "vent", "--code", "{p[0], p[1], p[2]}", "--from", "6",
-                        "--set", "go=1", "--cycles", "2")
-    assert [e["code"] for e in decl["trace"]] == [6, 1, 5]  # 3, 4, 5 written lowest bit first
+    # the default is contract v2's: declaration order, p[0] first and most significant, which
+    # reads the same states differently (3, 4, 5 written lowest bit first), as --code spells it
+    rc, decl, _ = _json(capsys, "sim", path, "vent", "--from", "6", "--set", "go=1", "--cycles", "2")
+    assert [e["code"] for e in decl["trace"]] == [6, 1, 5]
+    rc, spelled, _ = _json(capsys, "sim", path, "vent", "--code", "{p[0], p[1], p[2]}", "--from", "6",
+                           "--set", "go=1", "--cycles", "2")
+    assert spelled["trace"] == decl["trace"]
+    assert main(["sim", path, "vent", "--from", "6", "--cycles", "1"]) == 0
+    assert "--check steps" in capsys.readouterr().out  # the table names the check that orders otherwise
     # map: where each unused code goes under the recover condition; sim from there agrees
     rc, m, _ = _json(capsys, "map", path, "steps")
     for entry in m["unused"]:
-        rc, one, _ = _json(capsys, "sim", path, "vent", "--from", str(entry["code"]), "--set", "go=1",
-                           "--cycles", "1")
+        rc, one, _ = _json(capsys, "sim", path, "vent", "--check", "steps", "--from", str(entry["code"]),
+                           "--set", "go=1", "--cycles", "1")
         assert one["trace"][1]["code"] == entry["next"], entry
     assert main(["sim", path, "vent", "--check", "nosuch"]) == 2
 
@@ -80,7 +83,7 @@ def test_inputs_per_clock_from_csv_and_json(write, tmp_path, capsys):
     path = write(VENT)
     csv = tmp_path / "run.csv"
     csv.write_text("# one row per clock\ngo,lamp\n1,0b10\n0,3\n1,0x1\n")
-    rc, doc, _ = _json(capsys, "sim", path, "vent", "--inputs", str(csv))
+    rc, doc, _ = _json(capsys, "sim", path, "vent", "--check", "steps", "--inputs", str(csv))
     assert rc == 0
     trace = doc["trace"]
     assert len(trace) == 4  # one clock per row, then the state after the last
@@ -88,7 +91,7 @@ def test_inputs_per_clock_from_csv_and_json(write, tmp_path, capsys):
     assert [e["inputs"]["lamp[1]"] * 2 + e["inputs"]["lamp[0]"] for e in trace] == [2, 3, 1, 1]
     js = tmp_path / "run.json"
     js.write_text(json.dumps([{"go": 1, "lamp": 2}, {"go": 0, "lamp": "0b11"}, {"go": 1, "lamp": 1}]))
-    rc, doc2, _ = _json(capsys, "sim", path, "vent", "--inputs", str(js))
+    rc, doc2, _ = _json(capsys, "sim", path, "vent", "--check", "steps", "--inputs", str(js))
     assert rc == 0 and doc2["trace"] == trace
 
 
@@ -111,11 +114,11 @@ def test_a_bad_inputs_file_is_file_line_col(write, tmp_path, capsys):
 
 def test_vectors_are_values_in_the_table(write, capsys):
     path = write(VENT)
-    assert main(["sim", path, "vent", "--from", "5", "--set", "go=0,lamp=2", "--cycles", "1"]) == 0
+    assert main(["sim", path, "vent", "--check", "steps", "--from", "5", "--set", "go=0,lamp=2", "--cycles", "1"]) == 0
     text = capsys.readouterr().out
     assert "lamp=0b10" in text and "stage=0b101" in text and "lit=0b10" in text
     assert "lamp[1]" not in text and "stage[0]" not in text
-    assert main(["sim", path, "vent", "--from", "5", "--set", "go=0,lamp=2", "--cycles", "1",
+    assert main(["sim", path, "vent", "--check", "steps", "--from", "5", "--set", "go=0,lamp=2", "--cycles", "1",
                  "--radix", "dec"]) == 0
     text = capsys.readouterr().out
     assert "lamp=2" in text and "stage=5" in text
@@ -123,9 +126,9 @@ def test_vectors_are_values_in_the_table(write, capsys):
 
 def test_many_start_codes_run_together(write, capsys):
     path = write(VENT)
-    rc, doc, _ = _json(capsys, "sim", path, "vent", "--from", "0..2,5", "--set", "go=1", "--cycles", "2")
+    rc, doc, _ = _json(capsys, "sim", path, "vent", "--check", "steps", "--from", "0..2,5", "--set", "go=1", "--cycles", "2")
     assert rc == 0
     assert [r["from"] for r in doc["runs"]] == [0, 1, 2, 5]
     for r in doc["runs"]:
-        rc, one, _ = _json(capsys, "sim", path, "vent", "--from", str(r["from"]), "--set", "go=1", "--cycles", "2")
+        rc, one, _ = _json(capsys, "sim", path, "vent", "--check", "steps", "--from", str(r["from"]), "--set", "go=1", "--cycles", "2")
         assert one["trace"] == r["trace"]

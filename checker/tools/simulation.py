@@ -6,9 +6,10 @@ many clocks, several start codes together bit-parallel (one lane each). An
 asynchronous design runs through the event model (:func:`model.simulate.run`).
 
 The code's bit order: ``--code VEC``; else the code line of check ``--check
-NAME``; else the code line the file's checks of the design share, so that
-``sim``, ``check`` and ``map`` show one state as one code; else the order of
-declaration (most significant first).
+NAME`` (so that ``sim``, ``check`` and ``map`` show one state as one code);
+else the order of declaration, most significant first, as contract v2 fixes
+it (the label then names a check of the design that reads the flops in
+another order, so the table says how to see its codes).
 """
 
 from __future__ import annotations
@@ -306,10 +307,11 @@ def code_order(ns: Namespace, d: Design, req: SimRequest) -> tuple[list[int], st
                 return list(c.code), f"check {c.name}"
         names = ", ".join(c.name for c in ns.checks if c.design.name == d.name) or "none"
         raise _cmdline(f"--check {req.check}: no such check of {d.name} in {req.path} (checks of it: {names})")
-    orders = {tuple(c.code) for c in own}
-    if len(orders) == 1:
-        return list(own[0].code), f"check {own[0].name}" if len(own) == 1 else "its checks"
-    return list(range(len(d.model.states))), "declaration"
+    declared = list(range(len(d.model.states)))
+    other = next((c for c in own if list(c.code) != declared), None)
+    if other is not None:
+        return declared, f"declaration (check {other.name} orders them otherwise: --check {other.name})"
+    return declared, "declaration"
 
 
 def simulate(req: SimRequest, ns: Namespace, d: Design) -> SimRun:
