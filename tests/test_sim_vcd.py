@@ -5,10 +5,17 @@ each flop changes just after a rising edge of the dump's clock, never at a falli
 from __future__ import annotations
 
 import json
+import signal
 from datetime import datetime, timedelta, timezone
 
 from vcd.reader import TokenKind, tokenize
-from vcdvcd import VCDVCD
+
+# vcdvcd sets SIGPIPE to its default action when imported (for its own command line). In the
+# test process that would let any write to a closed pipe kill the whole pytest run with exit
+# 141 and no report, so the handler Python installed is put back at once.
+_SIGPIPE = signal.getsignal(signal.SIGPIPE)
+from vcdvcd import VCDVCD  # noqa: E402
+signal.signal(signal.SIGPIPE, _SIGPIPE)
 
 from checker.cli import main
 
@@ -83,3 +90,8 @@ def test_date_is_the_real_date(write, tmp_path):
     now = datetime.now(timezone.utc)
     days = {(now + timedelta(days=d)).strftime("%Y-%m-%d") for d in (-1, 0)}  # the run may cross midnight
     assert any(day in dates[0] for day in days), dates
+
+
+def test_importing_the_vcd_reader_leaves_sigpipe_ignored():
+    """A full run once died with exit 141 at a random test: vcdvcd had made SIGPIPE fatal."""
+    assert signal.getsignal(signal.SIGPIPE) == signal.SIG_IGN
