@@ -132,3 +132,22 @@ def test_many_start_codes_run_together(write, capsys):
     for r in doc["runs"]:
         rc, one, _ = _json(capsys, "sim", path, "vent", "--check", "steps", "--from", str(r["from"]), "--set", "go=1", "--cycles", "2")
         assert one["trace"] == r["trace"]
+
+
+def test_trace_of_a_check_without_a_code_line_replays(tmp_path, capsys):
+    """A check with no code line reads codes in declaration order (equal's convention); its trace
+    replays in that order instead of as a code of no bits."""
+    src = tmp_path / "lamps.cnl"
+    src.write_text("design lamp\n  in go\n  flop p[1:0] : D (d = mux(go, p, {p[1] ^ p[0], !p[0]}))\n"
+                   "  out top = p[1] & p[0]\nend\n"
+                   "design lamp2\n  in go\n  flop p[1:0] : D (d = mux(go, p, {p[1] ^ p[0], p[0]}))\n"
+                   "  out top = p[1] & p[0]\nend\n"
+                   "check steps of lamp\n  equal lamp2\nend\n")
+    rc, doc, _ = _json(capsys, "check", str(src))
+    assert rc == 1
+    claim = doc["claims"][0]
+    js = tmp_path / "run.json"
+    js.write_text(json.dumps(doc))
+    rc, sim, _ = _json(capsys, "sim", str(src), "lamp", "--trace", str(js), "--claim", str(claim["line"]))
+    assert rc == 0
+    assert [e["code"] for e in sim["trace"]] == [e["code"] for e in claim["trace"]]

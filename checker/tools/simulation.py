@@ -274,7 +274,7 @@ def read_trace(path: str, design: Design, want_code: bool,
             try:
                 for c in load_namespace(data["file"]).checks:
                     if c.name == data["check"] and c.design.name == design.name:
-                        code = list(c.code)
+                        code = list(c.code) or None  # no code line: declaration order, as check read it
             except InputError:
                 code = None
         data = data.get("trace")
