@@ -17,6 +17,7 @@ from lark import Lark, Token, Tree
 from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
 
 from ..errors import InputError, Pos
+from .tables import build_lark
 
 RESERVED = frozenset(
     "use design end in out node flop part check of code count hold load back step "
@@ -420,8 +421,8 @@ class _Continuation:
 
 @functools.lru_cache(maxsize=1)
 def _parser() -> Lark:
-    return Lark(grammar_path().read_text(encoding="utf-8"), parser="lalr", start=["start", "expr"],
-                propagate_positions=True, maybe_placeholders=True, postlex=_Continuation())
+    return build_lark(grammar_path().read_text(encoding="utf-8"), start=["start", "expr"],
+                      propagate_positions=True, maybe_placeholders=True, postlex=_Continuation())
 
 
 _READABLE = {"NAME": "a name", "INT": "a number", "STRING": "a quoted path",

@@ -32,6 +32,7 @@ from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedTok
 
 from ..words import count
 from ..errors import InputError, Pos
+from .tables import build_lark
 from . import netlist as N
 from . import parse as P
 from .verilog_fast import parse_fast
@@ -120,8 +121,8 @@ def grammar_path() -> Path:
 
 @functools.lru_cache(maxsize=1)
 def _parser() -> Lark:
-    return Lark(grammar_path().read_text(encoding="utf-8"), parser="lalr", propagate_positions=True,
-                maybe_placeholders=True)
+    return build_lark(grammar_path().read_text(encoding="utf-8"), propagate_positions=True,
+                      maybe_placeholders=True)
 
 
 # --- small syntax helpers --------------------------------------------------------
