@@ -92,7 +92,8 @@ def assert_same_async_circuit(a, b) -> None:
 
 
 def assert_same_events(a, b) -> None:
-    """Every code under every input: the same settled codes, depth and never-settling verdict."""
+    """Every code under every input: the same never-settling verdict and, where every order
+    settles, the same settled codes and depth."""
     ma, mb = a.model, b.model
     perm = [mb.states.index(s) for s in ma.states]  # bit i of a's state is bit perm[i] of b's
 
@@ -105,8 +106,14 @@ def assert_same_events(a, b) -> None:
         for code in range(1 << len(ma.states)):
             _, oa = ea.explore(code)
             _, ob = eb.explore(to_b(code))
+            assert oa.never == ob.never, (code, inputs)
+            if oa.never:
+                # A clock with an order that never settles refutes every claim about it (contract
+                # v2); it has no greatest depth, and the walk stops each order at its first
+                # repeat, so what it met before depends on the order flops are explored in.
+                continue
             assert {to_b(s) for s in oa.settled} == set(ob.settled), (code, inputs)
-            assert (oa.depth, oa.never) == (ob.depth, ob.never), (code, inputs)
+            assert oa.depth == ob.depth, (code, inputs)
 
 
 def _has_async_reset(d) -> bool:
@@ -250,3 +257,29 @@ def test_random_asynchronous_designs_round_trip(tmp_path_factory, text):
         back = load_namespace(str(out)).designs["rnd"]
         assert_same_async_circuit(original, back)
         assert_same_events(original, back)
+
+
+SELF_CLEARING = """\
+design rnd
+  in go, stay
+  flop q[1] : D (d = go) clock fall q[0] clear async (q[1] & 1) preset async (0 | !go)
+  flop q[0] : T (t = 1)
+  out y = go
+end
+"""
+
+
+def test_a_never_settling_clock_survives_the_round_trip(tmp_path):
+    # Found by the random test above: with go = 0 the preset sets q[1], which clears itself,
+    # forever. Exported and read back, the flops come in the other order; the walk then meets
+    # another prefix of the endless order first, so only the verdict, not a depth, is compared.
+    (tmp_path / "rnd.cnl").write_text(SELF_CLEARING)
+    original = load_namespace(str(tmp_path / "rnd.cnl")).designs["rnd"]
+    out = tmp_path / "out" / "rnd.v"
+    out.parent.mkdir()
+    write_design(original, str(out))
+    back = load_namespace(str(out)).designs["rnd"]
+    assert_same_async_circuit(original, back)
+    assert_same_events(original, back)
+    _, o = Exploration(EventModel(original.model, {"go": 0, "stay": 0})).explore(0)
+    assert o.never
