@@ -22,6 +22,7 @@ from .syntax import (  # noqa: F401 - the tree's names, read by the rest of the 
     PartDecl, DesignBlock, CodeStmt, CountStmt, RuleStmt, RecoverStmt, AlwaysStmt, SettleStmt,
     GlitchStmt, EqualStmt, CheckBlock, UseStmt, File, int_value, MAX_DESIGN_BITS,
 )
+from .cnl_fast import read_fast
 from .tables import build_lark
 
 
@@ -231,7 +232,21 @@ def decode_source(path: str, data: bytes) -> str:
 
 
 def parse_text(path: str, text: str) -> File:
-    """Parse one file's text into a :class:`File`; raises InputError on any syntax error."""
+    """Parse one file's text into a :class:`File`; raises InputError on any syntax error.
+
+    The hand-written reader of :mod:`checker.lang.cnl_fast` reads a well-formed
+    text to the same ``File`` several times faster; whatever it does not take
+    (every text with an error among them) goes the lark route, which gives the message.
+    """
+    fast = read_fast(path, text)
+    if fast is not None:
+        return fast
+    return parse_text_lark(path, text)
+
+
+def parse_text_lark(path: str, text: str) -> File:
+    """:func:`parse_text` by lark alone: the reference the fast reader is held to, and the
+    source of every error message."""
     _check_nesting(path, text)
     try:
         tree = _parser().parse(text, start="start")
