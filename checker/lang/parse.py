@@ -10,10 +10,7 @@ from __future__ import annotations
 
 import functools
 from pathlib import Path
-from typing import Optional, Union
-
-from lark import Lark, Token, Tree
-from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+from typing import TYPE_CHECKING, Optional, Union
 
 from ..errors import InputError, Pos
 from .syntax import (  # noqa: F401 - the tree's names, read by the rest of the program as parse.X
@@ -23,7 +20,10 @@ from .syntax import (  # noqa: F401 - the tree's names, read by the rest of the 
     GlitchStmt, EqualStmt, CheckBlock, UseStmt, File, int_value, MAX_DESIGN_BITS,
 )
 from .cnl_fast import read_fast
-from .tables import build_lark
+
+if TYPE_CHECKING:  # lark itself is imported when a text first needs it: a well-formed file never does
+    from lark import Lark, Token, Tree
+    from lark.exceptions import UnexpectedInput
 
 
 # --- the parser ----------------------------------------------------------
@@ -146,6 +146,7 @@ class _Continuation:
 
 @functools.lru_cache(maxsize=1)
 def _parser() -> Lark:
+    from .tables import build_lark
     return build_lark(grammar_path().read_text(encoding="utf-8"), start=["start", "expr"],
                       propagate_positions=True, maybe_placeholders=True, postlex=_Continuation())
 
@@ -248,6 +249,7 @@ def parse_text_lark(path: str, text: str) -> File:
     """:func:`parse_text` by lark alone: the reference the fast reader is held to, and the
     source of every error message."""
     _check_nesting(path, text)
+    from lark.exceptions import UnexpectedInput
     try:
         tree = _parser().parse(text, start="start")
     except UnexpectedInput as e:
@@ -269,6 +271,7 @@ def parse_expr(where: str, text: str) -> Expr:
     _check_nesting(where, text)
     if "\n" in text:
         raise InputError(Pos(where, 1, text.index("\n") + 1), "an expression is one line")
+    from lark.exceptions import UnexpectedInput
     try:
         tree = _parser().parse(text, start="expr")
     except UnexpectedInput as e:
@@ -278,6 +281,7 @@ def parse_expr(where: str, text: str) -> Expr:
 
 def _unclosed(path: str, e: UnexpectedInput) -> Optional[InputError]:
     """The error at a bracket left open, when the parser failed on a later line because of it."""
+    from lark.exceptions import UnexpectedEOF
     still_open = _parser().options.postlex.open
     if not still_open:
         return None
@@ -333,6 +337,7 @@ _OPERATOR_HINTS = {"+": "write '|' for or", "*": "write '&' for and"}
 
 
 def _syntax_error(path: str, text: str, e: UnexpectedInput) -> InputError:
+    from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedToken
     line = getattr(e, "line", None)
     col = getattr(e, "column", None)
     tok = getattr(e, "token", None)
@@ -378,7 +383,7 @@ class _Builder:
         self.path = path
 
     def pos(self, item) -> Pos:
-        if isinstance(item, Token):
+        if isinstance(item, str):  # a Token (a str); else a Tree
             return Pos(self.path, item.line, item.column)
         return Pos(self.path, item.meta.line, item.meta.column)
 
@@ -531,13 +536,13 @@ class _Builder:
         name, mode = t.children
         if mode is None:
             return EqualStmt(self.name(name), self.pos(name), None, None, self.pos(t))
-        if isinstance(mode.children[0], Token) and mode.children[0].type == "ON":
+        if isinstance(mode.children[0], str) and mode.children[0].type == "ON":  # the Token ON
             return EqualStmt(self.name(name), self.pos(name), "sequence", None, self.pos(t))
         return EqualStmt(self.name(name), self.pos(name), "after", self.expr(mode.children[0]), self.pos(t))
 
     # expressions
     def expr(self, t) -> Expr:
-        if isinstance(t, Token):  # a bare NAME cannot reach here; kept for safety
+        if isinstance(t, str):  # a Token: a bare NAME cannot reach here; kept for safety
             raise InputError(self.pos(t), f"unexpected {t!s}")
         d = t.data
         if d == "num":
