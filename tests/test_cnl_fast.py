@@ -341,3 +341,25 @@ def test_a_well_formed_file_is_read_without_lark():
                        timeout=120)
     assert r.returncode == 0, r.stderr
     assert r.stdout.strip() == "[]"
+
+
+@pytest.mark.parametrize("text", [TAKEN[4], LEFT_TO_LARK[0], LEFT_TO_LARK[22], "design d\n  out y = zz\nend\n"])
+def test_the_collector_is_paused_only_while_reading(tmp_path, text):
+    # read_fast and load_namespace pause the cyclic collector and must leave it as they found it,
+    # on success and on every error
+    import gc
+    from checker.elab import load_namespace
+    path = tmp_path / "t.cnl"
+    path.write_text(text, encoding="utf-8")
+    for enabled in (True, False):
+        (gc.enable if enabled else gc.disable)()
+        try:
+            read_fast(PATH, text)
+            assert gc.isenabled() == enabled
+            try:
+                load_namespace(str(path))
+            except InputError:
+                pass
+            assert gc.isenabled() == enabled
+        finally:
+            gc.enable()
