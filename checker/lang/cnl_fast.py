@@ -27,7 +27,7 @@ What it copies from the lark route, rule by rule:
 * line breaks: ``_Continuation`` drops a break inside an open bracket or after
   a comma, and refuses a comma-joined line that starts with a reserved word.
 * the design bit limit: ``_DeclCounter``'s count of the bits each design
-  declares (first declaration of ``in``/``out``/``node``/``flop``).
+  declares (every declaration of an ``in``, ``out``, ``node`` or ``flop``).
 * the nesting limit: ``_check_nesting`` can only fire on a line holding more
   than MAX_NESTING of ``( { ! ~``; a quick search finds such lines, and the
   exact check runs only then.
@@ -155,11 +155,15 @@ def _tokens(text: str) -> tuple[list[str], list[str], list[int], list[int]]:
 
 
 class _Reader:
+    """Recursive descent over the tokens, one method per rule of grammar/cnl.lark; ``_Stop`` on
+    anything the lark route would read otherwise or refuse."""
+
     def __init__(self, path: str, text: str) -> None:
         self.path = path
         self.tags, self.texts, self.lines, self.cols = _tokens(text)
         self.i = 0
         self.paren: dict[int, Pos] = {}  # id of a parenthesised expression -> its outermost "("
+        self.bits = 0  # bits the design being read has declared so far
 
     # --- tokens ---------------------------------------------------------------
     def pos(self, k: int) -> Pos:
