@@ -215,10 +215,8 @@ def test_texts_with_errors_or_doubts_go_to_lark(text):
 PLAIN_NAMES = ["a", "b", "q", "n_1", "_x", "Tot9", "rise", "fall", "T", "D"]
 
 
-def programs(names: list[str], numbers: st.SearchStrategy) -> st.SearchStrategy:
-    """Texts of the whole grammar; ``names`` and ``numbers`` say how wild they are."""
-    name = st.sampled_from(names)
-    gap = st.sampled_from([" ", " ", "  ", "\t", " # note\n  ", "\n    ", "\n\n  ", "\r\n "])  # inside brackets
+def expressions(name: st.SearchStrategy, numbers: st.SearchStrategy, gap: st.SearchStrategy) -> st.SearchStrategy:
+    """Expressions of the grammar; ``gap`` is the space written inside brackets."""
     sp = st.sampled_from([" ", " ", "  ", "\t"])
     index = st.one_of(st.builds(lambda i: f"[{i}]", numbers), st.builds(lambda i, j: f"[{i}:{j}]", numbers, numbers))
     ref = st.builds(lambda ns, ix: ".".join(ns) + ix, st.lists(name, min_size=1, max_size=3),
@@ -236,7 +234,15 @@ def programs(names: list[str], numbers: st.SearchStrategy) -> st.SearchStrategy:
             st.builds(lambda f, xs, g: f"{f}(" + ("," + g).join(xs) + ")", name, st.lists(inner, max_size=3), gap),
         )
 
-    expr = st.recursive(leaf, grow, max_leaves=6)
+    return st.recursive(leaf, grow, max_leaves=6)
+
+
+def programs(names: list[str], numbers: st.SearchStrategy) -> st.SearchStrategy:
+    """Texts of the whole grammar; ``names`` and ``numbers`` say how wild they are."""
+    name = st.sampled_from(names)
+    gap = st.sampled_from([" ", " ", "  ", "\t", " # note\n  ", "\n    ", "\n\n  ", "\r\n "])  # inside brackets
+    expr = expressions(name, numbers, gap)
+    index = st.one_of(st.builds(lambda i: f"[{i}]", numbers), st.builds(lambda i, j: f"[{i}:{j}]", numbers, numbers))
     decl = st.builds(lambda n, ix: n + ix, name, st.one_of(st.just(""), index))
     pins = st.one_of(st.just(""), st.builds(
         lambda ps, trail, g: " (" + ("," + g).join(f"{p} = {e}" for p, e in ps) + trail + ")",
@@ -363,3 +369,42 @@ def test_the_collector_is_paused_only_while_reading(tmp_path, text):
             assert gc.isenabled() == enabled
         finally:
             gc.enable()
+
+
+# --- one expression (a command-line --when or --code) -----------------------------------------
+def agree_expr(text: str) -> bool:
+    """The contract above for ``parse_expr`` (its nesting and line checks come first, on both routes)."""
+    from checker.lang.cnl_fast import read_expr_fast
+
+    def lark_only(where, t):
+        P._check_nesting(where, t)
+        if "\n" in t:
+            return P.parse_expr(where, t)  # the line error, raised before either reader
+        return P.parse_expr_lark(where, t)
+
+    ref = outcome(lark_only, text)
+    fast = read_expr_fast(PATH, text) if "\n" not in text else None
+    if fast is not None:
+        assert ref == ("file", fast), text
+    assert outcome(P.parse_expr, text) == ref, text
+    return fast is not None
+
+
+ONE_LINE_EXPRS = expressions(st.sampled_from(PLAIN_NAMES + ["at", "end", "in"]),
+                             st.one_of(st.integers(0, 20).map(str), st.sampled_from(["0b1", "0x", "1a", "0b" + "1" * 4097])),
+                             st.sampled_from(["", " ", "\t", " # c"]))
+
+
+@SETTINGS
+@given(text=ONE_LINE_EXPRS, data=st.data())
+def test_one_expression_reads_the_same(text, data):
+    agree_expr(text)
+    k = data.draw(st.integers(0, len(text)))
+    agree_expr(text[:k] + data.draw(st.sampled_from(DAMAGE)) + text[k:])
+    agree_expr(text[:k] + text[k + 1:])
+
+
+@pytest.mark.parametrize("text, taken", [("at(3) & !q[2] | {a, b} == 0b01", True), ("q == 5", True),
+                                         ("a,", False), ("(a", False), ("end", False), ("a\nb", False)])
+def test_chosen_expressions(text, taken):
+    assert agree_expr(text) == taken

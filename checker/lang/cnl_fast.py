@@ -578,3 +578,14 @@ def read_fast(path: str, text: str) -> Optional[File]:
     finally:
         if collecting:
             gc.enable()
+
+
+def read_expr_fast(where: str, text: str) -> Optional[Expr]:
+    """The expression :func:`checker.lang.parse.parse_expr` reads from the one-line ``text`` (its
+    nesting already checked), or None when this reader does not take it (then lark must)."""
+    try:
+        reader = _Reader(where, text)
+        e = reader.expr()
+        return e if reader.tags[reader.i] == _END else None
+    except (_Stop, IndexError, RecursionError):
+        return None

@@ -19,7 +19,7 @@ from .syntax import (  # noqa: F401 - the tree's names, read by the rest of the 
     PartDecl, DesignBlock, CodeStmt, CountStmt, RuleStmt, RecoverStmt, AlwaysStmt, SettleStmt,
     GlitchStmt, EqualStmt, CheckBlock, UseStmt, File, int_value, MAX_DESIGN_BITS,
 )
-from .cnl_fast import read_fast
+from .cnl_fast import read_expr_fast, read_fast
 
 if TYPE_CHECKING:  # lark itself is imported when a text first needs it: a well-formed file never does
     from lark import Lark, Token, Tree
@@ -271,6 +271,14 @@ def parse_expr(where: str, text: str) -> Expr:
     _check_nesting(where, text)
     if "\n" in text:
         raise InputError(Pos(where, 1, text.index("\n") + 1), "an expression is one line")
+    fast = read_expr_fast(where, text)
+    if fast is not None:
+        return fast
+    return parse_expr_lark(where, text)
+
+
+def parse_expr_lark(where: str, text: str) -> Expr:
+    """:func:`parse_expr` by lark alone, after its nesting and line checks (the fast reader's reference)."""
     from lark.exceptions import UnexpectedInput
     try:
         tree = _parser().parse(text, start="expr")
