@@ -1,9 +1,11 @@
 """Text to syntax tree: the lark grammar in ``grammar/`` plus positions.
 
-``parse_text`` turns one file's text into a :class:`File` of plain dataclasses,
-each carrying the :class:`Pos` of its first character. Every failure is an
-:class:`InputError` with the file, line and column; no input raises anything
-else.
+``parse_text`` turns one file's text into a :class:`File` of plain dataclasses
+(:mod:`checker.lang.syntax`, re-exported here), each carrying the :class:`Pos`
+of its first character. Every failure is an :class:`InputError` with the file,
+line and column; no input raises anything else. A well-formed text is read by
+the hand-written reader of :mod:`checker.lang.cnl_fast`; the lark route here
+reads whatever that reader declines, and is the reference it is tested against.
 """
 
 from __future__ import annotations
