@@ -6,6 +6,7 @@ error), elaborates every design and the file's own check blocks.
 
 from __future__ import annotations
 
+import gc
 from pathlib import Path
 from typing import Optional
 
@@ -88,6 +89,20 @@ def _gather(path: str) -> list[P.File]:
 
 def load_namespace(path: str) -> Namespace:
     """Read ``path`` and its uses; elaborate every design and the file's own checks."""
+    # Reading and elaborating a large file makes some hundred thousand small lists, tuples and
+    # dataclasses that live on; the cyclic collector, set off by allocation counts alone, walks
+    # all of them again and again (a tenth of a 256-bit tally's whole check). It is paused here;
+    # any garbage cycle made meanwhile is collected once it runs again.
+    collecting = gc.isenabled()
+    gc.disable()
+    try:
+        return _load_namespace(path)
+    finally:
+        if collecting:
+            gc.enable()
+
+
+def _load_namespace(path: str) -> Namespace:
     files = _gather(path)
     blocks: dict[str, P.DesignBlock] = {}
     for f in files:

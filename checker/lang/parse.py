@@ -1,303 +1,34 @@
 """Text to syntax tree: the lark grammar in ``grammar/`` plus positions.
 
-``parse_text`` turns one file's text into a :class:`File` of plain dataclasses,
-each carrying the :class:`Pos` of its first character. Every failure is an
-:class:`InputError` with the file, line and column; no input raises anything
-else.
+``parse_text`` turns one file's text into a :class:`File` of plain dataclasses
+(:mod:`checker.lang.syntax`, re-exported here), each carrying the :class:`Pos`
+of its first character. Every failure is an :class:`InputError` with the file,
+line and column; no input raises anything else. A well-formed text is read by
+the hand-written reader of :mod:`checker.lang.cnl_fast`; the lark route here
+reads whatever that reader declines, and is the reference it is tested against.
 """
 
 from __future__ import annotations
 
 import functools
-from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Optional, Union
-
-from lark import Lark, Token, Tree
-from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+from typing import TYPE_CHECKING, Optional, Union
 
 from ..errors import InputError, Pos
-from .tables import build_lark
-
-RESERVED = frozenset(
-    "use design end in out node flop part check of code count hold load back step "
-    "recover within when always equal on sequence after clear preset clock async "
-    "settle glitchfree".split()
+from .syntax import (  # noqa: F401 - the tree's names, read by the rest of the program as parse.X
+    RESERVED, MAX_FILE_BYTES, MAX_NESTING, MAX_INDEX, MAX_LITERAL_BITS, Index, Num, Ref,
+    Call, Not, Op, Cat, Cmp, Expr, Decl, InDecl, OutDecl, NodeDecl, Pin, Clock, FlopDecl, Conn,
+    PartDecl, DesignBlock, CodeStmt, CountStmt, RuleStmt, RecoverStmt, AlwaysStmt, SettleStmt,
+    GlitchStmt, EqualStmt, CheckBlock, UseStmt, File, int_value, MAX_DESIGN_BITS,
 )
-MAX_FILE_BYTES = 32 * 1024 * 1024
-MAX_NESTING = 200
-MAX_INDEX = 10**9
-MAX_LITERAL_BITS = 4096
-"""Widest number a literal may write: the widest vector it could fill (``elab.bits.MAX_VECTOR``)."""
-_MAX_DIGITS = {2: MAX_LITERAL_BITS, 16: MAX_LITERAL_BITS // 4, 10: len(str(1 << MAX_LITERAL_BITS))}
-
-
-# --- expressions ---------------------------------------------------------
-@dataclass
-class Index:
-    """``[first]`` or ``[first:last]``."""
-
-    first: int
-    last: Optional[int]
-    pos: Pos
-
-
-@dataclass
-class Num:
-    value: int
-    text: str
-    pos: Pos
-
-    @property
-    def binary_width(self) -> Optional[int]:
-        """Digits of a ``0b`` literal (its width in a vector), else None."""
-        return len(self.text) - 2 if self.text[:2].lower() == "0b" else None
-
-
-@dataclass
-class Ref:
-    path: list[str]
-    index: Optional[Index]
-    pos: Pos
-
-    @property
-    def dotted(self) -> str:
-        return ".".join(self.path)
-
-
-@dataclass
-class Call:
-    name: str
-    args: list["Expr"]
-    pos: Pos
-
-
-@dataclass
-class Not:
-    arg: "Expr"
-    pos: Pos
-
-
-@dataclass
-class Op:
-    op: str  # '&', '|', '^'
-    args: list["Expr"]
-    pos: Pos
-
-
-@dataclass
-class Cat:
-    items: list["Expr"]
-    pos: Pos
-
-
-@dataclass
-class Cmp:
-    op: str  # '==' or '!='
-    left: "Expr"
-    right: "Expr"
-    pos: Pos
-
-
-Expr = Union[Num, Ref, Call, Not, Op, Cat, Cmp]
-
-
-# --- design statements ---------------------------------------------------
-@dataclass
-class Decl:
-    """``NAME``, ``NAME[msb:lsb]``, or ``NAME[i]`` (``bit``: one bit of a vector, msb = lsb = i)."""
-
-    name: str
-    msb: Optional[int]
-    lsb: Optional[int]
-    pos: Pos
-    bit: bool = False
-
-
-@dataclass
-class InDecl:
-    decls: list[Decl]
-    pos: Pos
-
-
-@dataclass
-class OutDecl:
-    decl: Decl
-    expr: Expr
-    pos: Pos
-
-
-@dataclass
-class NodeDecl:
-    decl: Decl
-    expr: Expr
-    pos: Pos
-
-
-@dataclass
-class Pin:
-    """``PIN = EXPR`` inside a flop's parenthesis."""
-
-    name: str
-    expr: Expr
-    pos: Pos
-
-
-@dataclass
-class Clock:
-    """``clock rise BIT`` / ``clock fall VEC``."""
-
-    edge: str
-    signal: Expr
-    pos: Pos
-
-
-@dataclass
-class FlopDecl:
-    """``flop DECL : KIND (PIN = EXPR, ...) [clock ...] [clear [async] E] [preset [async] E]``.
-
-    ``pins`` is None when the parenthesis is missing (an error the elaborator
-    reports with the kind's pins).
-    """
-
-    decl: Decl
-    kind: str
-    kind_pos: Pos
-    pins: Optional[list[Pin]]
-    clock: Optional[Clock]
-    clear: Optional[Expr]
-    preset: Optional[Expr]
-    pos: Pos
-    clear_async: bool = False
-    preset_async: bool = False
-
-
-@dataclass
-class Conn:
-    port: str
-    index: Optional[Index]
-    expr: Expr
-    pos: Pos
-
-
-@dataclass
-class PartDecl:
-    name: str
-    design: str
-    design_pos: Pos
-    conns: list[Conn]
-    pos: Pos
-
-
-@dataclass
-class DesignBlock:
-    """``design NAME ... end``, or a design read from a netlist (``source`` names its format;
-    ``inits`` holds the flop bits' initial values a netlist gave, None for a free one,
-    kept for export and ignored by claims)."""
-
-    name: str
-    stmts: list
-    pos: Pos
-    source: str = "cnl"
-    inits: dict = field(default_factory=dict)
-
-
-# --- check statements ----------------------------------------------------
-@dataclass
-class CodeStmt:
-    expr: Expr
-    pos: Pos
-
-
-@dataclass
-class CountStmt:
-    items: list[tuple[Union[int, str], Pos]]  # ints, names, and '..'
-    pos: Pos
-
-
-@dataclass
-class RuleStmt:
-    kind: str  # hold, load, back, step
-    value: Optional[Expr]  # the CODE of a load
-    cond: Expr
-    pos: Pos
-
-
-@dataclass
-class RecoverStmt:
-    within: Optional[int]
-    cond: Optional[Expr]
-    pos: Pos
-
-
-@dataclass
-class AlwaysStmt:
-    prop: Expr
-    pos: Pos
-
-
-@dataclass
-class SettleStmt:
-    within: int
-    pos: Pos
-
-
-@dataclass
-class GlitchStmt:
-    signals: list[Expr]
-    cond: Optional[Expr]
-    pos: Pos
-
-
-@dataclass
-class EqualStmt:
-    design: str
-    design_pos: Pos
-    mode: Optional[str]  # None, 'sequence', 'after'
-    cond: Optional[Expr]
-    pos: Pos
-
-
-@dataclass
-class CheckBlock:
-    name: str
-    design: str
-    design_pos: Pos
-    stmts: list
-    pos: Pos
-
-
-@dataclass
-class UseStmt:
-    path: str
-    pos: Pos
-
-
-@dataclass
-class File:
-    path: str
-    uses: list[UseStmt] = field(default_factory=list)
-    designs: list[DesignBlock] = field(default_factory=list)
-    checks: list[CheckBlock] = field(default_factory=list)
+from .cnl_fast import read_expr_fast, read_fast
+
+if TYPE_CHECKING:  # lark itself is imported when a text first needs it: a well-formed file never does
+    from lark import Lark, Token, Tree
+    from lark.exceptions import UnexpectedInput
 
 
 # --- the parser ----------------------------------------------------------
-def int_value(text: str, pos: Optional[Pos] = None) -> int:
-    """Value of a number token: ``0b..``, ``0x..`` or decimal (leading zeros allowed).
-
-    A number wider than :data:`MAX_LITERAL_BITS` is an InputError at ``pos``:
-    its digits are counted before any conversion, so a literal of a million
-    digits costs no more than reading it.
-    """
-    base = {"0b": 2, "0x": 16}.get(text[:2].lower(), 10)
-    digits = (text[2:] if base != 10 else text).lstrip("0") or "0"
-    if len(digits) > _MAX_DIGITS[base] or int(digits, base) >> MAX_LITERAL_BITS:
-        shown = text if len(text) <= 24 else f"{text[:12]}...{text[-6:]} ({len(text)} characters)"
-        raise InputError(pos or Pos("<number>", 1, 1),
-                         f"number {shown} is wider than {MAX_LITERAL_BITS} bits, the widest vector a number can fill")
-    return int(digits, base)
-
-
 def grammar_path() -> Path:
     """The grammar file: ``grammar/cnl.lark`` beside the package, in a checkout or a wheel."""
     package = Path(__file__).resolve().parent.parent  # checker/
@@ -316,10 +47,6 @@ class _Dangling(Exception):
 
     def __init__(self, comma: Token, word: Token) -> None:
         self.comma, self.word = comma, word
-
-
-MAX_DESIGN_BITS = 100_000
-"""Most bits one design block may declare itself (the flattened-design limit, ``elab.flatten.MAX_BITS``)."""
 
 
 class _TooManyBits(Exception):
@@ -421,6 +148,7 @@ class _Continuation:
 
 @functools.lru_cache(maxsize=1)
 def _parser() -> Lark:
+    from .tables import build_lark
     return build_lark(grammar_path().read_text(encoding="utf-8"), start=["start", "expr"],
                       propagate_positions=True, maybe_placeholders=True, postlex=_Continuation())
 
@@ -507,8 +235,23 @@ def decode_source(path: str, data: bytes) -> str:
 
 
 def parse_text(path: str, text: str) -> File:
-    """Parse one file's text into a :class:`File`; raises InputError on any syntax error."""
+    """Parse one file's text into a :class:`File`; raises InputError on any syntax error.
+
+    The hand-written reader of :mod:`checker.lang.cnl_fast` reads a well-formed
+    text to the same ``File`` several times faster; whatever it does not take
+    (every text with an error among them) goes the lark route, which gives the message.
+    """
+    fast = read_fast(path, text)
+    if fast is not None:
+        return fast
+    return parse_text_lark(path, text)
+
+
+def parse_text_lark(path: str, text: str) -> File:
+    """:func:`parse_text` by lark alone: the reference the fast reader is held to, and the
+    source of every error message."""
     _check_nesting(path, text)
+    from lark.exceptions import UnexpectedInput
     try:
         tree = _parser().parse(text, start="start")
     except UnexpectedInput as e:
@@ -530,6 +273,15 @@ def parse_expr(where: str, text: str) -> Expr:
     _check_nesting(where, text)
     if "\n" in text:
         raise InputError(Pos(where, 1, text.index("\n") + 1), "an expression is one line")
+    fast = read_expr_fast(where, text)
+    if fast is not None:
+        return fast
+    return parse_expr_lark(where, text)
+
+
+def parse_expr_lark(where: str, text: str) -> Expr:
+    """:func:`parse_expr` by lark alone, after its nesting and line checks (the fast reader's reference)."""
+    from lark.exceptions import UnexpectedInput
     try:
         tree = _parser().parse(text, start="expr")
     except UnexpectedInput as e:
@@ -539,6 +291,7 @@ def parse_expr(where: str, text: str) -> Expr:
 
 def _unclosed(path: str, e: UnexpectedInput) -> Optional[InputError]:
     """The error at a bracket left open, when the parser failed on a later line because of it."""
+    from lark.exceptions import UnexpectedEOF
     still_open = _parser().options.postlex.open
     if not still_open:
         return None
@@ -594,6 +347,7 @@ _OPERATOR_HINTS = {"+": "write '|' for or", "*": "write '&' for and"}
 
 
 def _syntax_error(path: str, text: str, e: UnexpectedInput) -> InputError:
+    from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedToken
     line = getattr(e, "line", None)
     col = getattr(e, "column", None)
     tok = getattr(e, "token", None)
@@ -639,7 +393,7 @@ class _Builder:
         self.path = path
 
     def pos(self, item) -> Pos:
-        if isinstance(item, Token):
+        if isinstance(item, str):  # a Token (a str); else a Tree
             return Pos(self.path, item.line, item.column)
         return Pos(self.path, item.meta.line, item.meta.column)
 
@@ -792,13 +546,13 @@ class _Builder:
         name, mode = t.children
         if mode is None:
             return EqualStmt(self.name(name), self.pos(name), None, None, self.pos(t))
-        if isinstance(mode.children[0], Token) and mode.children[0].type == "ON":
+        if isinstance(mode.children[0], str) and mode.children[0].type == "ON":  # the Token ON
             return EqualStmt(self.name(name), self.pos(name), "sequence", None, self.pos(t))
         return EqualStmt(self.name(name), self.pos(name), "after", self.expr(mode.children[0]), self.pos(t))
 
     # expressions
     def expr(self, t) -> Expr:
-        if isinstance(t, Token):  # a bare NAME cannot reach here; kept for safety
+        if isinstance(t, str):  # a Token: a bare NAME cannot reach here; kept for safety
             raise InputError(self.pos(t), f"unexpected {t!s}")
         d = t.data
         if d == "num":
