@@ -6,9 +6,12 @@ executor (``Client.get_executor``) is a ``concurrent.futures.Executor`` like
 the local process pool, so ``run_claims`` drives both with one loop; what
 differs is what a task carries. A forked local worker already holds every
 elaborated check; a cluster worker gets each check pickled (read and
-elaborated once, here) with the index of its claim, and runs the claim in a
-child process of its own under the claim's timeout, so a claim that crashes
-its process never takes the worker down with it.
+elaborated once, here) with the index of its claim, and proves the claim in
+one of its claim runners (``claims/runner.py``: a child process per worker
+thread, kept from claim to claim) under the claim's timeout, so a claim that
+crashes its process never takes the worker down with it. A claim called off
+(the run was interrupted, or its client went away) has its runner killed
+within :data:`CANCEL_POLL_SECONDS`.
 """
 
 from __future__ import annotations
@@ -16,6 +19,8 @@ from __future__ import annotations
 import logging
 import multiprocessing as mp
 import pickle
+import threading
+import time
 from concurrent.futures import CancelledError
 from dataclasses import replace
 from functools import lru_cache
@@ -26,6 +31,10 @@ from ..elab import Check, Claim
 from ..errors import InputError, Pos
 from .common import Options, make_result
 from .result import OPEN, Result
+from .runner import Runner, Work
+
+CANCEL_POLL_SECONDS = 0.2
+"""How often a worker waiting on a claim's runner asks whether the claim was called off."""
 
 CONNECT_SECONDS = 10.0
 """How long connecting to a scheduler may take before the address is reported unreachable."""
@@ -86,15 +95,15 @@ def _unpickled(blob: bytes) -> Check:
     return pickle.loads(blob)
 
 
-def worker_check(version: str, blob: bytes, index: int) -> tuple[Check, Claim, Optional[str]]:
+def worker_check(version: Optional[str], blob: bytes, index: int) -> tuple[Check, Claim, Optional[str]]:
     """On a cluster worker: the check pickled in ``blob`` (unpickled once per worker), its claim
-    ``index``, and why it must not run here (another countersign version), or None."""
+    ``index``, and why it must not run here (another countersign version; None: not asked), or None."""
     # Dask starts its worker processes as daemons, and multiprocessing refuses
     # children to a daemon. The child a claim runs in is killed with its
     # worker (engines/budget.py asks Linux for that), which is what the flag guards.
     mp.current_process()._config["daemon"] = False  # type: ignore[attr-defined]
     check = _unpickled(blob)
-    why = None if version == __version__ else \
+    why = None if version in (None, __version__) else \
         f"the worker runs countersign {__version__}, this machine {version}: install one version on both"
     return check, check.claims[index], why
 
@@ -118,3 +127,67 @@ def lost_result(check: Check, claim: Claim, error: BaseException) -> Result:
     what = " ".join(str(error).split())[:200] or type(error).__name__
     return make_result(check, claim, OPEN, f"the cluster lost the worker proving this claim ({type(error).__name__}: {what})",
                        details={"depth": None})
+
+
+_IDLE: list[Runner] = []  # this worker's runners not proving a claim now
+_IDLE_LOCK = threading.Lock()
+
+
+def _called_off() -> Callable[[], bool]:
+    """On a worker, inside a task: whether the scheduler has since called the task off."""
+    try:
+        from distributed import get_worker
+        worker = get_worker()
+        key = worker.get_current_task()
+    except (ImportError, ValueError, AttributeError, KeyError):  # not on a worker (tests call this directly)
+        return lambda: False
+
+    def gone() -> bool:
+        ts = worker.state.tasks.get(key)
+        return ts is None or ts.state == "cancelled"
+    return gone
+
+
+def on_worker(work: Work, item: Any, opts: Options) -> tuple[Any, dict, bool]:
+    """On a worker: ``work(item, opts, budget)`` in one of this worker's runners under
+    ``opts.timeout``; (result, progress, finished) as ``engines.budget.run_bounded`` returns.
+    Raises ``runner.Stopped`` when the runner died. A runner is taken from the idle ones
+    (a new one forked when none is) and put back after, unless it was killed."""
+    with _IDLE_LOCK:
+        runner = _IDLE.pop() if _IDLE else None
+    if runner is None or runner.work is not work:
+        runner = Runner(work)
+    off = _called_off()
+    runner.send(0, item, opts, opts.timeout)
+    try:
+        while True:
+            left = None if runner.hard is None else runner.hard - time.monotonic()
+            wait = CANCEL_POLL_SECONDS if left is None else max(0.0, min(left, CANCEL_POLL_SECONDS))
+            assert runner.conn is not None
+            if runner.conn.poll(wait):
+                done, res = runner.receive()
+                if done:
+                    with _IDLE_LOCK:
+                        _IDLE.append(runner)
+                    runner = None
+                    return res, {}, True
+            elif runner.overdue(time.monotonic()):
+                progress = runner.progress
+                runner.kill()
+                return None, progress, False
+            elif off():
+                raise CancelledError("the claim was called off")
+    finally:
+        if runner is not None:  # killed, died, called off, or the claim raised: never reused
+            runner.kill()
+
+
+def retire_runners() -> int:
+    """On a worker: end its idle runners, so that claims after this run in runners forked from
+    the worker as it is now (a test that changes a worker's code asks for this); how many ended."""
+    with _IDLE_LOCK:
+        idle = list(_IDLE)
+        _IDLE.clear()
+    for r in idle:
+        r.close()
+    return len(idle)
