@@ -76,24 +76,100 @@ def _patch_always(prover) -> None:
     cluster.retire_runners()  # runners forked before the patch would not see it
 
 
+def _segfault(*args):
+    import ctypes
+    import faulthandler
+    faulthandler.disable()
+    ctypes.string_at(0)  # reads address 0: SIGSEGV
+
+
 def _slow(*args):
     time.sleep(300)
 
 
-def test_a_claim_that_kills_its_process_is_open_and_the_worker_lives(tmp_path, two_workers):
+def _slow_marked(mark: str):
+    def prove(*args):
+        with open(mark, "a") as f:
+            f.write(f"{os.getpid()}\n")
+        time.sleep(300)
+    return prove
+
+
+@pytest.mark.parametrize("end", [_exit_now, _segfault], ids=["exit", "segfault"])
+def test_a_claim_that_kills_its_process_is_open_and_the_worker_lives(tmp_path, two_workers, end):
     # the always claim kills the process proving it, on every worker; each claim runs in a
-    # child of its worker, so the worker survives and the count claim is proved
+    # runner (a child of its worker), so the worker survives and the count claim is proved
     distributed = _distributed()
     _by_value()
     p = tmp_path / "tally.cnl"
     p.write_text(TALLY)
     with distributed.Client(two_workers) as client:
-        client.run(_patch_always, _exit_now)
+        client.run(_patch_always, end)
         try:
             run = api.check_files([str(p)] * 2, api.options(), cluster=two_workers)
             assert [r.status for r in run.results] == ["proved", "open"] * 2
             assert "stopped" in run.results[1].summary
             assert run.status == 3
+            assert len(client.scheduler_info()["workers"]) == 2
+        finally:
+            from checker.claims import always
+            client.run(_patch_always, always.prove)
+
+
+def test_a_claim_past_its_timeout_on_a_worker_is_open_and_the_next_ones_run(tmp_path, two_workers):
+    # the always claims sleep without looking at their budget: only the runner's hard stop ends them
+    distributed = _distributed()
+    _by_value()
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    with distributed.Client(two_workers) as client:
+        client.run(_patch_always, _slow)
+        try:
+            t0 = time.monotonic()
+            run = api.check_files([str(p)] * 3, api.options(timeout=1.0), cluster=two_workers)
+            assert time.monotonic() - t0 < 120
+            assert [r.status for r in run.results] == ["proved", "open"] * 3
+            assert all(r.summary == "ran out of time after 1 s" for r in run.results[1::2])
+            assert len(client.scheduler_info()["workers"]) == 2
+        finally:
+            from checker.claims import always
+            client.run(_patch_always, always.prove)
+
+
+def _alive(pid: int) -> bool:
+    try:
+        with open(f"/proc/{pid}/stat") as f:
+            return f.read().rsplit(")", 1)[1].split()[0] != "Z"
+    except OSError:
+        return False
+
+
+@pytest.mark.skipif(not Path("/proc").is_dir(), reason="reads /proc to see the runner end")
+def test_ctrl_c_stops_a_claim_running_on_a_worker(tmp_path, two_workers):
+    # Ctrl-C ends the command; the claim it left running on a worker is called off, and the
+    # worker kills the runner proving it (it would otherwise sleep on for 300 s)
+    distributed = _distributed()
+    _by_value()
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    mark = tmp_path / "pids"
+    with distributed.Client(two_workers) as client:
+        client.run(_patch_always, _slow_marked(str(mark)))
+        try:
+            proc = subprocess.Popen([sys.executable, "-m", "checker", "check", str(p), "--cluster", two_workers],
+                                    stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+            deadline = time.monotonic() + 120
+            while not (mark.exists() and mark.read_text().strip()) and time.monotonic() < deadline:
+                time.sleep(0.1)
+            pid = int(mark.read_text().split()[0])
+            assert _alive(pid) and proc.poll() is None
+            os.killpg(proc.pid, signal.SIGINT)  # what a terminal's Ctrl-C does
+            out, err = proc.communicate(timeout=60)
+            assert proc.returncode == 130 and err.strip() == "interrupted"
+            deadline = time.monotonic() + 30
+            while _alive(pid) and time.monotonic() < deadline:
+                time.sleep(0.1)
+            assert not _alive(pid)
             assert len(client.scheduler_info()["workers"]) == 2
         finally:
             from checker.claims import always

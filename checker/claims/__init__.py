@@ -155,6 +155,8 @@ def _in_runners(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int,
         if watcher is not None:
             watcher.finished(i, res.status)
 
+    for kind in dict.fromkeys(claim.kind for _, claim in pairs):
+        PROVERS[kind]  # imported here once: every runner forked after inherits it, a replaced one too
     try:
         for r in runners:
             r.fork()
@@ -176,12 +178,14 @@ def _in_runners(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int,
                 r = next(r for r in busy if r.conn is conn)
                 i = r.key
                 tell = None if watcher is None else (lambda info, i=i: watcher.told(i, info))
-                try:
-                    done, res = r.receive(tell)
-                except Stopped as e:
-                    done, res = True, _stopped(*pairs[i], e)
-                if done:
-                    finish(i, res, time.monotonic() - r.start)
+                done = False
+                while not done and (r.conn is not None and r.conn.poll(0)):  # all it sent, its end included
+                    try:
+                        done, res = r.receive(tell)
+                    except Stopped as e:
+                        done, res = True, _stopped(*pairs[i], e)
+                    if done:
+                        finish(i, res, time.monotonic() - r.start)
             now = time.monotonic()
             for r in busy:
                 if r.overdue(now):
@@ -197,10 +201,13 @@ def _in_runners(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int,
 def _on_cluster(pairs: list[tuple[Check, Claim]], opts: Options, address: str) -> list[Result]:
     from . import cluster  # imports Dask: only when a cluster is asked for
     client = cluster.connect(address)
+    pool = client.get_executor(pure=False)
     try:
-        pool = client.get_executor(pure=False)
         return _gather(pool, cluster.cluster_tasks(pairs, opts, cluster_claim), pairs, cluster.lost_errors(), cluster.lost_result,
                        alive=lambda: cluster.worker_count(client) > 0, grace=cluster.NO_WORKER_SECONDS)
+    except BaseException:  # an interrupt: call off every claim not answered, the running ones too
+        pool.shutdown(wait=False)
+        raise
     finally:
         client.close()
 
@@ -216,27 +223,23 @@ def _gather(pool: Executor, tasks: list[tuple[Callable, tuple]], pairs: list[tup
     results: list[Optional[Result]] = [None] * len(tasks)
     pending = set(futures)
     idle_since: Optional[float] = None
-    try:
-        while pending:
-            done, pending = wait(pending, timeout=None if alive is None else POLL_SECONDS, return_when=FIRST_COMPLETED)
-            for f in done:
-                i = futures[f]
-                try:
-                    results[i] = f.result()
-                except lost as e:
-                    results[i] = on_lost(*pairs[i], e)
-            if alive is None or done or alive():
-                idle_since = None
-                continue
-            idle_since = idle_since or time.monotonic()
-            if time.monotonic() - idle_since >= grace:
-                for f in pending:
-                    f.cancel()
-                    results[futures[f]] = on_lost(*pairs[futures[f]], TimeoutError(f"no worker for {grace:g} s"))
-                pending = set()
-    finally:  # an interrupt: the claims still waiting or running are called off (a worker then kills its runner)
-        for f in pending:
-            f.cancel()
+    while pending:
+        done, pending = wait(pending, timeout=None if alive is None else POLL_SECONDS, return_when=FIRST_COMPLETED)
+        for f in done:
+            i = futures[f]
+            try:
+                results[i] = f.result()
+            except lost as e:
+                results[i] = on_lost(*pairs[i], e)
+        if alive is None or done or alive():
+            idle_since = None
+            continue
+        idle_since = idle_since or time.monotonic()
+        if time.monotonic() - idle_since >= grace:
+            for f in pending:
+                f.cancel()
+                results[futures[f]] = on_lost(*pairs[futures[f]], TimeoutError(f"no worker for {grace:g} s"))
+            pending = set()
     return [r for r in results if r is not None]
 
 
@@ -246,6 +249,7 @@ def cluster_claim(version: str, blob: bytes, index: int, opts: Options) -> Resul
     check, claim, why = cluster.worker_check(version, blob, index)
     if why is not None:
         return make_result(check, claim, OPEN, why, details={"depth": None})
+    PROVERS[claim.kind]  # imported in the worker, so that every runner it forks inherits it
     t0 = time.perf_counter()
     try:
         res, progress, finished = cluster.on_worker(_worker_claim, (blob, index), opts)
