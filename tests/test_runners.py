@@ -102,11 +102,12 @@ def test_a_claim_past_its_timeout_is_open_and_its_runner_replaced(monkeypatch, t
     # the solver-like call below never looks at its budget: only the hard stop ends it
     _first_always_does(monkeypatch, tmp_path, lambda: time.sleep(300))
     t0 = time.monotonic()
-    run = api.check_files(tally, api.options(timeout=1.0), jobs=jobs)
+    run = api.check_files(tally, api.options(timeout=3.0), jobs=jobs)  # room for a loaded machine
     assert time.monotonic() - t0 < 120
-    assert [r.status for r in run.results] == ["proved", "open", "proved", "proved", "proved", "proved"]
-    assert run.results[1].summary == "ran out of time after 1 s"
-    assert 1.0 <= run.results[1].seconds < 60
+    assert [r.status for r in run.results] == ["proved", "open", "proved", "proved", "proved", "proved"], \
+        [r.summary for r in run.results]
+    assert run.results[1].summary == "ran out of time after 3 s"
+    assert 3.0 <= run.results[1].seconds < 60
 
 
 def test_claims_run_one_after_another_in_one_runner(monkeypatch, tmp_path, tally):
@@ -156,3 +157,25 @@ def test_a_watcher_hears_every_claim_start_and_end_in_runners(tally):
     assert [r.status for r in results] == ["proved"] * 6
     assert sorted(e[1] for e in heard.events if e[0] == "started") == list(range(6))
     assert sorted(e[1] for e in heard.events if e[0] == "finished") == list(range(6))
+
+
+@pytest.mark.parametrize("limit", ["claims", "memory"])
+def test_a_runner_is_retired_after_many_claims_or_much_memory(monkeypatch, tmp_path, tally, limit):
+    # a fresh runner takes over, so what claims leave behind never builds up without bound
+    from checker.claims import runner
+
+    if limit == "claims":
+        monkeypatch.setattr(runner, "RUNNER_CLAIMS", 2)  # each file's two claims, then a fresh runner
+    else:
+        monkeypatch.setattr(runner, "RUNNER_GROWTH_BYTES", -(1 << 40))  # any runner counts as grown
+    pids = tmp_path / "pids"
+
+    def prove(*args):
+        with open(pids, "a") as f:
+            f.write(f"{os.getpid()}\n")
+        return always_claim.prove(*args)
+
+    monkeypatch.setitem(PROVERS, "always", prove)
+    run = api.check_files(tally, api.options(isolate=True), jobs=1)
+    assert [r.status for r in run.results] == ["proved"] * 6
+    assert len(set(pids.read_text().split())) == 3

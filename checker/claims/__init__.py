@@ -186,6 +186,8 @@ def _in_runners(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int,
                         done, res = True, _stopped(*pairs[i], e)
                     if done:
                         finish(i, res, time.monotonic() - r.start)
+                        if r.retire:
+                            r.close()  # the next claim sent to it forks a fresh one
             now = time.monotonic()
             for r in busy:
                 if r.overdue(now):

@@ -167,8 +167,11 @@ def on_worker(work: Work, item: Any, opts: Options) -> tuple[Any, dict, bool]:
             if runner.conn.poll(wait):
                 done, res = runner.receive()
                 if done:
-                    with _IDLE_LOCK:
-                        _IDLE.append(runner)
+                    if runner.retire:
+                        runner.close()
+                    else:
+                        with _IDLE_LOCK:
+                            _IDLE.append(runner)
                     runner = None
                     return res, {}, True
             elif runner.overdue(time.monotonic()):

@@ -26,6 +26,13 @@ from typing import Any, Callable, Optional
 
 from ..engines.budget import Budget, _die_with_parent
 
+RUNNER_CLAIMS = 1000
+"""Claims a runner proves before it is retired (a fresh one forked for the next), so that what
+claims leave behind (caches, a grown heap) never builds up without bound."""
+
+RUNNER_GROWTH_BYTES = 1 << 30
+"""A runner whose resident memory grew by more than this since it was forked is retired too."""
+
 Work = Callable[[Any, Any, Budget], Any]
 """What a runner does with one item: ``work(item, opts, budget)`` -> a result (picklable)."""
 
@@ -36,11 +43,21 @@ def hard_stop(start: float, timeout: Optional[float]) -> Optional[float]:
     return None if timeout is None else start + timeout + min(2.0, 0.1 * timeout + 0.2)
 
 
+def _resident() -> int:
+    """This process's resident memory in bytes (0 where /proc cannot tell)."""
+    try:
+        with open("/proc/self/statm", "rb") as f:
+            return int(f.read().split()[1]) * os.sysconf("SC_PAGE_SIZE")
+    except (OSError, ValueError, IndexError):
+        return 0
+
+
 def _serve(conn: Connection, work: Work, parent_pid: int) -> None:
     os.setpgid(0, 0)
     _die_with_parent()
     if os.getppid() != parent_pid:  # the parent died before we asked
         os._exit(1)
+    base = _resident()
     while True:
         try:
             msg = conn.recv()
@@ -52,7 +69,7 @@ def _serve(conn: Connection, work: Work, parent_pid: int) -> None:
         b = Budget(deadline, {}, conn)
         try:
             res = work(item, opts, b)
-            conn.send(("done", res))
+            conn.send(("done", (res, _resident() - base > RUNNER_GROWTH_BYTES)))
         except BaseException as e:  # passed to the parent, which re-raises it
             conn.send(("error", e))
 
@@ -72,6 +89,8 @@ class Runner:
     start: float = 0.0
     hard: Optional[float] = None
     progress: dict = field(default_factory=dict)
+    served: int = 0  # claims proved since the fork
+    retire: bool = False  # true once the runner should make way for a fresh one
 
     def fork(self) -> "Runner":
         """Start the child (``work`` is inherited through fork, never pickled)."""
@@ -80,7 +99,7 @@ class Runner:
         self.proc = ctx.Process(target=_serve, args=(there, self.work, os.getpid()), daemon=True)
         self.proc.start()
         there.close()
-        self.conn = here
+        self.conn, self.served, self.retire = here, 0, False
         return self
 
     def send(self, key: Any, item: Any, opts: Any, timeout: Optional[float]) -> None:
@@ -113,7 +132,10 @@ class Runner:
             return False, None
         self.key = None
         if kind == "done":
-            return True, payload
+            res, grown = payload
+            self.served += 1
+            self.retire = grown or self.served >= RUNNER_CLAIMS
+            return True, res
         raise payload
 
     def overdue(self, now: float) -> bool:
