@@ -208,6 +208,67 @@ def test_a_worker_killed_mid_claim_leaves_that_claim_open(tmp_path):
     assert run.status == 3
 
 
+def _slow_once(mark: str):
+    def prove(*args):
+        try:
+            fd = os.open(mark, os.O_CREAT | os.O_EXCL | os.O_WRONLY)
+        except FileExistsError:
+            from checker.claims import always
+            return always.prove(*args)
+        os.write(fd, str(os.getpid()).encode())
+        os.close(fd)
+        time.sleep(300)
+    return prove
+
+
+def test_a_batch_whose_worker_is_killed_is_answered_claim_by_claim(tmp_path, monkeypatch):
+    # six claims in one task (one batch); the worker is killed while it proves the second: the
+    # cluster loses the batch, whose claims are then sent again one to a task (to the worker its
+    # nanny started anew): every claim answered, none lost, no hang
+    distributed = _distributed()
+    import dask
+    from checker.claims import cluster
+    _by_value()
+    monkeypatch.setattr(cluster, "BATCHES_PER_THREAD", 1)
+    p = tmp_path / "tally.cnl"
+    p.write_text(TALLY)
+    mark = tmp_path / "first.pid"
+    with dask.config.set({"distributed.scheduler.allowed-failures": 0}), _cluster(1) as lc:
+        with distributed.Client(lc.scheduler_address) as client:
+            client.run(_patch_always, _slow_once(str(mark)))
+            pid = next(iter(client.run(os.getpid).values()))
+
+            killed = []
+
+            def kill_when_busy():
+                for _ in range(1200):
+                    if mark.exists() and mark.read_text():
+                        os.kill(pid, signal.SIGKILL)
+                        killed.append(pid)
+                        return
+                    time.sleep(0.1)
+
+            import threading
+            killer = threading.Thread(target=kill_when_busy, daemon=True)
+            killer.start()
+            t0 = time.monotonic()
+            run = api.check_files([str(p)] * 3, api.options(), cluster=lc.scheduler_address)
+            killer.join(5)
+            assert time.monotonic() - t0 < 120
+            assert killed and pid not in client.run(os.getpid).values()  # a new worker proved the rest
+    assert cluster.batch_size(6, 1) == 6
+    assert [r.status for r in run.results] == ["proved"] * 6, [r.summary for r in run.results]
+    assert run.status == 0
+
+
+def test_batch_sizes():
+    from checker.claims import cluster
+    assert cluster.batch_size(2, 2) == 1  # a few claims: one to a task
+    assert cluster.batch_size(306, 2) == cluster.BATCH_CLAIMS
+    assert cluster.batch_size(40, 2) == 5  # every thread still gets BATCHES_PER_THREAD tasks
+    assert cluster.batch_size(10, 0) == 2
+
+
 def test_missing_dask_is_one_clear_error(monkeypatch, tmp_path):
     p = tmp_path / "tally.cnl"
     p.write_text(TALLY)

@@ -205,7 +205,9 @@ def _on_cluster(pairs: list[tuple[Check, Claim]], opts: Options, address: str) -
     client = cluster.connect(address)
     pool = client.get_executor(pure=False)
     try:
-        return _gather(pool, cluster.cluster_tasks(pairs, opts, cluster_claim), pairs, cluster.lost_errors(), cluster.lost_result,
+        tasks = cluster.Tasks(pairs, opts)
+        batches = tasks.batches(cluster.batch_size(len(pairs), cluster.thread_count(client)))
+        return _gather(pool, cluster_batch, tasks.args, batches, pairs, cluster.lost_errors(), cluster.lost_result,
                        alive=lambda: cluster.worker_count(client) > 0, grace=cluster.NO_WORKER_SECONDS)
     except BaseException:  # an interrupt: call off every claim not answered, the running ones too
         pool.shutdown(wait=False)
@@ -214,35 +216,51 @@ def _on_cluster(pairs: list[tuple[Check, Claim]], opts: Options, address: str) -
         client.close()
 
 
-def _gather(pool: Executor, tasks: list[tuple[Callable, tuple]], pairs: list[tuple[Check, Claim]],
-            lost: tuple[type, ...], on_lost: Callable[[Check, Claim, BaseException], Result],
-            alive: Optional[Callable[[], bool]] = None, grace: float = 0.0) -> list[Result]:
-    """Submit every task to ``pool`` (a cluster's executor) and collect the
-    results in the order of ``pairs``; a task that fails with one of ``lost`` gets ``on_lost``.
-    With ``alive``, claims still waiting after ``alive()`` has been false for ``grace`` seconds
-    are open: a pool with no worker left never hangs the run."""
-    futures = {pool.submit(fn, *args): i for i, (fn, args) in enumerate(tasks)}
-    results: list[Optional[Result]] = [None] * len(tasks)
+def _gather(pool: Executor, task: Callable, args: Callable[[list[int]], tuple], batches: list[list[int]],
+            pairs: list[tuple[Check, Claim]], lost: tuple[type, ...],
+            on_lost: Callable[[Check, Claim, BaseException], Result],
+            alive: Callable[[], bool], grace: float) -> list[Result]:
+    """Submit ``task(*args(batch))`` to ``pool`` (a cluster's executor) for every batch of
+    indices into ``pairs``, and collect the results in the order of ``pairs``. A batch that fails
+    with one of ``lost`` is sent again a claim to a task; a claim whose own task is lost gets
+    ``on_lost``. Claims still waiting after ``alive()`` has been false for ``grace`` seconds are
+    open: a cluster with no worker left never hangs the run."""
+    futures = {pool.submit(task, *args(b)): b for b in batches}
+    results: list[Optional[Result]] = [None] * len(pairs)
     pending = set(futures)
     idle_since: Optional[float] = None
     while pending:
-        done, pending = wait(pending, timeout=None if alive is None else POLL_SECONDS, return_when=FIRST_COMPLETED)
+        done, pending = wait(pending, timeout=POLL_SECONDS, return_when=FIRST_COMPLETED)
         for f in done:
-            i = futures[f]
+            batch = futures.pop(f)
             try:
-                results[i] = f.result()
+                for i, res in zip(batch, f.result(), strict=True):
+                    results[i] = res
             except lost as e:
-                results[i] = on_lost(*pairs[i], e)
-        if alive is None or done or alive():
+                if len(batch) == 1:
+                    results[batch[0]] = on_lost(*pairs[batch[0]], e)
+                    continue
+                for i in batch:  # each on its own now: only a claim that loses its own worker is open
+                    g = pool.submit(task, *args([i]))
+                    futures[g] = [i]
+                    pending.add(g)
+        if done or alive():
             idle_since = None
             continue
         idle_since = idle_since or time.monotonic()
         if time.monotonic() - idle_since >= grace:
             for f in pending:
                 f.cancel()
-                results[futures[f]] = on_lost(*pairs[futures[f]], TimeoutError(f"no worker for {grace:g} s"))
+                for i in futures[f]:
+                    results[i] = on_lost(*pairs[i], TimeoutError(f"no worker for {grace:g} s"))
             pending = set()
     return [r for r in results if r is not None]
+
+
+def cluster_batch(version: str, opts: Options, items: list[tuple[bytes, int]]) -> list[Result]:
+    """On a cluster worker: the claims ``items`` (a pickled check and the index of a claim in it),
+    one after another, each in one of the worker's runners under its own timeout."""
+    return [cluster_claim(version, blob, index, opts) for blob, index in items]
 
 
 def cluster_claim(version: str, blob: bytes, index: int, opts: Options) -> Result:

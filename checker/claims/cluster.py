@@ -3,10 +3,11 @@
 The Dask ``distributed`` package is an optional extra (``countersign[cluster]``)
 and is imported only here, only when a cluster is asked for. A client's
 executor (``Client.get_executor``) is a ``concurrent.futures.Executor`` like
-the local process pool, so ``run_claims`` drives both with one loop; what
-differs is what a task carries. A forked local worker already holds every
-elaborated check; a cluster worker gets each check pickled (read and
-elaborated once, here) with the index of its claim, and proves the claim in
+any other, so ``run_claims`` hands it tasks and collects their results. A
+task carries up to :data:`BATCH_CLAIMS` claims, each as its check pickled
+(read and elaborated once, here) with the index of the claim; a batch whose
+worker the cluster loses is sent again a claim to a task, so that only a
+claim whose own task is lost is reported open. A worker proves each claim in
 one of its claim runners (``claims/runner.py``: a child process per worker
 thread, kept from claim to claim) under the claim's timeout, so a claim that
 crashes its process never takes the worker down with it. A claim called off
@@ -108,18 +109,49 @@ def worker_check(version: Optional[str], blob: bytes, index: int) -> tuple[Check
     return check, check.claims[index], why
 
 
-def cluster_tasks(pairs: list[tuple[Check, Claim]], opts: Options, task: Callable) -> list[tuple[Callable, tuple]]:
-    """(``task``, arguments) of one task per claim: each check pickled once, the claim by index;
-    ``task(version, blob, index, opts)`` runs on a worker (``claims.cluster_claim``)."""
-    blobs: dict[int, bytes] = {}
-    tasks = []
-    isolated = replace(opts, isolate=True)
-    for check, claim in pairs:
-        if id(check) not in blobs:
-            blobs[id(check)] = pickle.dumps(check, protocol=pickle.HIGHEST_PROTOCOL)
-        index = next(i for i, c in enumerate(check.claims) if c is claim)
-        tasks.append((task, (__version__, blobs[id(check)], index, isolated)))
-    return tasks
+BATCH_CLAIMS = 8
+"""Most claims one cluster task carries. Each task costs the scheduler and a worker a few
+milliseconds of their own work, more than most claims take, so small claims travel in batches."""
+
+BATCHES_PER_THREAD = 4
+"""Batches stay small enough that every worker thread gets at least this many (the load evens out)."""
+
+
+def batch_size(claims: int, threads: int) -> int:
+    """Claims per task for ``claims`` claims on a cluster of ``threads`` worker threads."""
+    return max(1, min(BATCH_CLAIMS, claims // (BATCHES_PER_THREAD * max(1, threads))))
+
+
+def thread_count(client: Any) -> int:
+    """Worker threads the scheduler has now (0 when it cannot be asked)."""
+    try:
+        return sum(client.nthreads().values())
+    except Exception:  # a scheduler that is gone has no threads
+        return 0
+
+
+class Tasks:
+    """The cluster tasks of a run: each check pickled once, each claim by the index in its check;
+    ``args(indices)`` are the arguments of one task proving the claims ``pairs[i]`` for ``i`` in
+    ``indices``, in that order: ``claims.cluster_batch(version, opts, [(blob, index), ...])``."""
+
+    def __init__(self, pairs: list[tuple[Check, Claim]], opts: Options) -> None:
+        blobs: dict[int, bytes] = {}
+        self.items: list[tuple[bytes, int]] = []
+        for check, claim in pairs:
+            if id(check) not in blobs:
+                blobs[id(check)] = pickle.dumps(check, protocol=pickle.HIGHEST_PROTOCOL)
+            index = next(i for i, c in enumerate(check.claims) if c is claim)
+            self.items.append((blobs[id(check)], index))
+        self.opts = replace(opts, isolate=True)
+
+    def args(self, indices: list[int]) -> tuple:
+        return (__version__, self.opts, [self.items[i] for i in indices])
+
+    def batches(self, size: int) -> list[list[int]]:
+        """The claims in order, ``size`` to a task."""
+        n = len(self.items)
+        return [list(range(i, min(n, i + size))) for i in range(0, n, size)]
 
 
 def lost_result(check: Check, claim: Claim, error: BaseException) -> Result:
