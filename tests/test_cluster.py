@@ -261,6 +261,16 @@ def test_a_batch_whose_worker_is_killed_is_answered_claim_by_claim(tmp_path, mon
     assert run.status == 0
 
 
+def test_a_scheduler_that_cannot_read_the_tasks_is_one_clear_error():
+    # what Dask raises when the scheduler runs another countersign (or none)
+    from checker.claims import cluster
+    e = RuntimeError("Error during deserialization of the task graph. This frequently\noccurs if ...")
+    clear = cluster.unreadable(e, "tcp://h:8786")
+    assert clear is not None and clear.pos.file == "<command line>"
+    assert "install countersign" in clear.message and "\n" not in clear.message
+    assert cluster.unreadable(RuntimeError("a bug"), "tcp://h:8786") is None
+
+
 def test_batch_sizes():
     from checker.claims import cluster
     assert cluster.batch_size(2, 2) == 1  # a few claims: one to a task

@@ -209,8 +209,11 @@ def _on_cluster(pairs: list[tuple[Check, Claim]], opts: Options, address: str) -
         batches = tasks.batches(cluster.batch_size(len(pairs), cluster.thread_count(client)))
         return _gather(pool, cluster_batch, tasks.args, batches, pairs, cluster.lost_errors(), cluster.lost_result,
                        alive=lambda: cluster.worker_count(client) > 0, grace=cluster.NO_WORKER_SECONDS)
-    except BaseException:  # an interrupt: call off every claim not answered, the running ones too
+    except BaseException as e:  # an interrupt: call off every claim not answered, the running ones too
         pool.shutdown(wait=False)
+        clear = cluster.unreadable(e, address)
+        if clear is not None:
+            raise clear from None
         raise
     finally:
         client.close()
@@ -292,4 +295,4 @@ def _worker_claim(item: tuple[bytes, int], opts: Options, budget: Budget) -> Res
 def run_check(check: Check, opts: Options | None = None) -> list[Result]:
     """Every claim of ``check``, in the order written."""
     opts = opts or Options()
-    return [run_claim(check, c, opts) for c in check.claims]
+    return run_claims([(check, c) for c in check.claims], opts)

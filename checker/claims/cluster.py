@@ -154,6 +154,15 @@ class Tasks:
         return [list(range(i, min(n, i + size))) for i in range(0, n, size)]
 
 
+def unreadable(error: BaseException, address: str) -> Optional[InputError]:
+    """The one-line error for a scheduler that could not read our tasks (it imports countersign
+    to read them, and runs another version of it, or none), or None for any other error."""
+    if isinstance(error, RuntimeError) and "deserialization of the task graph" in str(error):
+        return InputError(_where(), f"the Dask scheduler at '{address}' cannot read countersign's tasks: "
+                                    f"install countersign {__version__} where the scheduler and its workers run")
+    return None
+
+
 def lost_result(check: Check, claim: Claim, error: BaseException) -> Result:
     """The result of a claim whose task the cluster lost: open, saying what happened."""
     what = " ".join(str(error).split())[:200] or type(error).__name__
