@@ -179,3 +179,20 @@ def test_a_runner_is_retired_after_many_claims_or_much_memory(monkeypatch, tmp_p
     run = api.check_files(tally, api.options(isolate=True), jobs=1)
     assert [r.status for r in run.results] == ["proved"] * 6
     assert len(set(pids.read_text().split())) == 3
+
+
+def test_a_runner_that_died_while_idle_is_replaced_before_its_next_claim():
+    from checker.claims.runner import Runner
+
+    r = Runner(lambda item, opts, budget: item * 2).fork()
+    r.send(1, 21, None, None)
+    assert r.receive() == (True, 42)
+    r.proc.kill()  # from outside, between two claims
+    r.proc.join()
+    r.send(2, 5, None, 10.0)
+    done = False
+    while not done:
+        done, res = r.receive()
+    assert res == 10
+    r.close()
+    assert r.proc is None

@@ -110,7 +110,14 @@ class Runner:
         self.hard = hard_stop(self.start, timeout)
         deadline = None if timeout is None else self.start + timeout
         assert self.conn is not None
-        self.conn.send((item, opts, deadline))
+        try:
+            self.conn.send((item, opts, deadline))
+        except OSError:  # it died while idle (killed from outside): a fresh one takes the claim
+            self.kill()
+            self.fork()
+            self.key = key
+            assert self.conn is not None
+            self.conn.send((item, opts, deadline))
 
     def receive(self, watch: Optional[Callable[[dict], None]] = None) -> tuple[bool, Any]:
         """Read one message of the claim being proved: (True, result) at its end, else (False, None)
