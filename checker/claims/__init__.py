@@ -6,18 +6,18 @@
 
 from __future__ import annotations
 
-import multiprocessing as mp
 import threading
 import time
 from dataclasses import replace
-from concurrent.futures import FIRST_COMPLETED, Executor, ProcessPoolExecutor, wait
-from concurrent.futures.process import BrokenProcessPool
-from typing import Callable, Optional, Protocol
+from typing import TYPE_CHECKING, Callable, Optional, Protocol
 
 from ..elab import Check, Claim
 from ..engines.budget import Budget, run_bounded
 from .common import Options, check_radix, make_result
 from .result import OPEN, Result
+
+if TYPE_CHECKING:
+    from concurrent.futures import Executor
 
 Prover = Callable[[Check, Claim, Options, Budget], Result]
 
@@ -149,6 +149,9 @@ def run_claims(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int = 1,
         return _on_cluster(pairs, opts, cluster)
     if jobs <= 1 or len(pairs) <= 1:
         return [_watched(watcher, i, c, cl, opts) for i, (c, cl) in enumerate(pairs)]
+    import multiprocessing as mp  # here: a run of one claim at a time starts without them
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
     global _WORK, _EVENTS
     _WORK = list(pairs)
     ctx = mp.get_context("fork")
@@ -195,6 +198,7 @@ def _gather(pool: Executor, tasks: list[tuple[Callable, tuple]], pairs: list[tup
     results in the order of ``pairs``; a task that fails with one of ``lost`` gets ``on_lost``.
     With ``alive``, claims still waiting after ``alive()`` has been false for ``grace`` seconds
     are open: a pool with no worker left never hangs the run."""
+    from concurrent.futures import FIRST_COMPLETED, wait
     futures = {pool.submit(fn, *args): i for i, (fn, args) in enumerate(tasks)}
     results: list[Optional[Result]] = [None] * len(tasks)
     pending = set(futures)

@@ -214,25 +214,23 @@ def _within_first(space: CodeSpace, cond: int, within: int, budget: Budget, solv
         if sat.solve(on):
             return None
         lo, hi = 0, within  # no run of hi+1 unused codes; a run of lo (when lo > 0)
-        runs: dict[int, tuple[list[int], list[dict[str, int]]]] = {}
+        model_at = None  # the depth of the solver's current model (a run), if any
         while lo < hi:
             if budget.expired():
                 return None
             mid = (lo + hi) // 2
             if sat.solve(on[:mid + 1]):
-                runs[mid] = _read(space, un, mid)
-                lo = mid + 1
+                lo, model_at = mid + 1, mid
             else:
-                hi = mid
+                hi, model_at = mid, None
         if budget.expired():
             return None
         res = SatSearch("proved", hi, worst=hi)
-        if hi > 0:
-            if hi - 1 not in runs:
+        if hi > 0:  # the worst run, read once (a run of hi codes exists: lo == hi)
+            if model_at != hi - 1:
                 found = sat.solve(on[:hi])
                 assert found, "a run shorter than one the solver refuted"
-                runs[hi - 1] = _read(space, un, hi - 1)
-            res.worst_codes, res.worst_inputs = _finish_path(space, *runs[hi - 1])
+            res.worst_codes, res.worst_inputs = _finish_path(space, *_read(space, un, hi - 1))
         budget.report(depth=hi, engine="sat")
         return res
     finally:
