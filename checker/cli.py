@@ -314,8 +314,9 @@ def leave(status: int) -> None:
     """End the process with ``status`` once the output is flushed and the exit handlers have run,
     without taking the interpreter apart: freeing every graph, clause list and module one object
     at a time took 0.05 to 0.2 s of a check's process, after its last line was printed. Python's
-    ordinary exit is kept when a flush fails (it reports the closed stream as before) or when
-    another thread still runs (it waits for that thread)."""
+    ordinary exit is kept when a flush fails (it reports the closed stream as before), when
+    another thread still runs (it waits for that thread), and under a profiler, tracer or
+    debugger (``python -m cProfile`` writes its numbers after the program returns)."""
     import atexit
     import threading
     try:
@@ -323,7 +324,7 @@ def leave(status: int) -> None:
         sys.stderr.flush()
     except (OSError, ValueError):
         sys.exit(status)
-    if threading.active_count() > 1:
+    if threading.active_count() > 1 or sys.getprofile() is not None or sys.gettrace() is not None:
         sys.exit(status)
     atexit._run_exitfuncs()
     try:

@@ -47,3 +47,15 @@ def test_check_exit_status_and_whole_json(tmp_path):
     r = subprocess.run([sys.executable, "-m", "checker", "check", str(f)], capture_output=True,
                        text=True, env=ENV, timeout=120)
     assert r.returncode == 1 and r.stdout.rstrip().endswith("1 proved, 1 refuted, 0 open")
+
+
+def test_a_profiler_still_gets_its_numbers(tmp_path):
+    # python -m cProfile writes its table after the program returns: leave() must let it
+    f = tmp_path / "hop.cnl"
+    f.write_text("design hop\n  flop q[1:0] : D (d = {q[0], !q[1]})\nend\ncheck steps of hop\n  code q\n"
+                 "  count johnson\nend\n")
+    out = tmp_path / "run.prof"
+    r = subprocess.run([sys.executable, "-m", "cProfile", "-o", str(out), "-m", "checker", "check", str(f), "--json"],
+                       capture_output=True, text=True, env=ENV, timeout=120)
+    assert r.returncode == 0, r.stderr
+    assert out.is_file() and out.stat().st_size > 0
