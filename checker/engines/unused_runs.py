@@ -194,8 +194,9 @@ def _within_first(space: CodeSpace, cond: int, within: int, budget: Budget, solv
     decides, as it did before. When there is none, the claim is proved and no code is locked (a
     locked code starts runs of every length), so every run of unused codes is a simple path and
     the exact worst is the smallest depth k with no run of k+1 unused codes, the depth at which
-    the search above would stop too; it is found by bisection on the same unrolling, each frame's
-    constraints switched on by an assumption. The pair constraints of that search (quadratic in
+    the search above would stop too; it is found on the same unrolling, each frame's constraints
+    switched on by an assumption: depth N-1 first (a bound written tight then needs no more),
+    else by bisection. The pair constraints of that search (quadratic in
     the depth) are never built on this path: a 64-bit `recover within 128` took 13 s with them
     where the one question takes a standalone solver 0.2 s."""
     if budget.expired():
@@ -215,6 +216,11 @@ def _within_first(space: CodeSpace, cond: int, within: int, budget: Budget, solv
             return None
         lo, hi = 0, within  # no run of hi+1 unused codes; a run of lo (when lo > 0)
         model_at = None  # the depth of the solver's current model (a run), if any
+        if within > 0:  # a bound is often written tight: one question settles the worst then
+            if sat.solve(on[:within]):
+                lo, model_at = within, within - 1
+            else:
+                hi = within - 1
         while lo < hi:
             if budget.expired():
                 return None

@@ -214,8 +214,8 @@ def main() -> None:
             asked = " + ".join(str(d.get("questions", "-")) for d in docs)
             totals.append(t)
             claims.append(sum(d["seconds"] for d in docs))
-            if any("solve_seconds" in d for d in docs):
-                solves.append(sum(d.get("solve_seconds", 0.0) for d in docs))
+            if all("solve_seconds" in d for d in docs):
+                solves.append(sum(d["solve_seconds"] for d in docs))
             stages.append(probe(py, src))
             for name, prog in solvers.items():
                 if prog:
@@ -256,7 +256,8 @@ def main() -> None:
             "python-sat included; parse: `parse_text`; elaborate: the rest of reading; provers: the claim kinds' "
             "modules; claims: building and solving, a forked child per claim; report: the JSON; exit: exit "
             "handlers and leaving), so they add up to about the total rather than exactly. "
-            "(total - parse) / best solver: the ratio without the parser's time (the parse column), which "
+            "Inside solver calls: the `solve_seconds` of the claims' JSON, where every claim of the file reports it "
+            "(count does; recover and equal do not). (total - parse) / best solver: the ratio without the parser's time (the parse column), which "
             "another piece of work replaces. Questions asked in-process: the `questions` of each claim's JSON where it reports them (count), "
             "else `-`; in the DIMACS: how many the exported formula joins with selector variables.", ""]
     text = "\n".join(out)
