@@ -167,3 +167,14 @@ def test_equal_evidence_follows_radix(tmp_path, capsys):
     assert f"clock 0: code {code_text(first['code'], 2, 'bin')} (shade_d: {code_text(first['other_code'], 2, 'bin')})" in text
     _, text = run(capsys, ["check", str(p), "--radix", "dec"])
     assert f"clock 0: code {first['code']} (shade_d: {first['other_code']})" in text
+
+
+def test_bcd_codes_are_hex_without_the_binary_values_decimal(capsys):
+    # A count bcd check shows codes in hex, whose digits are the BCD digits (0x59 reads 59);
+    # the binary value's decimal beside it (89) would read as a count, so it is left out.
+    assert code_and_decimal(0x59, 8, "bcd") == "0x59" and code_text(0xA0, 8, "bcd") == "0xA0"
+    rc, out = run(capsys, ["check", "cases/pallet_tally.cnl"])
+    assert rc == 0
+    assert "from code 0xA0:" in out and "(160)" not in out
+    rc, out = run(capsys, ["check", "cases/pallet_tally.cnl", "--radix", "hex"])
+    assert "from code 0xA0 (160):" in out  # asked for hex: the plain hex report, decimal beside

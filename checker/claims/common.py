@@ -36,14 +36,17 @@ def code_radix(width: int, radix: str = "auto") -> str:
     """The radix ``radix`` stands for at a code width of ``width`` bits (``auto`` resolved)."""
     if radix in ("dec", "bin", "hex"):
         return radix
+    if radix == "bcd":
+        return "hex"
     return "bin" if width <= AUTO_BINARY_WIDTH else "hex"
 
 
 def check_radix(check: Check, radix: str) -> str:
-    """The radix a check's codes are shown in: ``auto`` is hex for a ``count bcd`` check, whose
-    hex digits are its decimal digits (``0x59`` is 59), and otherwise resolved by width."""
+    """The radix a check's codes are shown in: ``auto`` is ``bcd`` for a ``count bcd`` check, that
+    is hex, whose digits are its decimal digits (``0x59`` is 59), with no decimal of the binary
+    value beside it (89 would read as a count); otherwise ``radix`` unchanged."""
     if radix == "auto" and check.sequence is not None and check.sequence.kind == "bcd":
-        return "hex"
+        return "bcd"  # shown as hex, without the binary value's decimal beside it
     return radix
 
 
@@ -60,8 +63,13 @@ def code_text(code: int, width: int, radix: str = "auto") -> str:
 
 def decimal_helps(code: int, width: int, radix: str = "auto") -> bool:
     """Whether the decimal beside ``code_text`` tells a reader more than the digits already do."""
-    r = code_radix(width, radix)
-    return r != "dec" and code >= (2 if r == "bin" else 10)
+    return shows_decimal(width, radix) and code >= (2 if code_radix(width, radix) == "bin" else 10)
+
+
+def shows_decimal(width: int, radix: str = "auto") -> bool:
+    """Whether tables give a code's decimal value in a column beside it: not when the code is
+    already decimal, nor for BCD codes, whose hex digits are the decimal digits."""
+    return code_radix(width, radix) != "dec" and radix != "bcd"
 
 
 def code_and_decimal(code: int, width: int, radix: str = "auto") -> str:
@@ -324,7 +332,7 @@ def trace_lines(check: Optional[Check], trace: list[TraceEntry], width: Optional
     ``width`` defaults to the check's code width."""
     w = width if width is not None else check.width if check is not None else 1
     other = any(t.other_code is not None for t in trace)
-    dec = code_radix(w, radix) != "dec"
+    dec = shows_decimal(w, radix)
     rows = [("clock", "code") + (("decimal",) if dec else ()) + (("other",) if other else ()) + ("inputs",)]
     for t in trace:
         rows.append((str(t.clock), code_text(t.code, w, radix)) + ((str(t.code),) if dec else ())

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from typing import Optional, Sequence
 
-from ..claims.common import code_radix, code_text
+from ..claims.common import code_radix, code_text, shows_decimal
 
 Column = tuple[str, int, Sequence[int]]
 """A signal of the table: its name, its width in bits, its value at each clock."""
@@ -58,7 +58,7 @@ def sim_table(codes: Sequence[int], width: int, inputs: Sequence[Column], output
         code_col = list(map(str, codes))
     else:
         digits = "0b{0:0%db}" % max(width, 1) if r == "bin" else "0x{0:0%dX}" % max(1, (width + 3) // 4)
-        fmt = digits + " ({0})"  # the value, then its decimal
+        fmt = digits + (" ({0})" if shows_decimal(width, radix) else "")  # the value, then its decimal
         code_col = list(map(fmt.format, codes))
     ins = _signals(inputs, n, radix)
     outs = _signals(outputs, n, radix)

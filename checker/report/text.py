@@ -7,7 +7,7 @@ from typing import Optional, Sequence
 
 from tabulate import tabulate
 
-from ..claims.common import code_radix, code_text, inputs_text, trace_lines
+from ..claims.common import code_text, inputs_text, shows_decimal, trace_lines
 from ..claims.recover import set_lines
 from ..claims.result import OPEN, PROVED, REFUTED, Result
 from ..words import count, plural
@@ -174,7 +174,7 @@ def map_lines(doc: dict, radix: str = "dec") -> list[str]:
 
         def fmt(c: int) -> str:
             return code_text(c, w, radix)
-        dec = code_radix(w, radix) != "dec"
+        dec = shows_decimal(w, radix)
         cw = max(10, len(fmt(0)))
         lines.append(f"{'code':>{cw}}  " + (f"{'decimal':>10}  " if dec else "") + f"{'steps':>7}  {'next':>{cw}}  run")
         for e in doc["unused"]:
@@ -203,8 +203,8 @@ def sim_table(entries: list[dict], width: int, faults: Sequence[list[str]], even
     value, code after) in rows of their own."""
 
     def shown(c: int) -> str:
-        if code_radix(width, radix) == "dec":
-            return str(c)
+        if not shows_decimal(width, radix):
+            return code_text(c, width, radix)
         return f"{code_text(c, width, radix)} ({c})"
     rows = []
     for e, f in zip(entries, faults):
