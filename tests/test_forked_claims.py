@@ -61,11 +61,24 @@ def test_a_child_past_its_time_is_stopped_with_its_last_progress():
     assert time.monotonic() - t0 < 10
 
 
-def test_no_child_is_left_behind():
-    for _ in range(5):
+def test_no_child_is_left_behind(monkeypatch):
+    forked: list[int] = []
+    fork = os.fork
+
+    def recorded() -> int:
+        pid = fork()
+        if pid:
+            forked.append(pid)
+        return pid
+
+    monkeypatch.setattr(os, "fork", recorded)
+    for _ in range(3):
         run_bounded(lambda b: 1, timeout=None, isolate=True)
-    with pytest.raises(ChildProcessError):
-        os.waitpid(-1, os.WNOHANG)  # every child was waited for
+    run_bounded(lambda b: time.sleep(60), timeout=0.2)
+    assert len(forked) == 4
+    for pid in forked:  # every child was waited for: none is left, not even as a zombie
+        with pytest.raises(ChildProcessError):
+            os.waitpid(pid, os.WNOHANG)
 
 
 def test_a_check_of_one_claim_at_a_time_loads_no_process_pool(tmp_path):

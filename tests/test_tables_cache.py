@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -19,6 +20,13 @@ def _run(tmp_path: Path, env_extra: dict[str, str]) -> subprocess.CompletedProce
                            "check", str(src)], capture_output=True, text=True, env=env, timeout=120)
 
 
+def _same(a: str, b: str) -> bool:
+    """The same report but for the claims' times, which vary from run to run on a busy machine."""
+    def masked(t: str) -> str:
+        return re.sub(r"\b\d+\.\d+ s\b", "T s", t)
+    return masked(a) == masked(b)
+
+
 def test_tables_are_stored_in_the_cache_folder_and_reused(tmp_path):
     cache = tmp_path / "xdg"
     first = _run(tmp_path, {"XDG_CACHE_HOME": str(cache)})
@@ -26,7 +34,7 @@ def test_tables_are_stored_in_the_cache_folder_and_reused(tmp_path):
     assert first.returncode == 0, first.stderr
     assert len(stored) == 1
     second = _run(tmp_path, {"XDG_CACHE_HOME": str(cache)})
-    assert second.returncode == 0 and second.stdout == first.stdout
+    assert second.returncode == 0 and _same(second.stdout, first.stdout)
 
 
 def test_a_damaged_table_file_is_rebuilt_not_fatal(tmp_path):
@@ -35,7 +43,7 @@ def test_a_damaged_table_file_is_rebuilt_not_fatal(tmp_path):
     (stored,) = (cache / "countersign").glob("lalr-*.tables")
     stored.write_bytes(b"not a table\n\x80\x04garbage")
     again = _run(tmp_path, {"XDG_CACHE_HOME": str(cache)})
-    assert again.returncode == 0 and again.stdout == first.stdout
+    assert again.returncode == 0 and _same(again.stdout, first.stdout)
     assert "Traceback" not in again.stderr
 
 
