@@ -10,12 +10,16 @@ from __future__ import annotations
 import time
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from checker.engines.budget import Budget
 from checker.claims import run_claim
 from checker.claims.common import Options, replay, stepping
 from checker.claims.recover import LOCKED_LIST_LIMIT, prove
-from checker.engines.unused_runs import sat_search
+from checker.engines.sat import DEFAULT_SOLVER
+from checker.engines.unused_runs import _within_first, sat_search
+from checker.model.simulate import run
 from checker.elab import Check, load_namespace
 from checker.errors import InputError
 from checker.claims.result import OPEN, PROVED, REFUTED
@@ -292,3 +296,37 @@ end
     assert sum(r.details["locked_sizes"]) == 2 ** 18 - 36
     assert r.details["locked_truncated"] is True
     assert sum(len(s) for s in r.details["locked"]) <= LOCKED_LIST_LIMIT
+
+
+@settings(max_examples=60, deadline=None)
+@given(w=st.integers(3, 7), data=st.data())
+def test_within_asked_first_matches_the_frame_by_frame_search(tmp_path_factory, w, data):
+    # `recover within N` first asks the exported question (no run of N+1 unused codes) and, when
+    # it has no answer, bisects for the worst: the verdict, worst and depth must be those of the
+    # frame-by-frame search (asked without a bound), the worst run a real one, and the worst that
+    # of the explicit engine, which walks every code.
+    last = data.draw(st.integers(1, (1 << w) - 1))
+    within = data.draw(st.integers(0, 1 << w))
+    f = tmp_path_factory.mktemp("tail") / "t.cnl"
+    f.write_text(tail_counter(w, last, "recover"), encoding="utf-8")
+    check = load_namespace(str(f)).checks[0]
+    cond = stepping(check)
+    full = sat_search(check.space, cond, None, Budget())
+    quick = _within_first(check.space, cond, within, Budget(), DEFAULT_SOLVER)
+    exact = run_claim(check, claims_of(check)[0], Options(engine="explicit")).details["worst"]
+    if full.status != "proved" or full.worst > within:
+        assert quick is None
+        return
+    assert quick is not None and (quick.status, quick.worst, quick.depth) == ("proved", full.worst, full.depth)
+    assert quick.worst == exact
+    assert sat_search(check.space, cond, within, Budget()).worst == exact
+    codes = quick.worst_codes
+    if exact == 0:
+        assert codes == []
+        return
+    assert len(codes) == exact + 1 and check.sequence.contains(codes[-1])
+    assert not any(check.sequence.contains(c) for c in codes[:-1])
+    model = check.design.model
+    for t, (a, b) in enumerate(zip(codes, codes[1:])):  # each step is the design's own clock
+        steps = run(model, check.space.state_of(a), [quick.worst_inputs[t]], 1)
+        assert check.space.code_of(steps[1].state) == b

@@ -57,6 +57,15 @@ def _first_always_does(monkeypatch, tmp_path, act) -> Path:
     return mark
 
 
+def the_open_one(run: api.CheckRun) -> int:
+    """The index of the one open claim, an always claim (odd index); every other claim proved.
+    With two runners, which always claim comes first to a runner depends on the machine's load."""
+    opened = [i for i, r in enumerate(run.results) if r.status == "open"]
+    assert len(opened) == 1 and opened[0] % 2 == 1, [r.status for r in run.results]
+    assert all(r.status == "proved" for i, r in enumerate(run.results) if i != opened[0])
+    return opened[0]
+
+
 def _segfault() -> None:
     import faulthandler
     faulthandler.disable()  # pytest's would print the runner's stack to the test log
@@ -68,9 +77,9 @@ def _segfault() -> None:
 def test_a_claim_that_ends_its_process_is_open_and_the_next_ones_run(monkeypatch, tmp_path, tally, jobs, act):
     _first_always_does(monkeypatch, tmp_path, act)
     run = api.check_files(tally, api.options(isolate=True), jobs=jobs)
-    assert [r.status for r in run.results] == ["proved", "open", "proved", "proved", "proved", "proved"]
-    assert "the process proving this claim stopped" in run.results[1].summary
-    assert "exit code" in run.results[1].summary
+    k = the_open_one(run)
+    assert "the process proving this claim stopped" in run.results[k].summary
+    assert "exit code" in run.results[k].summary
     assert run.status == 3
 
 
@@ -92,8 +101,8 @@ def test_a_runner_killed_mid_claim_gives_that_claim_an_error_and_the_next_ones_r
     run = api.check_files(tally, api.options(isolate=True), jobs=jobs)
     t.join(5)
     assert time.monotonic() - t0 < 120  # not the 300 s the claim would sleep
-    assert [r.status for r in run.results] == ["proved", "open", "proved", "proved", "proved", "proved"]
-    assert "stopped" in run.results[1].summary and "-9" in run.results[1].summary
+    k = the_open_one(run)
+    assert "stopped" in run.results[k].summary and "-9" in run.results[k].summary
     assert int(mark.read_text()) != os.getpid()  # it ran in a child, not here
 
 
@@ -104,10 +113,9 @@ def test_a_claim_past_its_timeout_is_open_and_its_runner_replaced(monkeypatch, t
     t0 = time.monotonic()
     run = api.check_files(tally, api.options(timeout=3.0), jobs=jobs)  # room for a loaded machine
     assert time.monotonic() - t0 < 120
-    assert [r.status for r in run.results] == ["proved", "open", "proved", "proved", "proved", "proved"], \
-        [r.summary for r in run.results]
-    assert run.results[1].summary == "ran out of time after 3 s"
-    assert 3.0 <= run.results[1].seconds < 60
+    k = the_open_one(run)
+    assert run.results[k].summary == "ran out of time after 3 s"
+    assert 3.0 <= run.results[k].seconds < 60
 
 
 def test_claims_run_one_after_another_in_one_runner(monkeypatch, tmp_path, tally):

@@ -7,16 +7,18 @@
 from __future__ import annotations
 
 import time
-from concurrent.futures import FIRST_COMPLETED, Executor, wait
 from dataclasses import replace
 from multiprocessing.connection import wait as mp_wait
-from typing import Callable, Optional, Protocol
+from typing import TYPE_CHECKING, Callable, Optional, Protocol
 
 from ..elab import Check, Claim
 from ..engines.budget import Budget, run_bounded
 from .common import Options, check_radix, make_result
 from .result import OPEN, Result
 from .runner import Runner, Stopped
+
+if TYPE_CHECKING:
+    from concurrent.futures import Executor
 
 Prover = Callable[[Check, Claim, Options, Budget], Result]
 
@@ -228,6 +230,7 @@ def _gather(pool: Executor, task: Callable, args: Callable[[list[int]], tuple], 
     with one of ``lost`` is sent again a claim to a task; a claim whose own task is lost gets
     ``on_lost``. Claims still waiting after ``alive()`` has been false for ``grace`` seconds are
     open: a cluster with no worker left never hangs the run."""
+    from concurrent.futures import FIRST_COMPLETED, wait  # here: a local run never needs them
     futures = {pool.submit(task, *args(b)): b for b in batches}
     results: list[Optional[Result]] = [None] * len(pairs)
     pending = set(futures)

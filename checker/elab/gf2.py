@@ -34,9 +34,10 @@ from __future__ import annotations
 
 import math
 from functools import lru_cache
-from typing import Iterable
+from typing import TYPE_CHECKING, Iterable
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 
 def isprime(n: int) -> bool:
@@ -404,6 +405,7 @@ def _trial_division(m: int, step: int, primes: set[int]) -> int:
 
 @lru_cache(maxsize=16)
 def _primes_below(limit: int) -> list[int]:
+    import numpy as np
     sieve = np.ones(limit, dtype=bool)
     sieve[:2] = False
     for p in range(2, math.isqrt(limit - 1) + 1):
@@ -420,6 +422,7 @@ def _p_minus_1(n: int, step: int, b1: int, b2: int) -> int | None:
     factor above ``b1``; stage two (the standard continuation, Montgomery
     1987) also when it has one more prime factor up to ``b2``.
     """
+    import numpy as np
     a = pow(3, step, n)
     primes = _primes_below(b2 + 1)
     stop = int(np.searchsorted(primes, b1, side="right"))
@@ -557,6 +560,7 @@ def _ecm_curve(n: int, sigma: int, k: int, b1: int, b2: int) -> int | None:
 
 @lru_cache(maxsize=16)
 def _prime_flags(limit: int) -> np.ndarray:
+    import numpy as np
     flags = np.zeros(limit + 1, dtype=bool)
     flags[_primes_below(limit + 1)] = True
     return flags

@@ -17,9 +17,10 @@ from __future__ import annotations
 
 from bisect import bisect_left
 from dataclasses import dataclass, field
-from typing import Iterable, Iterator
+from typing import TYPE_CHECKING, Iterable, Iterator
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 from ..model import FALSE, TRUE, Aig
 from ..words import plural
@@ -97,6 +98,7 @@ def _mux_vec(aig: Aig, s: int, a: list[int], b: list[int]) -> list[int]:
 
 
 def _u64(codes: np.ndarray, width: int) -> np.ndarray:
+    import numpy as np
     if width > 64:
         raise ValueError(f"array evaluation needs a code of at most 64 bits, not {width}")
     return np.asarray(codes, dtype=np.uint64)
@@ -216,9 +218,11 @@ class Sequence:
             raise ValueError(f"expected {self.width} code bits, got {len(bits)}")
 
     def _np_mask(self) -> np.uint64:
+        import numpy as np
         return np.uint64(self.mask)
 
     def _np_fits(self, a: np.ndarray) -> np.ndarray:
+        import numpy as np
         if self.width >= 64:
             return np.ones(a.shape, dtype=bool)
         return a <= self._np_mask()
@@ -296,10 +300,12 @@ class RangeSequence(Sequence):
         return self._wrapping(aig, bits, self.start, self.end, not self.up)
 
     def member_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         return (a >= np.uint64(self.lo)) & (a <= np.uint64(self.hi))
 
     def next_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         stepped = a + np.uint64(1) if self.up else a - np.uint64(1)
         return np.where(a == np.uint64(self.end), np.uint64(self.start), stepped)
@@ -376,6 +382,7 @@ class BcdSequence(Sequence):
         return out
 
     def member_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         ok = self._np_fits(a)
         for k in range(self.digits):
@@ -383,6 +390,7 @@ class BcdSequence(Sequence):
         return ok
 
     def next_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         out = np.zeros_like(a)
         carry = np.ones(a.shape, dtype=bool)
@@ -462,6 +470,7 @@ class GraySequence(Sequence):
         return self._np_fits(_u64(codes, self.width))
 
     def next_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         b = (_gray_to_binary(a, self.width) + np.uint64(1)) & self._np_mask()
         return b ^ (b >> np.uint64(1))
@@ -522,6 +531,7 @@ class JohnsonSequence(Sequence):
         return self._np_fits(a) & (_low_ones(a) | _low_ones(a ^ m))
 
     def next_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         top = (a >> np.uint64(self.width - 1)) & np.uint64(1)
         return ((a << np.uint64(1)) | (top ^ np.uint64(1))) & self._np_mask()
@@ -578,10 +588,12 @@ class RingSequence(Sequence):
         return bits[1:] + [bits[0]]
 
     def member_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         return self._np_fits(a) & (a != 0) & ((a & (a - np.uint64(1))) == 0)
 
     def next_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         return ((a << np.uint64(1)) | (a >> np.uint64(self.width - 1))) & self._np_mask()
 
@@ -667,6 +679,7 @@ class LfsrSequence(Sequence):
         return self._np_fits(a) & (a != 0)
 
     def next_array(self, codes: np.ndarray) -> np.ndarray:
+        import numpy as np
         a = _u64(codes, self.width)
         fb = np.zeros_like(a)
         for t in self.taps:
@@ -812,6 +825,7 @@ class ListSequence(Sequence):
 
     # --- arrays -----------------------------------------------------------
     def _get_arrays(self) -> tuple[np.ndarray, np.ndarray]:
+        import numpy as np
         if self._arrays is None:
             srt = np.array(self._sorted, dtype=np.uint64)
             nxt = np.array([self._step(c) for c in self._sorted], dtype=np.uint64)
@@ -819,6 +833,7 @@ class ListSequence(Sequence):
         return self._arrays
 
     def _positions(self, a: np.ndarray) -> np.ndarray:
+        import numpy as np
         srt, _ = self._get_arrays()
         return np.minimum(np.searchsorted(srt, a), len(srt) - 1)
 

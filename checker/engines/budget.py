@@ -5,13 +5,20 @@ it got with ``Budget.report(depth=...)``. ``run_bounded`` runs a claim in a
 forked child when a timeout is set, so a solver call that cannot be
 interrupted (python-sat's CaDiCaL cannot) is still stopped: the claim is then
 ``open`` with the progress last reported, never ``proved``.
+
+The child is forked with ``os.fork`` and answers through a pipe (pickles,
+each behind its length), not through ``multiprocessing``: importing that
+package and its pipes took 30 to 45 ms of every command's start, longer
+than a small claim takes to prove.
 """
 
 from __future__ import annotations
 
-import multiprocessing as mp
 import os
+import pickle
+import select
 import signal
+import sys
 import time
 from dataclasses import dataclass, field
 from typing import Any, Callable, Optional
@@ -104,6 +111,43 @@ def _die_with_parent() -> None:
         pass
 
 
+class _Sender:
+    """The child's end of the pipe: ``send`` writes one pickle behind its length."""
+
+    def __init__(self, fd: int) -> None:
+        self.fd = fd
+
+    def send(self, obj: Any) -> None:
+        data = pickle.dumps(obj, protocol=pickle.HIGHEST_PROTOCOL)
+        view = memoryview(len(data).to_bytes(8, "little") + data)
+        while view:
+            view = view[os.write(self.fd, view):]
+
+    def close(self) -> None:
+        os.close(self.fd)
+
+
+def _read_exactly(fd: int, n: int) -> Optional[bytes]:
+    """``n`` bytes from ``fd``, or None at the end of the stream (the child is gone)."""
+    parts, got = [], 0
+    while got < n:
+        chunk = os.read(fd, n - got)
+        if not chunk:
+            return None
+        parts.append(chunk)
+        got += len(chunk)
+    return b"".join(parts)
+
+
+def _receive(fd: int) -> Optional[Any]:
+    """The next message of the child, or None when the pipe ended before a whole one."""
+    head = _read_exactly(fd, 8)
+    if head is None:
+        return None
+    data = _read_exactly(fd, int.from_bytes(head, "little"))
+    return None if data is None else pickle.loads(data)
+
+
 def _child(conn, fn, deadline, parent_pid):
     # A terminal's Ctrl-C goes to its foreground process group. The child
     # leaves that group, so an interrupt reaches only the parent, which kills
@@ -123,6 +167,47 @@ def _child(conn, fn, deadline, parent_pid):
         conn.close()
 
 
+def _forked(fn: Callable[[Budget], Any], deadline: Optional[float]) -> tuple[int, int]:
+    """Fork a child that runs ``fn`` and sends what it reports; returns (its pid, the pipe to read)."""
+    for stream in (sys.stdout, sys.stderr):  # what the parent buffered is printed once, by the parent
+        try:
+            stream.flush()
+        except (OSError, ValueError, AttributeError):
+            pass
+    parent_pid = os.getpid()
+    r, w = os.pipe()
+    pid = os.fork()
+    if pid == 0:  # the child never returns from here
+        code = 1
+        try:
+            os.close(r)
+            _child(_Sender(w), fn, deadline, parent_pid)
+            code = 0
+        except BaseException:  # the parent sees the pipe end without an answer
+            pass
+        finally:
+            os._exit(code)
+    os.close(w)
+    return pid, r
+
+
+def _end(pid: int, kill: bool) -> int:
+    """Wait for the child (killed first when ``kill``); its exit code, negative for a signal."""
+    if kill:
+        try:
+            os.kill(pid, signal.SIGKILL)
+        except ProcessLookupError:
+            pass
+    while True:
+        try:
+            _, status = os.waitpid(pid, 0)
+            return os.waitstatus_to_exitcode(status)
+        except ChildProcessError:
+            return 0
+        except InterruptedError:
+            continue
+
+
 def run_bounded(fn: Callable[[Budget], Any], timeout: Optional[float],
                 isolate: bool = False, watch: Optional[Callable[[dict], None]] = None) -> tuple[Any, dict, bool]:
     """Run ``fn(budget)``; returns (result, progress, finished).
@@ -137,27 +222,24 @@ def run_bounded(fn: Callable[[Budget], Any], timeout: Optional[float],
     if timeout is None and not isolate:
         b = Budget(watch=watch)
         return fn(b), b.progress, True
-    ctx = mp.get_context("fork")
-    parent, child = ctx.Pipe(duplex=False)
     start = time.monotonic()
-    proc = ctx.Process(target=_child, args=(child, fn, None if timeout is None else start + timeout, os.getpid()),
-                       daemon=True)
-    proc.start()
-    child.close()
+    pid, fd = _forked(fn, None if timeout is None else start + timeout)
     progress: dict = {}
     hard = None if timeout is None else start + timeout + min(2.0, 0.1 * timeout + 0.2)
+    reaped = False
     try:
         while True:
             left = None if hard is None else hard - time.monotonic()
-            if left is not None and left <= 0 or not parent.poll(left):
+            if left is not None and left <= 0 or not select.select([fd], [], [], left)[0]:
                 break
-            try:
-                kind, payload = parent.recv()
-            except EOFError:
+            msg = _receive(fd)
+            if msg is None:
                 if hard is None:  # no deadline killed it: the child died on its own
-                    proc.join(5)
-                    raise RuntimeError(f"the worker process ended without an answer (exit code {proc.exitcode})") from None
+                    code = _end(pid, kill=False)
+                    reaped = True
+                    raise RuntimeError(f"the worker process ended without an answer (exit code {code})") from None
                 break
+            kind, payload = msg
             if kind == "progress":
                 progress = payload
                 if watch is not None:
@@ -170,8 +252,7 @@ def run_bounded(fn: Callable[[Budget], Any], timeout: Optional[float],
             else:
                 raise payload
     finally:
-        if proc.is_alive():
-            proc.kill()
-        proc.join()
-        parent.close()
+        if not reaped:
+            _end(pid, kill=True)
+        os.close(fd)
     return None, progress, False

@@ -8,9 +8,10 @@ inputs (bit-parallel), for exhaustive engines and for tests.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Optional, Sequence
+from typing import TYPE_CHECKING, Optional, Sequence
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 from .aig import evaluate
 from .circuit import Model
@@ -93,6 +94,7 @@ def leaf_arrays(model: Model, code: Sequence[int], codes: np.ndarray,
     states not in it are 0. ``inputs`` gives a bool array (or scalar) per input
     bit name; missing inputs are 0.
     """
+    import numpy as np
     n = len(codes)
     codes = codes.astype(np.uint64, copy=False)
     w = len(code)
@@ -112,6 +114,7 @@ def leaf_arrays(model: Model, code: Sequence[int], codes: np.ndarray,
 
 def eval_states(model: Model, roots: Sequence[int], leaves: dict[int, np.ndarray], n: int) -> list[np.ndarray]:
     """Evaluate literals ``roots`` bit-parallel over ``n`` samples (bool arrays)."""
+    import numpy as np
     ones = np.ones(n, dtype=bool)
     needed = {}
     for node in model.aig.cone(roots):
@@ -123,6 +126,7 @@ def eval_states(model: Model, roots: Sequence[int], leaves: dict[int, np.ndarray
 
 def pack_codes(bits_msb_first: Sequence[np.ndarray]) -> np.ndarray:
     """Integers (uint64) from bool arrays, most significant first (width <= 64)."""
+    import numpy as np
     assert len(bits_msb_first) <= 64
     n = len(bits_msb_first[0]) if bits_msb_first else 0
     out = np.zeros(n, dtype=np.uint64)

@@ -9,9 +9,10 @@ claims floor builds one from each check.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
-import numpy as np
+if TYPE_CHECKING:
+    import numpy as np
 
 from ..errors import Pos
 from .aig import Aig
