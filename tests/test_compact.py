@@ -45,6 +45,20 @@ def small_chunks(monkeypatch):
 
 # --- the compact engine against the former one -------------------------------------
 
+def same_successors(new, old) -> bool:
+    """The same next codes from every unused code (the compact table folds rows that add
+    nothing there), every kept row one of the former rows with its inputs."""
+    unused = np.flatnonzero(~old.member)
+    for c in unused.tolist():
+        if set(new.succ[:, c].tolist()) != set(old.succ[:, c].tolist()):
+            return False
+    for r, full in enumerate(new.rows.full):
+        i = old.rows.full.index(full)
+        if not np.array_equal(new.succ[r], old.succ[i]):
+            return False
+    return True
+
+
 @SETTINGS
 @given(designs, st.sampled_from([64, 128, 1 << 21]))
 def test_compact_matches_the_former_engine(text, chunk):
@@ -58,7 +72,7 @@ def test_compact_matches_the_former_engine(text, chunk):
     finally:
         C.CHUNK = saved
     assert new.graph.succ.dtype == np.uint32 and new.steps.dtype == np.int32
-    assert np.array_equal(new.graph.succ, old.graph.succ)
+    assert same_successors(new.graph, old.graph)
     assert np.array_equal(new.graph.member, old.graph.member)
     assert np.array_equal(new.steps, old.steps)
     assert new.locked_json() == old.locked_json()

@@ -49,6 +49,7 @@ from ..model.events import EventModel, packed, unpacked
 from ..model.space import CodeSpace
 from .cascade import Exploration
 from . import compact as C
+from . import strategy as S
 
 ASYNC_MAX_WIDTH = 16
 """Widest code of an asynchronous design whose every clock the explicit engine explores."""
@@ -75,6 +76,9 @@ QUEUE_FRONTIER = 256
 """Below this many codes decided in a round (after VECTOR_ROUNDS rounds), depth goes by a work queue."""
 
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
+
+SCC_LIMIT = 1 << 20
+"""Most locked codes, with several input rows, whose strongly connected sets are all listed."""
 
 
 def _tick(budget: Optional[Budget], depth: int) -> None:
@@ -147,6 +151,8 @@ class Analysis:
     unused_count: int = 0
     rounds: int = 0
     locked_total: int = -1
+    sets_complete: bool = True
+    """False when ``locked_sets`` are cycles found, not every strongly connected set (see :func:`analyse`)."""
 
     def __post_init__(self) -> None:
         if self.locked_total < 0:
@@ -324,8 +330,10 @@ def build_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] = None, c
         need = C.memory_needed(w, len(rows))
         if w > MAX_WIDTH or need > C.MEMORY_LIMIT:
             raise ValueError(f"the explicit engine would need {C.gib(need)}, over its {C.gib(C.MEMORY_LIMIT)}")
-        succ = C.successors(space, rows.values, rows.names, budget)
-        return Graph.of(w, succ, rows, C.members(space, budget))
+        member = C.members(space, budget)
+        succ, kept = C.folded_successors(space, rows.values, rows.names, member, budget)
+        rows = Rows(rows.names, [rows.values[r] for r in kept], [rows.full[r] for r in kept])
+        return Graph(w, succ, rows, member)
     m = space.model
     n = 1 << w
     total = n * len(rows)
@@ -647,24 +655,37 @@ def _cycles(g: Graph, steps: np.ndarray) -> list[np.ndarray]:
 def analyse(g: Graph, budget: Optional[Budget] = None, compact: bool = True) -> Analysis:
     """Exact worst steps of every unused code, the locked codes and every locked cycle set.
 
-    ``compact=False`` ranks a one-successor graph as the engine did before the
-    compact tables (pointer jumping over every code, 64-bit cycle search)."""
+    Several rows (compact): strategy improvement over one-successor tables
+    (:mod:`checker.engines.strategy`); the locked sets are the strongly
+    connected sets of the whole graph up to :data:`SCC_LIMIT` locked codes,
+    and beyond it the cycles of the final strategy (each an admissible run
+    that stays out forever; ``sets_complete`` is then False).
+    ``compact=False`` ranks as the engine did before the compact tables
+    (pointer jumping over every code, retrograde rounds, 64-bit cycle search)."""
+    strat = None
     if g.deterministic and compact:
         steps, rounds = C.depth_functional(g.succ[0], g.member, budget)
     elif g.deterministic:
         steps, rounds = _depth_functional(g, budget)
+    elif compact:
+        steps, rounds, strat, _ = S.worst_depths(g.succ, g.member, budget)
     else:
         steps, rounds = _depth_game(g, budget)
     count = g.size - int(np.count_nonzero(g.member))
     if count == 0:
         return Analysis(g, steps, 0, None, [], 0, rounds)
+    complete = True
     if g.deterministic and compact:
         sets, total = C.functional_cycles(g.succ[0], steps, budget)
+    elif strat is not None and int(np.count_nonzero(steps < 0)) > SCC_LIMIT:
+        sets, total = C.functional_cycles(strat, steps, budget)
+        complete = False
     else:
+        del strat
         sets = _cycles(g, steps)
         total = len(sets)
     if sets or bool((steps < 0).any()):  # a sequence code's steps are 0
-        return Analysis(g, steps, None, None, sets, count, rounds, total)
+        return Analysis(g, steps, None, None, sets, count, rounds, total, complete)
     worst_code = int(np.argmax(steps))
     return Analysis(g, steps, int(steps[worst_code]), worst_code, sets, count, rounds)
 
