@@ -30,12 +30,17 @@ from hypothesis import strategies as st
 from checker.claims.common import stepping
 from checker.engines import compact as C
 from checker.engines import explicit as X
+from checker.engines import strategy as S
+from checker.engines import walks as W
 
 from test_explicit import condition, designs, load_text
 from test_recover import tail_counter
 from test_limits import run
 
 SETTINGS = settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+FIXED = settings(max_examples=100, deadline=None,
+                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture])
+"""For tests whose fixture only sets constants (the same for every example)."""
 
 
 @pytest.fixture
@@ -135,6 +140,107 @@ def test_depth_and_cycles_match_networkx(gm, chunk):
     unused = g.subgraph([c for c in range(n) if not member[c]])
     cycles = sorted(sorted(cy) for cy in nx.simple_cycles(unused))
     assert [s.tolist() for s in sets] == cycles
+
+
+@st.composite
+def random_tables(draw, rows: int = 1):
+    """(succ[rows, n], member): successors drawn at random (trees, merges, short and long
+    cycles, no runs to contract), or a random permutation (every code on a cycle)."""
+    w = draw(st.integers(1, 9))
+    n = 1 << w
+    rnd = np.random.default_rng(draw(st.integers(0, 2 ** 32 - 1)))
+    kind = draw(st.sampled_from(["random", "permutation", "near"]))
+    out = []
+    for _ in range(rows):
+        if kind == "random":
+            succ = rnd.integers(0, n, n)
+        elif kind == "permutation":
+            succ = rnd.permutation(n)
+        else:  # mostly a step of a few codes forward: long paths and big cycles
+            succ = (np.arange(n) + rnd.integers(1, 4, n)) % n
+        out.append(succ)
+    member = rnd.random(n) < draw(st.sampled_from([0.0, 0.02, 0.2]))
+    return np.array(out, dtype=np.uint32), member
+
+
+def reference_depths(succ: np.ndarray, member: np.ndarray) -> tuple[list[int], list[list[int]]]:
+    """Worst clocks to the sequence over every row (-1: some run stays out forever) and the
+    strongly connected sets of unused codes holding a cycle, by networkx."""
+    n = succ.shape[1]
+    g = nx.DiGraph()
+    g.add_nodes_from(c for c in range(n) if not member[c])
+    g.add_edges_from((c, int(y)) for c in range(n) if not member[c] for y in succ[:, c] if not member[y])
+    sets = sorted(sorted(s) for s in nx.strongly_connected_components(g)
+                  if len(s) > 1 or g.has_edge(next(iter(s)), next(iter(s))))
+    cyclic = set().union(*sets) if sets else set()
+    locked = {c for c in g if c in cyclic or any(d in cyclic for d in nx.descendants(g, c))}
+    steps = [0 if member[c] else -1 for c in range(n)]
+    for c in reversed(list(nx.topological_sort(g.subgraph(set(g) - locked)))):
+        steps[c] = 1 + max((steps[int(y)] for y in succ[:, c]), default=0)
+    return steps, sets
+
+
+@pytest.fixture
+def tiny_walks(monkeypatch):
+    """Chunks of 64 nodes and a start every 4 or so: every batch boundary and merge is met."""
+    monkeypatch.setattr(W, "CHUNK", 64)
+    monkeypatch.setattr(W, "SPACING", 4)
+    monkeypatch.setattr(C, "CHUNK", 64)
+
+
+@FIXED
+@given(random_tables())
+def test_walks_rank_random_tables_like_networkx(tiny_walks, table):
+    succ, member = table
+    steps, _ = C.depth_functional(succ[0], member)
+    sets, total = C.functional_cycles(succ[0], steps)
+    want, want_sets = reference_depths(succ, member)
+    assert steps.tolist() == want
+    assert [s.tolist() for s in sets] == want_sets and total == len(want_sets)
+
+
+@FIXED
+@given(random_tables(), st.integers(1, 3))
+def test_cycles_listed_up_to_a_limit_are_the_smallest(tiny_walks, table, limit):
+    succ, member = table
+    steps, _ = C.depth_functional(succ[0], member)
+    sets, total = C.functional_cycles(succ[0], steps, limit=limit)
+    _, want = reference_depths(succ, member)
+    assert total == len(want) and [s.tolist() for s in sets] == want[:limit]
+
+
+@FIXED
+@given(st.integers(2, 3).flatmap(random_tables))
+def test_several_rows_worst_depths_like_networkx(tiny_walks, table):
+    """Strategy improvement against the longest paths and cycles networkx finds."""
+    succ, member = table
+    steps, _, strat, _ = S.worst_depths(succ, member)
+    want, want_sets = reference_depths(succ, member)
+    assert steps.tolist() == want
+    unused = ~member
+    assert all(int(strat[c]) in succ[:, c].tolist() for c in np.flatnonzero(unused).tolist())
+    g = X.Graph(succ.shape[1].bit_length() - 1, succ, X.Rows([], [[]] * succ.shape[0], [{}] * succ.shape[0]), member)
+    a = X.analyse(g)
+    assert a.locked_json() == want_sets and a.sets_complete
+    old = X.analyse(g, compact=False)
+    assert np.array_equal(old.steps, steps) and old.locked_json() == want_sets
+
+
+def test_beyond_the_set_limit_the_strategy_cycles_are_listed(monkeypatch):
+    """Above SCC_LIMIT locked codes with several rows, the cycles of one admissible run each
+    are listed and the listing says it is not every set."""
+    monkeypatch.setattr(X, "SCC_LIMIT", 4)
+    n = 16
+    hold = np.arange(n, dtype=np.uint32)  # every code stays put under row 0
+    step = ((np.arange(n) + 1) % n).astype(np.uint32)
+    member = np.zeros(n, dtype=bool)
+    member[0] = True
+    g = X.Graph(4, np.array([hold, step]), X.Rows([], [[], []], [{}, {}]), member)
+    a = X.analyse(g)
+    assert not a.sets_complete and a.worst is None
+    assert a.locked_total == len(a.locked_sets) >= 1
+    for s in a.locked_sets:  # each listed cycle is a real one
+        assert all(int(step[c]) in s.tolist() or int(hold[c]) in s.tolist() for c in s.tolist())
 
 
 # --- the bit-plane transpose -----------------------------------------------------

@@ -57,29 +57,15 @@ def sampled(lo: int, hi: int) -> np.ndarray:
     return ((np.arange(lo, hi, dtype=np.uint32) * _HASH) >> shift) == 0
 
 
-@dataclass
-class Walks:
-    """Where the walks went: ``owner[v]`` the walk that passed node v (-1: none), ``off[v]``
-    its distance from that walk's start (when asked for); ``stop[i]`` the node where walk i
-    stopped (-1: it left the graph) and ``length[i]`` the distance from its start to there."""
-
-    owner: np.ndarray
-    off: Optional[np.ndarray]
-    stop: np.ndarray
-    length: Optional[np.ndarray]
-    passes: list[int]
-    """The number of walks after each pass (a walk stops only on the path of one of its own pass or before)."""
-
-
 Alive = Callable[[int, int], np.ndarray]
 """Nodes lo..hi-1 to whether each belongs to the graph."""
 
+Pick = Callable[[int, int], np.ndarray]
+"""Nodes lo..hi-1 to whether each starts a walk (among those alive and not yet passed)."""
 
-def walk(k: int, step: Step, alive: Optional[Alive] = None, distances: bool = True,
-         cover_all: bool = False, budget: Optional[Budget] = None) -> Walks:
-    """Walks over nodes 0..k-1 (those ``alive``, when given) from every hashed node, then
-    from every node without a predecessor that no walk passed; with ``cover_all`` also from every node no walk passed
-    (those lie on cycles without a start). ``distances``: keep ``off`` and ``length``."""
+
+def _has_pred(k: int, step: Step, alive: Optional[Alive], budget: Optional[Budget]) -> np.ndarray:
+    """Whether some node of the graph leads to each node."""
     has_pred = np.zeros(k, dtype=bool)
     for lo in range(0, k, CHUNK):
         _tick(budget)
@@ -88,41 +74,41 @@ def walk(k: int, step: Step, alive: Optional[Alive] = None, distances: bool = Tr
         if alive is not None:
             nxt = nxt[alive(lo, hi)]
         has_pred[nxt[nxt >= 0]] = True
-    owner = np.full(k, -1, dtype=np.int32)
-    off = np.zeros(k, dtype=np.int32) if distances else None
-    stops: list[np.ndarray] = []
-    lengths: list[np.ndarray] = []
-    count = 0
-    firsts: list[int] = []
-    # hashed starts first, then the nodes without a predecessor (their walks are mostly
-    # short and stop on the first ones' paths), then, for cycles, every node left
-    passes = [sampled, lambda lo, hi: ~has_pred[lo:hi]]
-    if cover_all:
-        passes.append(lambda lo, hi: np.ones(hi - lo, dtype=bool))
-    for starts_in in passes:
-        found = []
-        for lo in range(0, k, CHUNK):
-            hi = min(k, lo + CHUNK)
-            mask = starts_in(lo, hi) & (owner[lo:hi] < 0)
-            if alive is not None:
-                mask &= alive(lo, hi)
-            found.append((np.flatnonzero(mask) + lo).astype(np.int32))
-        starts = np.concatenate(found) if found else np.zeros(0, dtype=np.int32)
-        del found
-        # every start is claimed before any walk moves: a walk stops at the next start
-        owner[starts] = np.arange(count, count + starts.size, dtype=np.int32)
-        for lo in range(0, starts.size, CHUNK):
-            stop, length = _advance(starts[lo:lo + CHUNK], count + lo, owner, off, step, distances, budget)
-            stops.append(stop)
-            if distances:
-                lengths.append(length)
-        count += starts.size
-        firsts.append(count)
-        del starts
-    empty = np.zeros(0, dtype=np.int32)
-    stop = np.concatenate(stops) if stops else empty
-    length = (np.concatenate(lengths) if lengths else empty) if distances else None
-    return Walks(owner, off, stop, length, firsts)
+    return has_pred
+
+
+def _starts(lo: int, hi: int, pick: Pick, owner: np.ndarray, alive: Optional[Alive]) -> np.ndarray:
+    mask = pick(lo, hi) & (owner[lo:hi] < 0)
+    if alive is not None:
+        mask &= alive(lo, hi)
+    return (np.flatnonzero(mask) + lo).astype(np.int32)
+
+
+def _claim(k: int, pick: Pick, owner: np.ndarray, alive: Optional[Alive], first: int) -> np.ndarray:
+    """Every start ``pick`` names, numbered from ``first`` and claimed in ``owner`` (counted
+    first, so that the list is built once)."""
+    total = sum(_starts(lo, min(k, lo + CHUNK), pick, owner, alive).size for lo in range(0, k, CHUNK))
+    starts = np.empty(total, dtype=np.int32)
+    at = 0
+    for lo in range(0, k, CHUNK):
+        got = _starts(lo, min(k, lo + CHUNK), pick, owner, alive)
+        starts[at:at + got.size] = got
+        at += got.size
+    owner[starts] = np.arange(first, first + total, dtype=np.int32)
+    return starts
+
+
+def _walk_all(starts: np.ndarray, first: int, owner: np.ndarray, off: Optional[np.ndarray], step: Step,
+              budget: Optional[Budget]) -> tuple[np.ndarray, Optional[np.ndarray]]:
+    """Walks from claimed ``starts``, :data:`CHUNK` at a time: (stop, length) of each."""
+    stop = np.empty(starts.size, dtype=np.int32)
+    length = np.empty(starts.size, dtype=np.int32) if off is not None else None
+    for lo in range(0, starts.size, CHUNK):
+        st, ln = _advance(starts[lo:lo + CHUNK], first + lo, owner, off, step, off is not None, budget)
+        stop[lo:lo + st.size] = st
+        if length is not None:
+            length[lo:lo + ln.size] = ln
+    return stop, length
 
 
 def _advance(starts: np.ndarray, first: int, owner: np.ndarray, off: Optional[np.ndarray], step: Step,
@@ -202,29 +188,70 @@ def resolve(ptr: np.ndarray, acc: np.ndarray, budget: Optional[Budget] = None) -
             return rounds
 
 
+def _pointers(stop: np.ndarray, length: np.ndarray, owner: np.ndarray, off: np.ndarray) -> None:
+    """Walks' stops and lengths rewritten in place into pointers to walks and weights: a walk
+    that stopped on walk j's path at distance d from j's start is ``length - d`` before j."""
+    for lo in range(0, stop.size, CHUNK):
+        s = stop[lo:lo + CHUNK]
+        inside = s >= 0
+        at = s[inside]
+        length[lo:lo + CHUNK][inside] -= off[at]
+        s[inside] = owner[at]
+
+
 def depths(k: int, step: Step, alive: Optional[Alive] = None,
            budget: Optional[Budget] = None) -> tuple[np.ndarray, int]:
     """Distance from every node to where it leaves the graph (int32; -1: never, a cycle).
 
-    The result is the walks' ``off`` array, rewritten in place."""
-    wk = walk(k, step, alive, True, False, budget)
-    ptr, acc = wk.stop, wk.length  # rewritten in place into the walks' pointers and weights
-    for lo in range(0, ptr.size, CHUNK):
-        s = ptr[lo:lo + CHUNK]
-        inside = s >= 0
-        at = s[inside]
-        acc[lo:lo + CHUNK][inside] -= wk.off[at]
-        s[inside] = wk.owner[at]
-    rounds = 0
-    for end in wk.passes:  # each pass's walks point into its own or earlier ones, already resolved
-        rounds += resolve(ptr[:end], acc[:end], budget)
-    top = np.where(ptr == SEQ, acc, np.int32(-1)).astype(np.int32)
-    del ptr, acc
-    out = wk.off
+    First the walks from hashed nodes, ranked together (about one walk per
+    SPACING nodes); then, a chunk at a time, the walks from nodes without a
+    predecessor (trees hanging off the first walks' paths, often one node in
+    two), each chunk ranked on its own: such a walk stops on a path walked
+    before, or on one of its own chunk, never on a later one (nothing leads
+    to a node without a predecessor). At most 13.5 bytes a node besides the
+    graph; the result is the walks' distance array, rewritten in place.
+    """
+    has_pred = _has_pred(k, step, alive, budget)
+    owner = np.full(k, -1, dtype=np.int32)
+    off = np.zeros(k, dtype=np.int32)
+    starts = _claim(k, sampled, owner, alive, 0)
+    ptr, acc = _walk_all(starts, 0, owner, off, step, budget)
+    first = starts.size
+    del starts
+    _pointers(ptr, acc, owner, off)
+    rounds = resolve(ptr, acc, budget)
+    acc[ptr != SEQ] = -1
+    del ptr
+
+    def leaf(lo: int, hi: int) -> np.ndarray:
+        return ~has_pred[lo:hi]
+
+    more = sum(_starts(lo, min(k, lo + CHUNK), leaf, owner, alive).size for lo in range(0, k, CHUNK))
+    dist = np.empty(first + more, dtype=np.int32)  # clocks from each walk's start, -1: never
+    dist[:first] = acc
+    del acc
+    for lo in range(0, k, CHUNK):
+        got = _starts(lo, min(k, lo + CHUNK), leaf, owner, alive)
+        if got.size == 0:
+            continue
+        owner[got] = np.arange(first, first + got.size, dtype=np.int32)
+        p, a = _walk_all(got, first, owner, off, step, budget)
+        _pointers(p, a, owner, off)
+        done = (p >= 0) & (p < first)  # onto an earlier walk: its distance is known
+        d = dist[p[done]]
+        p[done] = np.where(d < 0, LOCKED, SEQ)
+        a[done] += np.maximum(d, 0)
+        mine = p >= first
+        p[mine] -= np.int32(first)
+        rounds = max(rounds, resolve(p, a, budget))
+        dist[first:first + got.size] = np.where(p == SEQ, a, np.int32(-1))
+        first += got.size
+    del has_pred
+    out = off
     for lo in range(0, k, CHUNK):
         _tick(budget, rounds)
-        o = wk.owner[lo:lo + CHUNK]
-        t = top[np.maximum(o, 0)] if top.size else np.full(o.size, -1, dtype=np.int32)
+        o = owner[lo:lo + CHUNK]
+        t = dist[np.maximum(o, 0)] if dist.size else np.full(o.size, -1, dtype=np.int32)
         seg = out[lo:lo + CHUNK]
         np.subtract(t, seg, out=seg)
         seg[(o < 0) | (t < 0)] = -1
@@ -240,9 +267,19 @@ def cycles(k: int, step: Step, alive: Optional[Alive] = None, budget: Optional[B
     such a cycle stopped lies on the real cycle, and the real cycle is the stretches from
     those nodes to the next of them, walked once more.
     """
-    wk = walk(k, step, alive, False, True, budget)
-    owner = wk.owner
-    tgt = owner[wk.stop]  # every walk stops at a passed node: the graph is closed
+    owner = np.full(k, -1, dtype=np.int32)
+    has_pred = _has_pred(k, step, alive, budget)
+    stops = []
+    count = 0
+    for pick in (sampled, lambda lo, hi: ~has_pred[lo:hi], lambda lo, hi: np.ones(hi - lo, dtype=bool)):
+        starts = _claim(k, pick, owner, alive, count)  # a third pass: cycles no walk reached
+        stops.append(_walk_all(starts, count, owner, None, step, budget)[0])
+        count += starts.size
+        del starts
+    del has_pred
+    stop = np.concatenate(stops)
+    del stops
+    tgt = owner[stop]  # every walk stops at a passed node: the graph is closed
     size = tgt.size
     if size == 0:
         return [], 0
@@ -261,9 +298,9 @@ def cycles(k: int, step: Step, alive: Optional[Alive] = None, budget: Optional[B
         _tick(budget)
         lab = np.minimum(lab, lab[q])
         q = q[q]
-    anchors, first = np.unique(wk.stop[on], return_index=True)
+    anchors, first = np.unique(stop[on], return_index=True)
     lab = lab[first]
-    del tgt, q, wk
+    del tgt, q, stop
     label = owner  # reused: the cycle of each node on one, -1 elsewhere
     label.fill(-1)
     is_anchor = np.zeros(k, dtype=bool)
