@@ -36,9 +36,11 @@ MEMORY_LIMIT = 8 << 30
 CHUNK = 1 << 21
 """Codes evaluated, or ranked, per pass (a multiple of 64 and a power of two)."""
 
-BASE_BYTES = 256 << 20
+BASE_BYTES = 512 << 20
 """Bytes a run holds besides its tables: the interpreter and libraries (about 110 MiB resident),
-a chunk's temporaries, and, up to 2^20 codes, the second analysis of a repair plan."""
+a chunk's temporaries, up to 2^20 codes the second analysis of a repair plan, the listed cycles'
+own records (up to 2^16, about 200 bytes each), and with several input rows the strongly
+connected sets of up to 2^20 locked codes (about 180 bytes a locked code)."""
 
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
 SETS_LIMIT = 1 << 16
@@ -56,19 +58,22 @@ _MASKS = [(np.uint64(0x00AA00AA00AA00AA), np.uint64(7)), (np.uint64(0x0000CCCC00
 def memory_needed(width: int, rows: int) -> int:
     """Upper bound on the bytes a compact run over 2^width codes and ``rows`` input rows holds.
 
-    One row: the table (4 bytes a code), the sequence mask (1) and the
-    depths (4), and while ranking or finding cycles at most 20 bytes more a
-    code (run ends, jumps and counters, or locked codes, their successors'
-    positions and a doubling of them, each 4 bytes). Several rows: the table
-    and its reversed form (24 bytes a code and row at the widest: the
-    destinations, the sort's 8-byte order, the sources and their sorted
-    copy), the mask, depths, counters, unused codes and the reversed
-    table's 8-byte offsets and their count (25 bytes a code).
+    Rows that lead nowhere new from an unused code are folded away, but the
+    bound counts every row. One row: the table (4 bytes a code) and the
+    sequence mask (1); while ranking at most 9.5 bytes a code more (the walk
+    that passed each code and its distance, whether a code has a
+    predecessor, the walks from hashed codes), the depths being those
+    distances rewritten; while finding cycles the depths (4) and at most 18
+    bytes a code (each code's walk, then cycle; 13 bytes a walk, at most one
+    walk a code; the listed cycles). 27 bytes a code. Several rows: the
+    table (4 bytes a code and row), the mask (1), the strategy (4), and at
+    most 11 bytes a code while ranking it, or the depths and 6 bytes while
+    listing cycles: 4 bytes a code and row and 16 a code.
     """
     n = 1 << width
     if rows <= 1:
-        return 29 * n + BASE_BYTES
-    return 24 * rows * n + 25 * n + BASE_BYTES
+        return 27 * n + BASE_BYTES
+    return (4 * rows + 16) * n + BASE_BYTES
 
 
 @contextmanager
@@ -331,24 +336,26 @@ def _positions(mask: np.ndarray, offset: int = 0) -> np.ndarray:
 
 
 def functional_cycles(succ: np.ndarray, steps: np.ndarray, budget: Optional[Budget] = None,
-                      limit: int = SETS_LIMIT) -> tuple[list[np.ndarray], int]:
+                      limit: int = SETS_LIMIT, first: Optional[int] = None) -> tuple[list[np.ndarray], int]:
     """The cycles among the locked codes (``steps < 0``) of a one-successor table, and how many.
 
     Returns the first ``limit`` cycles by smallest code (each sorted) and the
     number of cycles, found by walks between sampled codes
     (:func:`checker.engines.walks.cycles`). Many locked codes are walked in
-    place (about 5 bytes a code); few are first numbered (8 bytes a locked code).
+    place; few are first numbered (8 bytes a locked code). With ``first``:
+    only the cycles reached from the ``first`` smallest locked codes, walked
+    in place (4 bytes a code and the codes listed).
     """
     n = succ.size
     size = sum(int(np.count_nonzero(steps[b:b + CHUNK] < 0)) for b in range(0, n, CHUNK))
     if size == 0:
         return [], 0
-    if size * 4 > n:
+    if size * 4 > n or first is not None:
         def step(cur: np.ndarray) -> tuple[np.ndarray, None]:
             return succ[cur].astype(np.intp), None
 
-        sets, count = W.cycles(n, step, lambda lo, hi: steps[lo:hi] < 0, budget, limit)
-        return [s.astype(np.int64) for s in sets], count
+        sets, count = W.cycles(n, step, lambda lo, hi: steps[lo:hi] < 0, budget, limit, first)
+        return sets, count
     locked = np.concatenate([np.flatnonzero(steps[b:b + CHUNK] < 0).astype(np.int32) + np.int32(b)
                              for b in range(0, n, CHUNK)])
     pos = np.empty(size, dtype=np.int32)
@@ -360,4 +367,4 @@ def functional_cycles(succ: np.ndarray, steps: np.ndarray, budget: Optional[Budg
         return pos[cur].astype(np.intp), None
 
     sets, count = W.cycles(size, near, None, budget, limit)
-    return [locked[s].astype(np.int64) for s in sets], count
+    return [locked[s] for s in sets], count

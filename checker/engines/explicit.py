@@ -658,8 +658,10 @@ def analyse(g: Graph, budget: Optional[Budget] = None, compact: bool = True) -> 
     Several rows (compact): strategy improvement over one-successor tables
     (:mod:`checker.engines.strategy`); the locked sets are the strongly
     connected sets of the whole graph up to :data:`SCC_LIMIT` locked codes,
-    and beyond it the cycles of the final strategy (each an admissible run
-    that stays out forever; ``sets_complete`` is then False).
+    and beyond it the cycles the final strategy reaches from the smallest
+    :data:`compact.SETS_LIMIT` locked codes (each an admissible run that
+    stays out forever; ``sets_complete`` is then False, and ``locked_total``
+    counts those cycles).
     ``compact=False`` ranks as the engine did before the compact tables
     (pointer jumping over every code, retrograde rounds, 64-bit cycle search)."""
     strat = None
@@ -678,7 +680,8 @@ def analyse(g: Graph, budget: Optional[Budget] = None, compact: bool = True) -> 
     if g.deterministic and compact:
         sets, total = C.functional_cycles(g.succ[0], steps, budget)
     elif strat is not None and int(np.count_nonzero(steps < 0)) > SCC_LIMIT:
-        sets, total = C.functional_cycles(strat, steps, budget)
+        # beyond the limit: the cycles the strategy reaches from the smallest locked codes
+        sets, total = C.functional_cycles(strat, steps, budget, first=C.SETS_LIMIT)
         complete = False
     else:
         del strat

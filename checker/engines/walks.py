@@ -39,8 +39,6 @@ LOCKED = np.int32(-2)
 _HASH = np.uint32(0x9E3779B1)
 _INT32_MAX = np.iinfo(np.int32).max
 
-FEW_CYCLES = 64
-"""Up to this many cycles listed, each is picked out by a pass over the nodes on cycles."""
 
 Step = Callable[[np.ndarray], tuple[np.ndarray, Optional[np.ndarray]]]
 """Nodes to (their successors, -1 for one that leaves the graph; the weights of those edges or None for 1)."""
@@ -84,9 +82,11 @@ def _starts(lo: int, hi: int, pick: Pick, owner: np.ndarray, alive: Optional[Ali
     return (np.flatnonzero(mask) + lo).astype(np.int32)
 
 
-def _claim(k: int, pick: Pick, owner: np.ndarray, alive: Optional[Alive], first: int) -> np.ndarray:
-    """Every start ``pick`` names, numbered from ``first`` and claimed in ``owner`` (counted
-    first, so that the list is built once)."""
+def _claim(k: int, pick: Pick, owner: np.ndarray, alive: Optional[Alive],
+           first: Optional[int]) -> tuple[np.ndarray, np.ndarray]:
+    """Every start ``pick`` names and the name of each walk (``first``, ``first + 1``, ...,
+    or, with ``first`` None, its start node), claimed in ``owner``. The starts are counted
+    first, so that the list is built once."""
     total = sum(_starts(lo, min(k, lo + CHUNK), pick, owner, alive).size for lo in range(0, k, CHUNK))
     starts = np.empty(total, dtype=np.int32)
     at = 0
@@ -94,30 +94,30 @@ def _claim(k: int, pick: Pick, owner: np.ndarray, alive: Optional[Alive], first:
         got = _starts(lo, min(k, lo + CHUNK), pick, owner, alive)
         starts[at:at + got.size] = got
         at += got.size
-    owner[starts] = np.arange(first, first + total, dtype=np.int32)
-    return starts
+    ids = starts if first is None else np.arange(first, first + total, dtype=np.int32)
+    owner[starts] = ids
+    return starts, ids
 
 
-def _walk_all(starts: np.ndarray, first: int, owner: np.ndarray, off: Optional[np.ndarray], step: Step,
+def _walk_all(starts: np.ndarray, ids: np.ndarray, owner: np.ndarray, off: Optional[np.ndarray], step: Step,
               budget: Optional[Budget]) -> tuple[np.ndarray, Optional[np.ndarray]]:
-    """Walks from claimed ``starts``, :data:`CHUNK` at a time: (stop, length) of each."""
+    """Walks from claimed ``starts`` named ``ids``, :data:`CHUNK` at a time: (stop, length) of each."""
     stop = np.empty(starts.size, dtype=np.int32)
     length = np.empty(starts.size, dtype=np.int32) if off is not None else None
     for lo in range(0, starts.size, CHUNK):
-        st, ln = _advance(starts[lo:lo + CHUNK], first + lo, owner, off, step, off is not None, budget)
+        st, ln = _advance(starts[lo:lo + CHUNK], ids[lo:lo + CHUNK], owner, off, step, off is not None, budget)
         stop[lo:lo + st.size] = st
         if length is not None:
             length[lo:lo + ln.size] = ln
     return stop, length
 
 
-def _advance(starts: np.ndarray, first: int, owner: np.ndarray, off: Optional[np.ndarray], step: Step,
+def _advance(starts: np.ndarray, ids: np.ndarray, owner: np.ndarray, off: Optional[np.ndarray], step: Step,
              distances: bool, budget: Optional[Budget]) -> tuple[np.ndarray, np.ndarray]:
-    """Walk from ``starts`` (numbered ``first``, ``first + 1``, ...) until each leaves the
-    graph or meets a node already passed; two walks reaching a node at once: the one
-    written last passes it, the others stop there."""
+    """Walk from ``starts`` (named ``ids`` in ``owner``) until each leaves the graph or meets
+    a node already passed; two walks reaching a node at once: the one written last passes
+    it, the others stop there."""
     size = starts.size
-    ids = np.arange(first, first + size, dtype=np.int32)
     stop = np.empty(size, dtype=np.int32)
     length = np.zeros(size, dtype=np.int32)
     cur, who = starts.astype(np.intp), np.arange(size, dtype=np.intp)
@@ -188,149 +188,207 @@ def resolve(ptr: np.ndarray, acc: np.ndarray, budget: Optional[Budget] = None) -
             return rounds
 
 
-def _pointers(stop: np.ndarray, length: np.ndarray, owner: np.ndarray, off: np.ndarray) -> None:
-    """Walks' stops and lengths rewritten in place into pointers to walks and weights: a walk
-    that stopped on walk j's path at distance d from j's start is ``length - d`` before j."""
-    for lo in range(0, stop.size, CHUNK):
-        s = stop[lo:lo + CHUNK]
-        inside = s >= 0
-        at = s[inside]
-        length[lo:lo + CHUNK][inside] -= off[at]
-        s[inside] = owner[at]
-
-
 def depths(k: int, step: Step, alive: Optional[Alive] = None,
            budget: Optional[Budget] = None) -> tuple[np.ndarray, int]:
     """Distance from every node to where it leaves the graph (int32; -1: never, a cycle).
 
-    First the walks from hashed nodes, ranked together (about one walk per
-    SPACING nodes); then, a chunk at a time, the walks from nodes without a
-    predecessor (trees hanging off the first walks' paths, often one node in
-    two), each chunk ranked on its own: such a walk stops on a path walked
-    before, or on one of its own chunk, never on a later one (nothing leads
-    to a node without a predecessor). At most 13.5 bytes a node besides the
-    graph; the result is the walks' distance array, rewritten in place.
+    A walk is named by its start node, and the distance from its start,
+    once known, is kept in the start's own slot of ``off`` (a start is 0
+    from itself). First the walks from hashed nodes, ranked together (about
+    one walk per SPACING nodes); then, a chunk at a time, the walks from
+    nodes without a predecessor (trees hanging off the first walks' paths,
+    often one node in two), each chunk ranked on its own: such a walk stops
+    on a path walked before, or on one of its own chunk, never on a later
+    one (nothing leads to a node without a predecessor). About 9.5 bytes a
+    node besides the graph; the result is ``off``, rewritten in place.
     """
     has_pred = _has_pred(k, step, alive, budget)
     owner = np.full(k, -1, dtype=np.int32)
     off = np.zeros(k, dtype=np.int32)
-    starts = _claim(k, sampled, owner, alive, 0)
-    ptr, acc = _walk_all(starts, 0, owner, off, step, budget)
-    first = starts.size
-    del starts
-    _pointers(ptr, acc, owner, off)
+
+    def gap(stop: np.ndarray) -> np.ndarray:
+        """Distance from the start of the walk that passed ``stop`` to it (a start: 0)."""
+        o = owner[stop]
+        return np.where(o == stop, np.int32(0), off[stop])
+
+    starts, _ = _claim(k, sampled, owner, alive, None)
+    ptr, acc = _walk_all(starts, starts, owner, off, step, budget)
+    inside = ptr >= 0
+    at = ptr[inside]
+    acc[inside] -= gap(at)
+    ptr[inside] = np.searchsorted(starts, owner[at]).astype(np.int32)  # starts are sorted
     rounds = resolve(ptr, acc, budget)
-    acc[ptr != SEQ] = -1
-    del ptr
+    off[starts] = np.where(ptr == SEQ, acc, np.int32(-1))
+    del starts, ptr, acc, inside, at
 
     def leaf(lo: int, hi: int) -> np.ndarray:
         return ~has_pred[lo:hi]
 
-    more = sum(_starts(lo, min(k, lo + CHUNK), leaf, owner, alive).size for lo in range(0, k, CHUNK))
-    dist = np.empty(first + more, dtype=np.int32)  # clocks from each walk's start, -1: never
-    dist[:first] = acc
-    del acc
     for lo in range(0, k, CHUNK):
         got = _starts(lo, min(k, lo + CHUNK), leaf, owner, alive)
         if got.size == 0:
             continue
-        owner[got] = np.arange(first, first + got.size, dtype=np.int32)
-        p, a = _walk_all(got, first, owner, off, step, budget)
-        _pointers(p, a, owner, off)
-        done = (p >= 0) & (p < first)  # onto an earlier walk: its distance is known
-        d = dist[p[done]]
-        p[done] = np.where(d < 0, LOCKED, SEQ)
-        a[done] += np.maximum(d, 0)
-        mine = p >= first
-        p[mine] -= np.int32(first)
+        owner[got] = got
+        p, a = _walk_all(got, got, owner, off, step, budget)
+        inside = p >= 0
+        at = p[inside]
+        o = owner[at]
+        a[inside] -= gap(at)
+        mine = np.zeros(p.size, dtype=bool)
+        mine[inside] = (o >= got[0]) & (o <= got[-1]) & (got[np.searchsorted(got, o).clip(0, got.size - 1)] == o)
+        known = inside.copy()
+        known[inside] = ~mine[inside]
+        d = off[owner[p[known]]]  # a walk ranked before: its distance is in its start's slot
+        p[known] = np.where(d < 0, LOCKED, SEQ)
+        a[known] += np.maximum(d, 0)
+        p[mine] = np.searchsorted(got, owner[p[mine]]).astype(np.int32)
         rounds = max(rounds, resolve(p, a, budget))
-        dist[first:first + got.size] = np.where(p == SEQ, a, np.int32(-1))
-        first += got.size
+        off[got] = np.where(p == SEQ, a, np.int32(-1))
     del has_pred
-    out = off
     for lo in range(0, k, CHUNK):
         _tick(budget, rounds)
         o = owner[lo:lo + CHUNK]
-        t = dist[np.maximum(o, 0)] if dist.size else np.full(o.size, -1, dtype=np.int32)
-        seg = out[lo:lo + CHUNK]
-        np.subtract(t, seg, out=seg)
-        seg[(o < 0) | (t < 0)] = -1
-    return out, rounds
+        seg = off[lo:lo + CHUNK]
+        me = np.arange(lo, lo + o.size, dtype=np.int32)
+        t = off[np.maximum(o, 0)]  # the walk's distance, in its start's slot (kept as it is)
+        start = o == me
+        val = np.where(t < 0, np.int32(-1), t - seg)
+        val[start] = seg[start]
+        val[o < 0] = -1
+        seg[:] = val
+    return off, rounds
 
 
 def cycles(k: int, step: Step, alive: Optional[Alive] = None, budget: Optional[Budget] = None,
-           limit: int = 1 << 16) -> tuple[list[np.ndarray], int]:
+           limit: int = 1 << 16, first: Optional[int] = None) -> tuple[list[np.ndarray], int]:
     """The cycles of a one-successor graph on nodes 0..k-1 (``alive`` ones; closed under the
     successor): the first ``limit`` by smallest node, each sorted, and how many there are.
+    With ``first``, only the cycles reached from the first ``first`` nodes (and how many).
 
-    The walks' graph has a cycle for each cycle of the graph; every node where a walk on
-    such a cycle stopped lies on the real cycle, and the real cycle is the stretches from
-    those nodes to the next of them, walked once more.
+    Walks start from hashed nodes (all together), then, a chunk at a time, from nodes
+    without a predecessor and from nodes no walk passed (cycles without a hashed node); a
+    later walk that meets an earlier one never closes a cycle, so each group's cycles are
+    found on its own, and their nodes marked at once (:func:`_close`). At most 5 bytes a
+    node and 16 a hashed walk, then the listing: 4 bytes a node, 8 a cycle, 4 a listed node.
     """
     owner = np.full(k, -1, dtype=np.int32)
-    has_pred = _has_pred(k, step, alive, budget)
-    stops = []
-    count = 0
-    for pick in (sampled, lambda lo, hi: ~has_pred[lo:hi], lambda lo, hi: np.ones(hi - lo, dtype=bool)):
-        starts = _claim(k, pick, owner, alive, count)  # a third pass: cycles no walk reached
-        stops.append(_walk_all(starts, count, owner, None, step, budget)[0])
-        count += starts.size
-        del starts
-    del has_pred
-    stop = np.concatenate(stops)
-    del stops
-    tgt = owner[stop]  # every walk stops at a passed node: the graph is closed
-    size = tgt.size
+    found = [0]  # cycles so far
+    if first is not None:
+        kept = [first]
+
+        def leading(lo: int, hi: int) -> np.ndarray:
+            mask = np.ones(hi - lo, dtype=bool) if alive is None else alive(lo, hi).copy()
+            on = np.flatnonzero(mask)
+            mask[on[kept[0]:]] = False
+            kept[0] = max(0, kept[0] - on.size)
+            return mask
+        starts, ids = _claim(k, leading, owner, alive, 0)
+        _close(starts, ids, owner, step, found, budget)
+    else:
+        has_pred = _has_pred(k, step, alive, budget)
+        starts, ids = _claim(k, sampled, owner, alive, 0)
+        _close(starts, ids, owner, step, found, budget)
+        count = starts.size
+        del starts, ids
+        for pick in (lambda lo, hi: ~has_pred[lo:hi], lambda lo, hi: np.ones(hi - lo, dtype=bool)):
+            for lo in range(0, k, CHUNK):
+                got = _starts(lo, min(k, lo + CHUNK), pick, owner, alive)
+                if got.size:
+                    ids = np.arange(count, count + got.size, dtype=np.int32)
+                    owner[got] = ids
+                    _close(got, ids, owner, step, found, budget)
+                    count += got.size
+        del has_pred
+    label = owner  # rewritten in place: the cycle of each node, -1 off cycles
+    for lo in range(0, k, CHUNK):
+        seg = label[lo:lo + CHUNK]
+        np.copyto(seg, np.where(seg <= -2, -seg - 2, np.int32(-1)))
+    return _listing(label, found[0], limit, budget)
+
+
+def _close(starts: np.ndarray, ids: np.ndarray, owner: np.ndarray, step: Step, found: list[int],
+           budget: Optional[Budget]) -> None:
+    """Walk from ``starts`` (named by the consecutive ``ids``), find the cycles among these
+    walks, and mark every node on one in ``owner`` as ``-2 - its cycle's number``.
+
+    A walk points to the walk whose path it stopped on; walks of this group on a cycle of
+    such pointers stopped on nodes of a real cycle, and the real cycle is the stretches
+    from those nodes to the next of them, walked once more."""
+    size = starts.size
     if size == 0:
-        return [], 0
+        return
+    stop, _ = _walk_all(starts, ids, owner, None, step, budget)
+    base = int(ids[0])
+    ptr = owner[stop].astype(np.int64) - base  # outside this group (earlier, or a marked cycle): a sink
+    ptr[(ptr < 0) | (ptr >= size)] = size
+    ptr = np.append(ptr, size).astype(np.int32)
     rounds = max(1, int(size).bit_length() + 1)
-    p = tgt.copy()
-    for _ in range(rounds):
+    p = ptr.copy()
+    for _ in range(rounds):  # after 2^rounds > size jumps, p maps each cycle of walks onto itself
         _tick(budget)
         p = p[p]
-    mark = np.zeros(size, dtype=bool)
+    mark = np.zeros(size + 1, dtype=bool)
     mark[p] = True
-    on = np.flatnonzero(mark)  # walks on a cycle of walks
-    del p, mark
-    q = np.searchsorted(on, tgt[on]).astype(np.int32)
+    del p
+    mark[size] = False
+    on = np.flatnonzero(mark).astype(np.int32)  # walks on a cycle of walks
+    del mark
+    if on.size == 0:
+        return
+    q = np.searchsorted(on, ptr[on]).astype(np.int32)
     lab = np.arange(on.size, dtype=np.int32)
     for _ in range(rounds):
         _tick(budget)
         lab = np.minimum(lab, lab[q])
         q = q[q]
-    anchors, first = np.unique(stop[on], return_index=True)
-    lab = lab[first]
-    del tgt, q, stop
-    label = owner  # reused: the cycle of each node on one, -1 elsewhere
-    label.fill(-1)
-    is_anchor = np.zeros(k, dtype=bool)
-    is_anchor[anchors] = True
+    heads, lab = np.unique(lab, return_inverse=True)
+    tag = (-2 - (found[0] + lab)).astype(np.int32)
+    found[0] += int(heads.size)
+    anchors, at = np.unique(stop[on], return_index=True)
+    tag = tag[at]
+    del ptr, q, on, lab, heads, stop, at
     cur = anchors.astype(np.intp)
-    label[cur] = lab
+    owner[cur] = tag
     while cur.size:
         _tick(budget)
         nxt, _ = step(cur)
-        go = ~is_anchor[nxt]
-        cur, lab = nxt[go], lab[go]
-        label[cur] = lab
-    del is_anchor
-    nodes = np.concatenate([np.flatnonzero(label[lo:lo + CHUNK] >= 0).astype(np.int32) + np.int32(lo)
-                            for lo in range(0, k, CHUNK)] or [np.zeros(0, dtype=np.int32)])
-    labs = label[nodes]
-    del label
-    smallest = np.full(on.size, _INT32_MAX, dtype=np.int32)  # labels are positions in ``on``
-    np.minimum.at(smallest, labs, nodes)
+        go = owner[nxt] != tag
+        cur, tag = nxt[go], tag[go]
+        owner[cur] = tag
+
+
+def _listing(label: np.ndarray, labels: int, limit: int, budget: Optional[Budget]) -> tuple[list[np.ndarray], int]:
+    """The first ``limit`` cycles of ``label`` (-1: on none) by smallest node, each ascending,
+    and how many cycles there are; one int32 array of the listed nodes, cut into views."""
+    k = label.size
+    smallest = np.full(labels, _INT32_MAX, dtype=np.int32)
+    for lo in range(0, k, CHUNK):
+        _tick(budget)
+        idx = np.flatnonzero(label[lo:lo + CHUNK] >= 0)
+        np.minimum.at(smallest, label[lo:lo + CHUNK][idx], (idx + lo).astype(np.int32))
     heads = np.flatnonzero(smallest < _INT32_MAX)
     count = int(heads.size)
     keep = heads[np.argsort(smallest[heads], kind="stable")[:limit]]  # cycles by smallest node
-    if keep.size <= FEW_CYCLES:  # a pass each beats a sort of every node on a cycle
-        return [nodes[labs == c] for c in keep.tolist()], count
-    rank = np.full(on.size, -1, dtype=np.int32)
+    rank = np.full(labels, -1, dtype=np.int32)
     rank[keep] = np.arange(keep.size, dtype=np.int32)
-    r = rank[labs]
-    kept = r >= 0
-    nodes, r = nodes[kept], r[kept]
-    srt = np.argsort(r, kind="stable")  # nodes stay ascending within a cycle
-    nodes, r = nodes[srt], r[srt]
-    cuts = np.flatnonzero(np.diff(r)) + 1
-    return np.split(nodes, cuts), count
+    sizes = np.zeros(keep.size, dtype=np.int64)
+    for lo in range(0, k, CHUNK):
+        lab = label[lo:lo + CHUNK]
+        r = rank[lab[lab >= 0]]
+        sizes += np.bincount(r[r >= 0], minlength=keep.size)
+    ends = np.cumsum(sizes)
+    fill = ends - sizes  # next free place of each cycle
+    out = np.empty(int(ends[-1]) if ends.size else 0, dtype=np.int32)
+    for lo in range(0, k, CHUNK):  # chunks in order: each cycle's nodes stay ascending
+        _tick(budget)
+        lab = label[lo:lo + CHUNK]
+        idx = np.flatnonzero(lab >= 0)
+        r = rank[lab[idx]]
+        sel = r >= 0
+        idx, r = idx[sel], r[sel]
+        order = np.argsort(r, kind="stable")
+        idx, r = idx[order], r[order]
+        first = np.searchsorted(r, r, side="left")
+        out[fill[r] + (np.arange(r.size) - first)] = (idx + lo).astype(np.int32)
+        fill += np.bincount(r, minlength=keep.size)
+    return np.split(out, ends[:-1]) if keep.size else [], count
