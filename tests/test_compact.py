@@ -413,3 +413,54 @@ def test_the_map_picks_the_slowest_codes_a_chunk_at_a_time(text, limit, chunk):
     unused = [c for c in range(a.graph.size) if not a.graph.member[c]]
     key = {c: (1 << 40) if a.steps[c] < 0 else int(a.steps[c]) for c in unused}
     assert got == sorted(unused, key=lambda c: (-key[c], c))[:limit]
+
+
+# --- the memory this machine has ---------------------------------------------------
+
+def fake_meminfo(tmp_path, monkeypatch, available: int) -> None:
+    """Point the engine at a /proc/meminfo whose MemAvailable is ``available`` bytes."""
+    f = tmp_path / "meminfo"
+    f.write_text(f"MemTotal:       99999999 kB\nMemFree:        1 kB\nMemAvailable:   {available // 1024} kB\n")
+    monkeypatch.setattr(C, "MEMINFO", str(f))
+
+
+def test_available_memory_is_read_and_missing_means_unknown(tmp_path, monkeypatch):
+    fake_meminfo(tmp_path, monkeypatch, 3 << 30)
+    assert C.available_memory() == 3 << 30
+    monkeypatch.setattr(C, "MEMINFO", str(tmp_path / "absent"))
+    assert C.available_memory() is None and C.memory_refusal(C.MEMORY_LIMIT, "x") is None
+    (tmp_path / "old").write_text("MemTotal: 5 kB\nMemFree: 1 kB\n")  # kernels before 3.14
+    monkeypatch.setattr(C, "MEMINFO", str(tmp_path / "old"))
+    assert C.available_memory() is None
+
+
+def test_a_check_above_the_available_memory_is_refused_before_the_run(tmp_path, monkeypatch):
+    check = load_text(tail_counter(12, 63))
+    need = C.memory_needed(12, 1)
+    fake_meminfo(tmp_path, monkeypatch, need - (1 << 20))
+    built = []
+    monkeypatch.setattr(C, "folded_successors", lambda *a, **k: built.append(1))
+    ok, why = X.feasible(check.space, stepping(check))
+    assert not ok and f"would need {C.gib(need)}" in why and f"{C.gib(need - (1 << 20))} available" in why
+    fake_meminfo(tmp_path, monkeypatch, need + (need >> 1))  # fits alone, not beside a second claim
+    assert X.feasible(check.space, stepping(check)) == (True, "")
+    ok, why = X.feasible(check.space, stepping(check), parallel=2)
+    assert not ok and "2 claims running at once" in why and C.gib((need + (need >> 1)) // 2) in why
+    assert built == []  # nothing was allocated
+
+
+def test_jobs_share_the_memory_in_the_refusal(tmp_path, monkeypatch, write):
+    """`check --jobs 2` on two claims: each explicit run gets half of what is available."""
+    text = tail_counter(12, 63, "recover\n  recover within 4096")
+    need = C.memory_needed(12, 1)
+    fake_meminfo(tmp_path, monkeypatch, need + (need >> 1))
+    p = write(text)
+    rc, out, err = run(["check", p, "--engine", "explicit", "--jobs", "1", "--json"])
+    assert rc == 0, err
+    rc, out, err = run(["check", p, "--engine", "explicit", "--jobs", "2", "--json"])
+    assert rc == 2 and "Traceback" not in err
+    msg = json.loads(out)["error"]["message"]
+    assert "would need" in msg and "2 claims running at once" in msg
+    rc, out, err = run(["check", p, "--jobs", "2", "--json"])  # auto: SAT, saying why
+    claims = json.loads(out)["claims"]
+    assert all(c["engine"] == "sat" and c["status"] == "proved" for c in claims)

@@ -150,6 +150,7 @@ def run_claims(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int = 1,
     if jobs <= 1 or len(pairs) <= 1:
         return [_watched(watcher, i, c, cl, opts) for i, (c, cl) in enumerate(pairs)]
     global _WORK, _EVENTS
+    opts = replace(opts, parallel=min(jobs, len(pairs)))  # the engines share this machine's memory
     _WORK = list(pairs)
     ctx = mp.get_context("fork")
     relay = None

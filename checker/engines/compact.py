@@ -76,6 +76,41 @@ def memory_needed(width: int, rows: int) -> int:
     return (4 * rows + 16) * n + BASE_BYTES
 
 
+MEMINFO = "/proc/meminfo"
+"""Where the kernel says how much memory a new program can take (``MemAvailable``, Linux 3.14+)."""
+
+
+def available_memory() -> Optional[int]:
+    """Bytes of ``MemAvailable`` in :data:`MEMINFO`, or None where the file or the line is missing."""
+    try:
+        with open(MEMINFO, encoding="ascii", errors="replace") as f:
+            for line in f:
+                if line.startswith("MemAvailable:"):
+                    parts = line.split()
+                    return int(parts[1]) * (1024 if parts[2:3] == ["kB"] else 1)
+    except (OSError, ValueError, IndexError):
+        return None
+    return None
+
+
+def memory_refusal(need: int, what: str, parallel: int = 1) -> Optional[str]:
+    """Why a run needing ``need`` bytes cannot start, or None when it fits: above
+    :data:`MEMORY_LIMIT`, or above the memory this machine has available divided among the
+    ``parallel`` claims running at once (``check --jobs``). ``what`` names the run."""
+    if need > MEMORY_LIMIT:
+        return f"{what} would need {gib(need)} (the explicit engine's limit is {gib(MEMORY_LIMIT)})"
+    free = available_memory()
+    if free is None:
+        return None
+    share = free // max(1, parallel)
+    if need <= share:
+        return None
+    if parallel > 1:
+        return (f"{what} would need {gib(need)}, and this machine has {gib(free)} available for "
+                f"{parallel} claims running at once ({gib(share)} each; fewer --jobs leave each more)")
+    return f"{what} would need {gib(need)}, and this machine has {gib(free)} available"
+
+
 @contextmanager
 def small_pages() -> Iterator[None]:
     """Large NumPy arrays on ordinary pages while the engine runs.

@@ -199,8 +199,10 @@ def _next_input_nodes(space: CodeSpace) -> list[int]:
     return _input_nodes(space, [m.next_lits[i] for i in space.code] + list(m.async_clear) + list(m.async_preset))
 
 
-def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> tuple[bool, str]:
-    """Whether the explicit engine can take this check under ``cond``, and why not."""
+def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER, parallel: int = 1) -> tuple[bool, str]:
+    """Whether the explicit engine can take this check under ``cond``, and why not; the
+    memory it needs is held against its limit and against the memory this machine has
+    available shared among ``parallel`` claims running at once."""
     require_whole_state(space)
     w = space.width
     if not space.model.synchronous and w > ASYNC_MAX_WIDTH:
@@ -211,13 +213,13 @@ def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> tuple
     nxt = _next_input_nodes(space)
     if len(nxt) > INPUT_BITS_LIMIT:
         return False, f"{len(nxt)} input bits reach the next code (the explicit engine enumerates up to {INPUT_BITS_LIMIT})"
-    if C.memory_needed(w, 1 << len(nxt)) > C.MEMORY_LIMIT:
+    rows = 1 << len(nxt)
+    if C.memory_refusal(C.memory_needed(w, rows), "", parallel) is not None:
         # the exact row count may be smaller: the condition can fix some inputs
         rows = len(admissible_rows(space, cond, solver))
-        need = C.memory_needed(w, rows)
-        if need > C.MEMORY_LIMIT:
-            return False, (f"2^{w} codes and {rows} input row(s) would need {C.gib(need)} "
-                           f"(the explicit engine's limit is {C.gib(C.MEMORY_LIMIT)})")
+        why = C.memory_refusal(C.memory_needed(w, rows), f"2^{w} codes and {rows} input row(s)", parallel)
+        if why is not None:
+            return False, why
     return True, ""
 
 

@@ -18,7 +18,7 @@ import numpy as np
 
 from ..words import count
 from .budget import Budget
-from .explicit import Analysis, Graph, analyse, inner_edges, scc_cycles, worst_step
+from .explicit import SCC_LIMIT, Analysis, Graph, analyse, inner_edges, scc_cycles, worst_step
 from .sat import DEFAULT_SOLVER
 
 EXACT_FVS_LIMIT = 128
@@ -199,6 +199,10 @@ def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
     needs more than ``within`` clocks, redirect the code ``within - 1`` clocks
     down its worst run, then look again. Advice only.
     """
+    if not a.sets_complete:
+        return RepairPlan([], target, False, [], notes=[
+            f"no repair hint: more than {SCC_LIMIT} unused codes are locked under several inputs, and the "
+            "sets they form are not separated (a smallest set of codes to redirect needs them)"])
     codes, exact = feedback_codes(a, solver)
     notes = []
     if not exact:
@@ -244,7 +248,7 @@ def plan_lines(plan: RepairPlan, fmt: Callable[[int], str] = str) -> list[str]:
     (``a/b``: either, by the inputs) and the next code proposed for it."""
     every = plan.codes + plan.for_within
     if not every:
-        return []
+        return list(plan.notes)
     lines = []
     if plan.codes:
         what = "the smallest set" if plan.exact else "a set"

@@ -76,7 +76,7 @@ def _has_pred(k: int, step: Step, alive: Optional[Alive], budget: Optional[Budge
 
 
 def _starts(lo: int, hi: int, pick: Pick, owner: np.ndarray, alive: Optional[Alive]) -> np.ndarray:
-    mask = pick(lo, hi) & (owner[lo:hi] < 0)
+    mask = pick(lo, hi) & (owner[lo:hi] == -1)
     if alive is not None:
         mask &= alive(lo, hi)
     return (np.flatnonzero(mask) + lo).astype(np.int32)
@@ -132,7 +132,7 @@ def _advance(starts: np.ndarray, ids: np.ndarray, owner: np.ndarray, off: Option
             dist = dist + (np.int32(1) if w is None else w)
         end = nxt < 0
         o = owner[np.where(end, 0, nxt)]
-        halt = end | (o >= 0)
+        halt = end | (o != -1)  # passed by a walk, or on a cycle already found
         if halt.any():
             stop[who[halt]] = np.where(end[halt], SEQ, nxt[halt])
             if distances:
@@ -274,14 +274,17 @@ def cycles(k: int, step: Step, alive: Optional[Alive] = None, budget: Optional[B
     owner = np.full(k, -1, dtype=np.int32)
     found = [0]  # cycles so far
     if first is not None:
-        kept = [first]
+        cut, seen = k, 0  # the node after the first ``first`` alive ones
+        for lo in range(0, k, CHUNK):
+            on = np.flatnonzero(np.ones(min(k, lo + CHUNK) - lo, dtype=bool) if alive is None
+                                else alive(lo, min(k, lo + CHUNK)))
+            if seen + on.size >= first:
+                cut = lo + int(on[first - seen - 1]) + 1 if first > seen else lo
+                break
+            seen += on.size
 
         def leading(lo: int, hi: int) -> np.ndarray:
-            mask = np.ones(hi - lo, dtype=bool) if alive is None else alive(lo, hi).copy()
-            on = np.flatnonzero(mask)
-            mask[on[kept[0]:]] = False
-            kept[0] = max(0, kept[0] - on.size)
-            return mask
+            return np.arange(lo, hi) < cut
         starts, ids = _claim(k, leading, owner, alive, 0)
         _close(starts, ids, owner, step, found, budget)
     else:
