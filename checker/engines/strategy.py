@@ -31,16 +31,6 @@ import numpy as np
 from . import compact as C
 from .budget import Budget
 
-FAR = np.int64(1) << 40
-"""The sort key of a locked code: above every count of clocks."""
-
-
-def _key(steps: np.ndarray) -> np.ndarray:
-    d = steps.astype(np.int64)
-    d[d < 0] = FAR
-    return d
-
-
 def first_strategy(succ: np.ndarray, member: np.ndarray, budget: Optional[Budget] = None) -> np.ndarray:
     """Row 0's successors, replaced, per code, by another row's where row 0 leads into the
     sequence and that row does not."""
@@ -51,30 +41,34 @@ def first_strategy(succ: np.ndarray, member: np.ndarray, budget: Optional[Budget
         cur = strat[base:base + C.CHUNK]
         for r in range(1, succ.shape[0]):
             cand = succ[r, base:base + C.CHUNK]
-            take = member[cur] & ~member[cand]
+            d = np.flatnonzero(cand != cur)  # only where the rows differ
+            take = d[member[cur[d]] & ~member[cand[d]]]
             cur[take] = cand[take]
     return strat
 
 
 def improve(succ: np.ndarray, member: np.ndarray, steps: np.ndarray, strat: np.ndarray,
             budget: Optional[Budget] = None) -> int:
-    """Switch, in place, every unused code whose other rows lead somewhere worse; how many switched."""
+    """Switch, in place, every unused code whose other rows lead somewhere worse; how many switched.
+
+    Depths compare as unsigned 32-bit numbers, so that a locked code (-1) is above every count."""
     n = strat.size
+    key = steps.view(np.uint32)
     switched = 0
     for base in range(0, n, C.CHUNK):
         C._tick(budget)
         hi = min(n, base + C.CHUNK)
         cur = strat[base:hi]
         unused = ~member[base:hi]
-        best = _key(steps[cur])
         for r in range(succ.shape[0]):
             cand = succ[r, base:hi]
-            k = _key(steps[cand])
-            better = unused & (k > best)
-            if better.any():
+            d = np.flatnonzero((cand != cur) & unused)  # only where the rows differ
+            if d.size == 0:
+                continue
+            better = d[key[cand[d]] > key[cur[d]]]
+            if better.size:
                 cur[better] = cand[better]
-                best[better] = k[better]
-                switched += int(np.count_nonzero(better))
+                switched += int(better.size)
     return switched
 
 
