@@ -464,3 +464,55 @@ def test_jobs_share_the_memory_in_the_refusal(tmp_path, monkeypatch, write):
     rc, out, err = run(["check", p, "--jobs", "2", "--json"])  # auto: SAT, saying why
     claims = json.loads(out)["claims"]
     assert all(c["engine"] == "sat" and c["status"] == "proved" for c in claims)
+
+
+# --- readable reports when the hold input also holds unused codes --------------------
+
+HELD = """
+design vent
+  in run, drop
+  flop p[{top}:0] : D (d = mux(run, p, {{p[{top1}:0], !p[{top}]}}))
+end
+check phases of vent
+  code p
+  count johnson
+  hold when !run
+  recover when run | drop
+end
+"""
+
+
+def test_a_hold_that_holds_unused_codes_gives_a_short_report():
+    """A 10-bit vent phase ring whose hold input also holds unused codes: every unused code
+    is locked by itself, so the repair takes them all, says why, and every listing is cut."""
+    from checker.claims import run_claim
+    from checker.claims.common import Options
+
+    check = load_text(HELD.format(top=9, top1=8))
+    claim = check.claims[-1]
+    r = run_claim(check, claim, Options(engine="explicit"))
+    unused = (1 << 10) - 20
+    assert r.status == "refuted" and r.details["unused_count"] == unused
+    assert sum(r.details["locked_sizes"]) == unused and r.details["locked_complete"]
+    assert any("(8 of " in line and "locked sets shown" in line for line in r.evidence)
+    assert f"redirecting {unused} unused codes" in r.advice[0] and f"(16 of {unused} shown)" in r.advice[0]
+    assert any(f"of {unused} codes shown" in line for line in r.advice)
+    assert any("goes to itself under some input" in line for line in r.advice)
+    assert len(r.evidence) + len(r.advice) < 100
+
+
+def test_beyond_the_set_limit_the_report_says_the_sets_are_not_separated(monkeypatch):
+    from checker.claims import run_claim
+    from checker.claims.common import Options
+
+    monkeypatch.setattr(X, "SCC_LIMIT", 64)
+    check = load_text(HELD.format(top=9, top1=8))
+    r = run_claim(check, check.claims[-1], Options(engine="explicit"))
+    assert r.status == "refuted" and r.details["locked_complete"] is False
+    assert any("are not separated above 64 locked codes" in line for line in r.evidence)
+    assert r.advice and r.advice[0].startswith("no repair hint")
+    a = X.explore(check.space, check.claims[-1].cond)
+    assert not a.sets_complete and a.locked_total == len(a.locked_sets)
+    for cyc in a.locked_sets:  # every listed cycle is one some choice of inputs keeps going
+        inside = set(cyc.tolist())
+        assert all(inside & set(a.graph.succ[:, c].tolist()) for c in inside)

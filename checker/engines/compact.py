@@ -3,19 +3,25 @@
 Three pieces, each bounded in memory before it starts:
 
 * :func:`memory_needed` says, from the code width and the number of input
-  rows alone, how many bytes the widest run of :func:`successors`,
-  :func:`members` and the analysis can hold at once (an upper bound, checked
-  against ``tracemalloc`` in tests/test_compact.py); the engine refuses a
-  check above :data:`MEMORY_LIMIT` before anything is built.
-* :func:`successors` evaluates the next-state function over bit-packed codes,
-  :data:`CHUNK` codes at a time, and turns the bit planes it gets back into
-  one ``uint32`` per code with an 8x8 bit-matrix transpose (Warren, Hacker's
-  Delight, 2nd ed., section 7-3), with no array of one byte per bit.
+  rows alone, how many bytes the widest run of the table, the ranking and
+  the cycle search can hold at once (an upper bound, checked against
+  ``tracemalloc`` in tests/test_compact.py); :func:`memory_refusal` refuses
+  a check above :data:`MEMORY_LIMIT`, or above the memory this machine has
+  available (``MemAvailable``) divided among the claims running at once,
+  before anything is built.
+* :func:`folded_successors` evaluates the next-state function over
+  bit-packed codes, :data:`CHUNK` codes at a time, and turns the bit planes
+  it gets back into one ``uint32`` per code with an 8x8 bit-matrix transpose
+  (Warren, Hacker's Delight, 2nd ed., section 7-3), with no array of one
+  byte per bit; an input row that leads nowhere new from any unused code is
+  folded away.
 * :func:`depth_functional` finds, when every code has one successor, the
   number of clocks each unused code needs to reach the sequence: runs of
   consecutive codes that count up by one (what a counter's unused codes do)
-  are contracted to one node each, and pointer jumping (Wyllie 1979) ranks
-  the contracted graph in place, a chunk at a time, with 32-bit counters.
+  are contracted to one node each, and the contracted graph, or the codes
+  themselves when runs are short, are ranked by walks between hashed nodes
+  (:mod:`checker.engines.walks`); :func:`functional_cycles` lists the cycles
+  among the locked codes the same way.
 """
 
 from __future__ import annotations

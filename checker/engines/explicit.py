@@ -14,17 +14,21 @@ refuses a check whose code leaves a flop out. Repair hints drawn from an
 :class:`Analysis` are in :mod:`checker.repair`.
 
 Memory: the tables are compact (:mod:`checker.engines.compact`): 4 bytes per
-code and input row for the successors, 4 per code for the depths, and what
-the analysis holds on top; :func:`feasible` states the bytes a run will need
+code and kept input row for the successors (a row that leads nowhere new
+from an unused code is folded away), 4 per code for the depths, and what the
+analysis holds on top; :func:`feasible` states the bytes a run will need
 from the width and the row count alone and refuses a check above
-:data:`compact.MEMORY_LIMIT` (8 GiB) before anything is built. With one
-input row that is 29 bytes a code at most: 2^28 codes fit, and the
-measured peaks are far below the bound (tests/perf/RESULTS_explicit.md).
+:data:`compact.MEMORY_LIMIT` (8 GiB), or above the memory the machine has
+available shared among the claims running at once, before anything is
+built. With one input row that is 27 bytes a code at most, with two rows 24:
+2^28 codes fit either way (tests/perf/RESULTS_explicit.md).
 
-Time: one vectorised pass per table chunk, then (one successor per code)
-runs of codes counting up by one contracted and the rest ranked by pointer
-jumping, or (several successors) retrograde rounds, one round per clock of
-the worst, finished by a work queue when a long thin tail remains.
+Time: one vectorised pass per table chunk; then, with one successor per
+code, runs of codes counting up by one contracted and the rest ranked, and
+the cycles found, by walks between hashed codes (:mod:`checker.engines.walks`);
+with several rows, strategy improvement over such one-successor tables
+(:mod:`checker.engines.strategy`), and the strongly connected sets of the
+locked codes up to :data:`SCC_LIMIT` of them.
 
 The engine before the compact tables (a successor table of at most
 :data:`EDGE_LIMIT` edges, pointer jumping over every code) is kept as

@@ -2,17 +2,19 @@
 
 A graph where every node has one successor (a counter's table under one
 input row, or the run-contracted form of it) is ranked without a pass per
-doubling over every node. Every node without a predecessor, and about one
-node in :data:`SPACING` chosen by a multiplicative hash (Knuth, TAOCP vol. 3,
-6.4), starts a walk; all walks advance together, one vectorised step per
-clock, and a walk stops when it leaves the graph (into the sequence) or
-meets a node another walk has passed. Every node is then passed by exactly
-one walk (or lies on a cycle no walk started on), at a known distance from
-the walk's start, and each walk points to the walk whose path it met: a
-one-successor graph with about one node per :data:`SPACING`, ranked by
-pointer jumping (Wyllie 1979). Work is proportional to the number of nodes;
-the number of vectorised steps to the longest stretch between two starts
-(about SPACING times the logarithm of the number of walks).
+doubling over every node. About one node in :data:`SPACING`, chosen by a
+multiplicative hash (Knuth, TAOCP vol. 3, 6.4), starts a walk; all walks
+advance together, one vectorised step at a time, and a walk stops when it
+leaves the graph (into the sequence) or meets a node a walk has passed.
+Then, a chunk at a time, walks start from the nodes without a predecessor
+that no walk passed (the trees hanging off the first walks' paths), and for
+cycles from every node left (cycles without a hashed node). Every node is
+then passed by one walk at a known distance from its start, and each walk
+points to the walk whose path it met: a one-successor graph of walks, ranked
+by pointer jumping (Wyllie 1979), whose cycles give the graph's cycles. Work
+is proportional to the number of nodes; the number of vectorised steps to
+the longest stretch between two starts (about SPACING times the logarithm
+of the number of walks).
 
 Before, every node was ranked by pointer jumping: about log2(2^w) passes over
 every code, 28 s for the ranking and 40 s for the cycles of a 24-bit shift
@@ -21,7 +23,6 @@ register whose codes are all on long cycles (tests/perf/RESULTS_explicit.md).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import Callable, Optional
 
 import numpy as np
