@@ -86,7 +86,7 @@ def worst_depths(succ: np.ndarray, member: np.ndarray,
     while True:
         rankings += 1
         if budget is not None:
-            budget.note(engine="explicit", step="worst inputs", ranking=rankings)
+            budget.note(engine="explicit", step=f"worst inputs, ranking {rankings}")
         steps, r = C.depth_functional(strat, member, budget)
         rounds += r
         if improve(succ, member, steps, strat, budget) == 0:

@@ -164,19 +164,28 @@ def _child(conn, text: str, what: str, engine: str, timeout):
     conn.close()
 
 
-def measure(text: str, what: str, engine: str = "explicit", timeout=None):
-    """(status, worst, engine, depth, seconds, peak RSS bytes, traced peak bytes) in a fresh child."""
+def measure(text: str, what: str, engine: str = "explicit", timeout=None, limit=None):
+    """(status, worst, engine, depth, seconds, peak RSS bytes, traced peak bytes) in a fresh child;
+    a child still running after ``limit`` seconds is stopped: ("stopped", ..., limit, ...)."""
     ctx = mp.get_context("fork")
     a, b = ctx.Pipe(duplex=False)
     p = ctx.Process(target=_child, args=(b, text, what, engine, timeout))
     p.start()
     b.close()
+    if limit is not None and not a.poll(limit):
+        p.kill()
+        p.join()
+        return ("stopped", None, what, None, float(limit), 0, 0)
     try:
         out = a.recv()
     except EOFError:
         out = ("killed", None, what, None, float("nan"), 0, 0)
     p.join()
     return out
+
+
+SLOW = 90
+"""Seconds after which a run of an engine before this one is stopped (the row says so)."""
 
 
 def _rows(text: str) -> int:
@@ -253,17 +262,23 @@ def main() -> None:
             text = gen(w)
             claim = measure(text, "claim")
             new = measure(text, "new")
-            retro = measure(text, "retro") if 73 * (1 << w) + C.BASE_BYTES <= C.MEMORY_LIMIT else None
-            old = measure(text, "old") if w <= 24 else None
+            fits = 73 * (1 << w) + C.BASE_BYTES <= C.MEMORY_LIMIT
+            retro = measure(text, "retro", limit=SLOW) if fits else None
+            old = measure(text, "old", limit=SLOW) if w <= 24 else None
             worst = claim[1] if claim[1] is not None else "locked"
             bound = C.memory_needed(w, 2)
             kept = f"{new[2]} of {_rows(text)}"
 
             def t(m) -> str:
-                return f"{m[4]:.2f} s" if m else "does not fit"
-            ratio = f"{retro[4] / new[4]:.1f}" if retro else "-"
+                if m is None:
+                    return "does not fit"
+                return f"over {SLOW} s" if m[0] == "stopped" else f"{m[4]:.2f} s"
+
+            def rss(m) -> str:
+                return "-" if m is None or m[0] == "stopped" else mib(m[5])
+            ratio = "-" if retro is None else f"{'over ' if retro[0] == 'stopped' else ''}{retro[4] / new[4]:.1f}"
             out(f"| {name} | {w} | {kept} | {worst} | {t(claim)} | {t(new)} | {t(retro)} | {ratio} | {t(old)} | "
-                f"{mib(claim[5])} | {mib(retro[5]) if retro else '-'} | {mib(old[5]) if old else '-'} | {mib(bound)} |")
+                f"{mib(claim[5])} | {rss(retro)} | {rss(old)} | {mib(bound)} |")
     out()
     out("Rows kept: the input rows that lead somewhere new from some unused code (a row that only changes "
         "what a sequence code does is folded away). The retrograde analysis held a reversed table (73 bytes "
