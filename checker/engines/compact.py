@@ -42,11 +42,23 @@ MEMORY_LIMIT = 8 << 30
 CHUNK = 1 << 21
 """Codes evaluated, or ranked, per pass (a multiple of 64 and a power of two)."""
 
-BASE_BYTES = 512 << 20
-"""Bytes a run holds besides its tables: the interpreter and libraries (about 110 MiB resident),
-a chunk's temporaries, up to 2^20 codes the second analysis of a repair plan, the listed cycles'
-own records (up to 2^16, about 200 bytes each), and with several input rows the strongly
-connected sets of up to 2^20 locked codes (about 180 bytes a locked code)."""
+BASE_BYTES = 128 << 20
+"""Bytes a run holds besides its tables at any width: the interpreter and libraries (about 110
+MiB resident)."""
+
+WORK_BYTES = 192
+"""Bytes a code, for up to :data:`CHUNK` codes, that a run holds besides its tables and the
+interpreter (:func:`base_bytes`): a chunk's temporaries, up to 2^20 codes the second analysis of
+a repair plan, the listed cycles' own records (up to 2^16, about 200 bytes each), and with
+several input rows the strongly connected sets of up to 2^20 locked codes (about 180 bytes a
+locked code)."""
+
+
+def base_bytes(width: int) -> int:
+    """The bytes of a run at ``width`` bits that do not grow with every code: 512 MiB from
+    2^21 codes up, less below (a small check is not refused on a small machine)."""
+    return BASE_BYTES + WORK_BYTES * min(1 << width, CHUNK)
+
 
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
 SETS_LIMIT = 1 << 16
@@ -78,8 +90,8 @@ def memory_needed(width: int, rows: int) -> int:
     """
     n = 1 << width
     if rows <= 1:
-        return 27 * n + BASE_BYTES
-    return (4 * rows + 16) * n + BASE_BYTES
+        return 27 * n + base_bytes(width)
+    return (4 * rows + 16) * n + base_bytes(width)
 
 
 MEMINFO = "/proc/meminfo"

@@ -262,7 +262,7 @@ def main() -> None:
             text = gen(w)
             claim = measure(text, "claim")
             new = measure(text, "new")
-            fits = 73 * (1 << w) + C.BASE_BYTES <= C.MEMORY_LIMIT
+            fits = 73 * (1 << w) + C.base_bytes(w) <= C.MEMORY_LIMIT
             retro = measure(text, "retro", limit=SLOW) if fits else None
             old = measure(text, "old", limit=SLOW) if w <= 24 else None
             worst = claim[1] if claim[1] is not None else "locked"
