@@ -234,9 +234,13 @@ def test_successor_table_matches_simulator(text):
     rows = X.admissible_rows(check.space, condition(check))
     g = X.build_graph(check.space, rows)
     codes = np.arange(1 << check.width, dtype=np.uint64)
-    for r in range(g.succ.shape[0]):
-        ins = {nm: np.bool_(v) for nm, v in zip(rows.names, rows.values[r])}
+    for r in range(g.succ.shape[0]):  # the rows kept (folded per code), each with its own inputs
+        ins = {nm: np.bool_(v) for nm, v in zip(g.rows.names, g.rows.values[r])}
         assert np.array_equal(next_codes(check.design.model, check.code, codes, ins), g.succ[r].astype(np.uint64))
+    every = [next_codes(check.design.model, check.code, codes, {nm: np.bool_(v) for nm, v in zip(rows.names, vals)})
+             for vals in rows.values]
+    for c in np.flatnonzero(~g.member).tolist():  # and every row's next code is among them
+        assert {int(e[c]) for e in every} == set(g.succ[:, c].tolist())
 
 
 @settings(max_examples=150, deadline=None)

@@ -140,6 +140,7 @@ def run_claims(pairs: list[tuple[Check, Claim]], opts: Options, jobs: int = 1,
         return _on_cluster(pairs, opts, cluster)
     if jobs <= 1 and opts.timeout is None and not opts.isolate:
         return [_watched(watcher, i, c, cl, opts) for i, (c, cl) in enumerate(pairs)]
+    opts = replace(opts, parallel=min(jobs, len(pairs)))  # the engines share this machine's memory
     return _in_runners(pairs, opts, min(jobs, len(pairs)), watcher)
 
 

@@ -24,6 +24,7 @@ class Options:
     engine: str = "auto"  # auto, sat, explicit
     isolate: bool = False  # run every claim in a child process, so that Ctrl-C ends it cleanly
     radix: str = "dec"  # how evidence lines show codes: auto, dec, bin, hex (see code_text); the CLI says auto
+    parallel: int = 1  # claims running at once on this machine (check --jobs): they share its memory
 
 
 CODE_RADIXES = ("auto", "dec", "bin", "hex")

@@ -69,7 +69,7 @@ def claim_condition(check: Check, claim: Claim, solver: str) -> int:
 def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
     """('explicit' | 'sat', why): the engine a recover question runs on. An asynchronous
     design goes to the explicit engine, which explores every order of its clocks."""
-    ok, why = X.feasible(check.space, cond, opts.solver)
+    ok, why = X.feasible(check.space, cond, opts.solver, opts.parallel)
     if not check.design.model.synchronous:
         pos = check.sequence_pos or check.pos
         if opts.engine == "sat":
@@ -241,7 +241,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
     details: dict = {"engine": "explicit", "worst": a.worst, "worst_code": a.worst_code,
                      "unused_count": a.unused_count, "memory_bound": need}
     listed = a.locked_json(LOCKED_LIST_LIMIT)
-    cut = len(listed) < a.locked_total
+    cut = len(listed) < a.locked_total or not a.sets_complete
     details["locked"] = listed
     details["locked_complete"] = not cut
     if cut:
@@ -256,11 +256,17 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
         trace = _replayed(check, codes, [g.rows.full[r] for r in rows])
         n_locked = int((a.steps < 0).sum())
         n_sets = a.locked_total
-        evidence.append(f"locked: {count(n_sets, 'set of unused codes')} "
-                        f"{'holds' if n_sets == 1 else 'hold'} a cycle "
-                        f"({'size' if n_sets == 1 else 'sizes'} {_sizes(sizes)}"
-                        f"{'' if not a.locked_cut else f' of the first {len(sizes)}'}); "
-                        f"{count(n_locked, 'unused code')} can stay unused forever")
+        if a.sets_complete:
+            evidence.append(f"locked: {count(n_sets, 'set of unused codes')} "
+                            f"{'holds' if n_sets == 1 else 'hold'} a cycle "
+                            f"({'size' if n_sets == 1 else 'sizes'} {_sizes(sizes)}"
+                            f"{'' if not a.locked_cut else f' of the first {len(sizes)}'}); "
+                            f"{count(n_locked, 'unused code')} can stay unused forever")
+        else:  # too many locked codes to separate every set: the cycles one choice of inputs runs into
+            evidence.append(f"locked: {count(n_locked, 'unused code')} can stay unused forever; "
+                            f"{count(n_sets, 'cycle')} of unused codes found from the smallest of them "
+                            f"(lengths {_sizes(sizes)}), one choice of inputs each; the sets they lie in "
+                            f"are not separated above {X.SCC_LIMIT} locked codes")
         evidence.extend(set_lines(a.locked_sets, fmt, total=n_sets))
         evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + _arrow(codes, fmt=fmt))
         if complete:

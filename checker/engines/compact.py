@@ -3,19 +3,25 @@
 Three pieces, each bounded in memory before it starts:
 
 * :func:`memory_needed` says, from the code width and the number of input
-  rows alone, how many bytes the widest run of :func:`successors`,
-  :func:`members` and the analysis can hold at once (an upper bound, checked
-  against ``tracemalloc`` in tests/test_compact.py); the engine refuses a
-  check above :data:`MEMORY_LIMIT` before anything is built.
-* :func:`successors` evaluates the next-state function over bit-packed codes,
-  :data:`CHUNK` codes at a time, and turns the bit planes it gets back into
-  one ``uint32`` per code with an 8x8 bit-matrix transpose (Warren, Hacker's
-  Delight, 2nd ed., section 7-3), with no array of one byte per bit.
+  rows alone, how many bytes the widest run of the table, the ranking and
+  the cycle search can hold at once (an upper bound, checked against
+  ``tracemalloc`` in tests/test_compact.py); :func:`memory_refusal` refuses
+  a check above :data:`MEMORY_LIMIT`, or above the memory this machine has
+  available (``MemAvailable``) divided among the claims running at once,
+  before anything is built.
+* :func:`folded_successors` evaluates the next-state function over
+  bit-packed codes, :data:`CHUNK` codes at a time, and turns the bit planes
+  it gets back into one ``uint32`` per code with an 8x8 bit-matrix transpose
+  (Warren, Hacker's Delight, 2nd ed., section 7-3), with no array of one
+  byte per bit; an input row that leads nowhere new from any unused code is
+  folded away.
 * :func:`depth_functional` finds, when every code has one successor, the
   number of clocks each unused code needs to reach the sequence: runs of
   consecutive codes that count up by one (what a counter's unused codes do)
-  are contracted to one node each, and pointer jumping (Wyllie 1979) ranks
-  the contracted graph in place, a chunk at a time, with 32-bit counters.
+  are contracted to one node each, and the contracted graph, or the codes
+  themselves when runs are short, are ranked by walks between hashed nodes
+  (:mod:`checker.engines.walks`); :func:`functional_cycles` lists the cycles
+  among the locked codes the same way.
 """
 
 from __future__ import annotations
@@ -28,6 +34,7 @@ import numpy as np
 from ..model import Aig, evaluate
 from ..model.space import CodeSpace
 from .budget import Budget
+from . import walks as W
 
 MEMORY_LIMIT = 8 << 30
 """Most bytes the explicit engine's tables may need (checked before a run starts)."""
@@ -35,13 +42,30 @@ MEMORY_LIMIT = 8 << 30
 CHUNK = 1 << 21
 """Codes evaluated, or ranked, per pass (a multiple of 64 and a power of two)."""
 
-BASE_BYTES = 256 << 20
-"""Bytes a run holds besides its tables: the interpreter and libraries (about 110 MiB resident),
-a chunk's temporaries, and, up to 2^20 codes, the second analysis of a repair plan."""
+BASE_BYTES = 128 << 20
+"""Bytes a run holds besides its tables at any width: the interpreter and libraries (about 110
+MiB resident)."""
+
+WORK_BYTES = 192
+"""Bytes a code, for up to :data:`CHUNK` codes, that a run holds besides its tables and the
+interpreter (:func:`base_bytes`): a chunk's temporaries, up to 2^20 codes the second analysis of
+a repair plan, the listed cycles' own records (up to 2^16, about 200 bytes each), and with
+several input rows the strongly connected sets of up to 2^20 locked codes (about 180 bytes a
+locked code)."""
+
+
+def base_bytes(width: int) -> int:
+    """The bytes of a run at ``width`` bits that do not grow with every code: 512 MiB from
+    2^21 codes up, less below (a small check is not refused on a small machine)."""
+    return BASE_BYTES + WORK_BYTES * min(1 << width, CHUNK)
+
 
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
 SETS_LIMIT = 1 << 16
 """Most locked cycles listed one by one (their number is always given)."""
+
+RUN_SHARE = 8
+"""Runs are contracted when there are fewer run ends than one code in this many."""
 
 SEQ = np.int32(-1)
 LOCKED = np.int32(-2)
@@ -52,19 +76,57 @@ _MASKS = [(np.uint64(0x00AA00AA00AA00AA), np.uint64(7)), (np.uint64(0x0000CCCC00
 def memory_needed(width: int, rows: int) -> int:
     """Upper bound on the bytes a compact run over 2^width codes and ``rows`` input rows holds.
 
-    One row: the table (4 bytes a code), the sequence mask (1) and the
-    depths (4), and while ranking or finding cycles at most 20 bytes more a
-    code (run ends, jumps and counters, or locked codes, their successors'
-    positions and a doubling of them, each 4 bytes). Several rows: the table
-    and its reversed form (24 bytes a code and row at the widest: the
-    destinations, the sort's 8-byte order, the sources and their sorted
-    copy), the mask, depths, counters, unused codes and the reversed
-    table's 8-byte offsets and their count (25 bytes a code).
+    Rows that lead nowhere new from an unused code are folded away, but the
+    bound counts every row. One row: the table (4 bytes a code) and the
+    sequence mask (1); while ranking at most 9.5 bytes a code more (the walk
+    that passed each code and its distance, whether a code has a
+    predecessor, the walks from hashed codes), the depths being those
+    distances rewritten; while finding cycles the depths (4) and at most 18
+    bytes a code (each code's walk, then cycle; 13 bytes a walk, at most one
+    walk a code; the listed cycles). 27 bytes a code. Several rows: the
+    table (4 bytes a code and row), the mask (1), the strategy (4), and at
+    most 11 bytes a code while ranking it, or the depths and 6 bytes while
+    listing cycles: 4 bytes a code and row and 16 a code.
     """
     n = 1 << width
     if rows <= 1:
-        return 29 * n + BASE_BYTES
-    return 24 * rows * n + 25 * n + BASE_BYTES
+        return 27 * n + base_bytes(width)
+    return (4 * rows + 16) * n + base_bytes(width)
+
+
+MEMINFO = "/proc/meminfo"
+"""Where the kernel says how much memory a new program can take (``MemAvailable``, Linux 3.14+)."""
+
+
+def available_memory() -> Optional[int]:
+    """Bytes of ``MemAvailable`` in :data:`MEMINFO`, or None where the file or the line is missing."""
+    try:
+        with open(MEMINFO, encoding="ascii", errors="replace") as f:
+            for line in f:
+                if line.startswith("MemAvailable:"):
+                    parts = line.split()
+                    return int(parts[1]) * (1024 if parts[2:3] == ["kB"] else 1)
+    except (OSError, ValueError, IndexError):
+        return None
+    return None
+
+
+def memory_refusal(need: int, what: str, parallel: int = 1) -> Optional[str]:
+    """Why a run needing ``need`` bytes cannot start, or None when it fits: above
+    :data:`MEMORY_LIMIT`, or above the memory this machine has available divided among the
+    ``parallel`` claims running at once (``check --jobs``). ``what`` names the run."""
+    if need > MEMORY_LIMIT:
+        return f"{what} would need {gib(need)} (the explicit engine's limit is {gib(MEMORY_LIMIT)})"
+    free = available_memory()
+    if free is None:
+        return None
+    share = free // max(1, parallel)
+    if need <= share:
+        return None
+    if parallel > 1:
+        return (f"{what} would need {gib(need)}, and this machine has {gib(free)} available for "
+                f"{parallel} claims running at once ({gib(share)} each; fewer --jobs leave each more)")
+    return f"{what} would need {gib(need)}, and this machine has {gib(free)} available"
 
 
 @contextmanager
@@ -142,9 +204,9 @@ def planes_to_codes(planes: list[np.ndarray], size: int) -> np.ndarray:
     return out
 
 
-def successors(space: CodeSpace, rows_values: list[list[int]], names: list[str],
-               budget: Optional[Budget] = None) -> np.ndarray:
-    """``succ[r, c]``: the next code of code ``c`` under input row ``r`` (uint32), in chunks."""
+def _row_chunks(space: CodeSpace, values: list[int], names: list[str],
+                budget: Optional[Budget]) -> Iterator[tuple[int, np.ndarray]]:
+    """(base, next codes of base, base+1, ...) under one input row, :data:`CHUNK` codes at a time."""
     m = space.model
     w = space.width
     n = 1 << w
@@ -152,23 +214,68 @@ def successors(space: CodeSpace, rows_values: list[list[int]], names: list[str],
     roots = [m.next_lits[i] for i in space.code]  # msb first
     code_nodes = [m.state_lits[i] >> 1 for i in space.code]
     lit_of = dict(zip(m.inputs, m.input_lits))
-    out = np.empty((len(rows_values), n), dtype=np.uint32)
     size = max(64, min(CHUNK, n))
     nw = size // 64
     full = np.full(nw, ONES, dtype=np.uint64)
     zero = np.zeros(nw, dtype=np.uint64)
+    row_leaves = {lit_of[name] >> 1: (full if b else zero) for name, b in zip(names, values)}
+    for base in range(0, n, size):
+        _tick(budget)
+        leaves = dict(row_leaves)
+        for pos, node in enumerate(code_nodes):
+            leaves[node] = _code_bit(base, nw, w - 1 - pos)
+        vals = evaluate(aig, leaves, roots, full)
+        planes = [np.broadcast_to(v, (nw,)) for v in reversed(vals)]  # bit 0 first
+        yield base, planes_to_codes(planes, size)[:min(size, n)]
+
+
+def successors(space: CodeSpace, rows_values: list[list[int]], names: list[str],
+               budget: Optional[Budget] = None) -> np.ndarray:
+    """``succ[r, c]``: the next code of code ``c`` under input row ``r`` (uint32), in chunks."""
+    n = 1 << space.width
+    out = np.empty((len(rows_values), n), dtype=np.uint32)
     for r, values in enumerate(rows_values):
-        row_leaves = {lit_of[name] >> 1: (full if b else zero) for name, b in zip(names, values)}
-        for base in range(0, n, size):
-            _tick(budget)
-            leaves = dict(row_leaves)
-            for pos, node in enumerate(code_nodes):
-                leaves[node] = _code_bit(base, nw, w - 1 - pos)
-            vals = evaluate(aig, leaves, roots, full)
-            planes = [np.broadcast_to(v, (nw,)) for v in reversed(vals)]  # bit 0 first
-            got = planes_to_codes(planes, size)
-            out[r, base:base + size] = got[:min(size, n)]
+        for base, got in _row_chunks(space, values, names, budget):
+            out[r, base:base + got.size] = got
     return out
+
+
+def folded_successors(space: CodeSpace, rows_values: list[list[int]], names: list[str], member: np.ndarray,
+                      budget: Optional[Budget] = None) -> tuple[np.ndarray, list[int]]:
+    """The successor table with the input rows folded per code: (table, the rows kept).
+
+    Row 0 is always kept. Every other row is evaluated a chunk at a time and
+    kept only if, at some unused code, it leads somewhere no kept row does
+    (the claim asks about unused codes alone: an input that only changes what
+    a sequence code does cannot keep a code out of the sequence, and one
+    that does what another row does adds no run). A row found to differ
+    after its first chunks has those chunks evaluated again. The table is
+    allocated for every row (the bound stated before the run); the rows
+    folded away are never written, so they take no memory.
+    """
+    n = 1 << space.width
+    out = np.empty((len(rows_values), n), dtype=np.uint32)
+    kept: list[int] = []
+    for r, values in enumerate(rows_values):
+        row = out[len(kept)]
+        differs = not kept
+        for base, got in _row_chunks(space, values, names, budget):
+            hi = base + got.size
+            if not differs:
+                new = ~member[base:hi]
+                for i in range(len(kept)):
+                    new &= out[i, base:hi] != got
+                differs = bool(new.any())
+                if differs and base:  # the chunks before agreed: evaluate them again
+                    for b2, g2 in _row_chunks(space, values, names, budget):
+                        if b2 >= base:
+                            break
+                        row[b2:b2 + g2.size] = g2
+            if differs:
+                row[base:hi] = got
+        if differs:
+            kept.append(r)
+    return out[:len(kept)], kept
 
 
 def members(space: CodeSpace, budget: Optional[Budget] = None) -> np.ndarray:
@@ -207,21 +314,30 @@ def depth_functional(succ: np.ndarray, member: np.ndarray,
     """Clocks from every code to the sequence when every code has one successor (-1: never).
 
     A run of unused codes ``a, a+1, ..., e`` in which each steps to the next
-    needs ``e - c`` clocks from ``c`` to its end ``e``, so only run ends are
-    ranked: end ``i`` jumps to the run holding ``succ[e_i]`` at a known
-    distance. Pointer jumping then doubles every jump a round; a jump longer
-    than the number of codes that has not reached the sequence has met a
-    cycle, so its code is locked. Updates are in place, a chunk at a time (a
-    jump read from an end already updated this round only goes further).
+    needs ``e - c`` clocks from ``c`` to its end ``e``, so when runs are long
+    (fewer ends than one code in :data:`RUN_SHARE`) only run ends are ranked:
+    end ``i`` leads to the run holding ``succ[e_i]`` at a known distance.
+    Otherwise the codes themselves are ranked. Either graph is ranked by
+    walks between sampled nodes (:mod:`checker.engines.walks`).
     """
     n = succ.size
     ends = _run_ends(succ, ~member, budget)
     k = ends.size
     if k == 0:
         return np.where(member, 0, -1).astype(np.int32), 0
-    steps = np.empty(n, dtype=np.int32)
+    if k * RUN_SHARE > n:  # short runs: rank the codes
+        del ends
+
+        def step(cur: np.ndarray) -> tuple[np.ndarray, None]:
+            nxt = succ[cur].astype(np.intp)
+            return np.where(member[nxt], -1, nxt), None
+
+        steps, rounds = W.depths(n, step, lambda lo, hi: ~member[lo:hi], budget)
+        for base in range(0, n, CHUNK):
+            steps[base:base + CHUNK][member[base:base + CHUNK]] = 0
+        return steps, rounds
     # ptr[i] >= 0: end i is acc[i] clocks before end ptr[i], every code between unused;
-    # ptr[i] == SEQ: end i is acc[i] clocks from the sequence; ptr[i] == LOCKED: never
+    # ptr[i] == SEQ: end i is acc[i] clocks from the sequence
     ptr = np.empty(k, dtype=np.int32)
     acc = np.empty(k, dtype=np.int32)
     for lo in range(0, k, CHUNK):
@@ -231,28 +347,18 @@ def depth_functional(succ: np.ndarray, member: np.ndarray,
         j = np.searchsorted(ends, t).astype(np.int32)
         ptr[lo:lo + CHUNK] = np.where(into, SEQ, j)
         acc[lo:lo + CHUNK] = 1 + np.where(into, 0, ends[np.minimum(j, k - 1)] - t)
-    rounds = 0
-    active = True
-    while active:
-        rounds += 1
-        _tick(budget, rounds)
-        active = False
-        for lo in range(0, k, CHUNK):
-            a = np.flatnonzero(ptr[lo:lo + CHUNK] >= 0) + lo  # native indices: no conversion per gather
-            if a.size == 0:
-                continue
-            p = ptr[a].astype(np.intp)
-            q = ptr[p]
-            s = acc[a].astype(np.int64) + acc[p]
-            lock = (q == LOCKED) | (s > n)
-            acc[a] = np.where(lock, 0, s)
-            ptr[a] = np.where(lock, LOCKED, q)
-            active = active or bool((~lock & (q >= 0)).any())
+
+    def jump(cur: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        return ptr[cur].astype(np.intp), acc[cur]
+
+    top, rounds = W.depths(k, jump, None, budget)
+    del ptr, acc
     # fill: a code of run i needs top[i] - code clocks (top = end + clocks from the end)
-    top = acc  # in place: no array beside the jumps and counters
+    locked = top < 0
     top += ends
-    top[ptr != SEQ] = -1
-    del ptr
+    top[locked] = -1
+    del locked
+    steps = np.empty(n, dtype=np.int32)
     for base in range(0, n, CHUNK):
         _tick(budget, rounds)
         hi = min(n, base + CHUNK)
@@ -283,59 +389,35 @@ def _positions(mask: np.ndarray, offset: int = 0) -> np.ndarray:
 
 
 def functional_cycles(succ: np.ndarray, steps: np.ndarray, budget: Optional[Budget] = None,
-                      limit: int = SETS_LIMIT) -> tuple[list[np.ndarray], int]:
+                      limit: int = SETS_LIMIT, first: Optional[int] = None) -> tuple[list[np.ndarray], int]:
     """The cycles among the locked codes (``steps < 0``) of a one-successor table, and how many.
 
     Returns the first ``limit`` cycles by smallest code (each sorted) and the
-    number of cycles. The locked codes are closed under the successor; after
-    2^r >= their number of doublings (``p = p[p]``) every code sits on its
-    cycle, and a cycle is labelled by the smallest position on it. Positions
-    are 32-bit and gathered a chunk at a time: at most 20 bytes a locked code.
+    number of cycles, found by walks between sampled codes
+    (:func:`checker.engines.walks.cycles`). Many locked codes are walked in
+    place; few are first numbered (8 bytes a locked code). With ``first``:
+    only the cycles reached from the ``first`` smallest locked codes, walked
+    in place (4 bytes a code and the codes listed).
     """
-    locked = np.concatenate([np.flatnonzero(steps[b:b + CHUNK] < 0).astype(np.int32) + np.int32(b)
-                             for b in range(0, steps.size, CHUNK)])
-    size = locked.size
+    n = succ.size
+    size = sum(int(np.count_nonzero(steps[b:b + CHUNK] < 0)) for b in range(0, n, CHUNK))
     if size == 0:
         return [], 0
+    if size * 4 > n or first is not None:
+        def step(cur: np.ndarray) -> tuple[np.ndarray, None]:
+            return succ[cur].astype(np.intp), None
+
+        sets, count = W.cycles(n, step, lambda lo, hi: steps[lo:hi] < 0, budget, limit, first)
+        return sets, count
+    locked = np.concatenate([np.flatnonzero(steps[b:b + CHUNK] < 0).astype(np.int32) + np.int32(b)
+                             for b in range(0, n, CHUNK)])
     pos = np.empty(size, dtype=np.int32)
     for lo in range(0, size, CHUNK):
         _tick(budget)
         pos[lo:lo + CHUNK] = np.searchsorted(locked, succ[locked[lo:lo + CHUNK]].astype(np.int32))
-    rounds = max(1, int(size).bit_length() + 1)
-    if bool((np.bincount(pos, minlength=size) == 1).all()):
-        on = np.arange(size, dtype=np.int32)  # a permutation of the locked codes: every one is on a cycle
-    else:
-        p = pos.copy()
-        for _ in range(rounds):
-            _tick(budget)
-            p = _take(p, p)
-        mark = np.zeros(size, dtype=bool)
-        for lo in range(0, size, CHUNK):
-            mark[p[lo:lo + CHUNK]] = True
-        del p
-        on = _positions(mark)
-        del mark
-    q = np.empty(on.size, dtype=np.int32)
-    for lo in range(0, on.size, CHUNK):
-        q[lo:lo + CHUNK] = np.searchsorted(on, pos[on[lo:lo + CHUNK]])
-    del pos
-    codes = _take(locked, on)
-    del locked, on
-    lab = np.arange(codes.size, dtype=np.int32)
-    for _ in range(rounds):
-        _tick(budget)
-        lab = np.minimum(lab, _take(lab, q))
-        q = _take(q, q)
-    del q
-    heads = np.flatnonzero(lab == np.arange(lab.size, dtype=np.int32))  # one per cycle, in code order
-    count = int(heads.size)
-    if count > limit:  # keep the cycles of the first ``limit`` heads only
-        keep = lab < heads[limit]
-        codes, lab = codes[keep], lab[keep]
-    order = np.argsort(lab, kind="stable")  # codes stay ascending within a cycle
-    lab = lab[order]
-    cuts = np.flatnonzero(np.diff(lab)) + 1
-    del lab
-    codes = codes[order]
-    del order
-    return [s.astype(np.int64) for s in np.split(codes, cuts)], count
+
+    def near(cur: np.ndarray) -> tuple[np.ndarray, None]:
+        return pos[cur].astype(np.intp), None
+
+    sets, count = W.cycles(size, near, None, budget, limit)
+    return [locked[s] for s in sets], count

@@ -14,17 +14,21 @@ refuses a check whose code leaves a flop out. Repair hints drawn from an
 :class:`Analysis` are in :mod:`checker.repair`.
 
 Memory: the tables are compact (:mod:`checker.engines.compact`): 4 bytes per
-code and input row for the successors, 4 per code for the depths, and what
-the analysis holds on top; :func:`feasible` states the bytes a run will need
+code and kept input row for the successors (a row that leads nowhere new
+from an unused code is folded away), 4 per code for the depths, and what the
+analysis holds on top; :func:`feasible` states the bytes a run will need
 from the width and the row count alone and refuses a check above
-:data:`compact.MEMORY_LIMIT` (8 GiB) before anything is built. With one
-input row that is 29 bytes a code at most: 2^28 codes fit, and the
-measured peaks are far below the bound (tests/perf/RESULTS_explicit.md).
+:data:`compact.MEMORY_LIMIT` (8 GiB), or above the memory the machine has
+available shared among the claims running at once, before anything is
+built. With one input row that is 27 bytes a code at most, with two rows 24:
+2^28 codes fit either way (tests/perf/RESULTS_explicit.md).
 
-Time: one vectorised pass per table chunk, then (one successor per code)
-runs of codes counting up by one contracted and the rest ranked by pointer
-jumping, or (several successors) retrograde rounds, one round per clock of
-the worst, finished by a work queue when a long thin tail remains.
+Time: one vectorised pass per table chunk; then, with one successor per
+code, runs of codes counting up by one contracted and the rest ranked, and
+the cycles found, by walks between hashed codes (:mod:`checker.engines.walks`);
+with several rows, strategy improvement over such one-successor tables
+(:mod:`checker.engines.strategy`), and the strongly connected sets of the
+locked codes up to :data:`SCC_LIMIT` of them.
 
 The engine before the compact tables (a successor table of at most
 :data:`EDGE_LIMIT` edges, pointer jumping over every code) is kept as
@@ -49,6 +53,7 @@ from ..model.events import EventModel, packed, unpacked
 from ..model.space import CodeSpace
 from .cascade import Exploration
 from . import compact as C
+from . import strategy as S
 
 ASYNC_MAX_WIDTH = 16
 """Widest code of an asynchronous design whose every clock the explicit engine explores."""
@@ -75,6 +80,9 @@ QUEUE_FRONTIER = 256
 """Below this many codes decided in a round (after VECTOR_ROUNDS rounds), depth goes by a work queue."""
 
 ONES = np.uint64(0xFFFFFFFFFFFFFFFF)
+
+SCC_LIMIT = 1 << 20
+"""Most locked codes, with several input rows, whose strongly connected sets are all listed."""
 
 
 def _tick(budget: Optional[Budget], depth: int) -> None:
@@ -147,6 +155,8 @@ class Analysis:
     unused_count: int = 0
     rounds: int = 0
     locked_total: int = -1
+    sets_complete: bool = True
+    """False when ``locked_sets`` are cycles found, not every strongly connected set (see :func:`analyse`)."""
 
     def __post_init__(self) -> None:
         if self.locked_total < 0:
@@ -193,8 +203,10 @@ def _next_input_nodes(space: CodeSpace) -> list[int]:
     return _input_nodes(space, [m.next_lits[i] for i in space.code] + list(m.async_clear) + list(m.async_preset))
 
 
-def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> tuple[bool, str]:
-    """Whether the explicit engine can take this check under ``cond``, and why not."""
+def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER, parallel: int = 1) -> tuple[bool, str]:
+    """Whether the explicit engine can take this check under ``cond``, and why not; the
+    memory it needs is held against its limit and against the memory this machine has
+    available shared among ``parallel`` claims running at once."""
     require_whole_state(space)
     w = space.width
     if not space.model.synchronous and w > ASYNC_MAX_WIDTH:
@@ -205,13 +217,13 @@ def feasible(space: CodeSpace, cond: int, solver: str = DEFAULT_SOLVER) -> tuple
     nxt = _next_input_nodes(space)
     if len(nxt) > INPUT_BITS_LIMIT:
         return False, f"{len(nxt)} input bits reach the next code (the explicit engine enumerates up to {INPUT_BITS_LIMIT})"
-    if C.memory_needed(w, 1 << len(nxt)) > C.MEMORY_LIMIT:
+    rows = 1 << len(nxt)
+    if C.memory_refusal(C.memory_needed(w, rows), "", parallel) is not None:
         # the exact row count may be smaller: the condition can fix some inputs
         rows = len(admissible_rows(space, cond, solver))
-        need = C.memory_needed(w, rows)
-        if need > C.MEMORY_LIMIT:
-            return False, (f"2^{w} codes and {rows} input row(s) would need {C.gib(need)} "
-                           f"(the explicit engine's limit is {C.gib(C.MEMORY_LIMIT)})")
+        why = C.memory_refusal(C.memory_needed(w, rows), f"2^{w} codes and {rows} input row(s)", parallel)
+        if why is not None:
+            return False, why
     return True, ""
 
 
@@ -324,8 +336,10 @@ def build_graph(space: CodeSpace, rows: Rows, budget: Optional[Budget] = None, c
         need = C.memory_needed(w, len(rows))
         if w > MAX_WIDTH or need > C.MEMORY_LIMIT:
             raise ValueError(f"the explicit engine would need {C.gib(need)}, over its {C.gib(C.MEMORY_LIMIT)}")
-        succ = C.successors(space, rows.values, rows.names, budget)
-        return Graph.of(w, succ, rows, C.members(space, budget))
+        member = C.members(space, budget)
+        succ, kept = C.folded_successors(space, rows.values, rows.names, member, budget)
+        rows = Rows(rows.names, [rows.values[r] for r in kept], [rows.full[r] for r in kept])
+        return Graph(w, succ, rows, member)
     m = space.model
     n = 1 << w
     total = n * len(rows)
@@ -647,24 +661,40 @@ def _cycles(g: Graph, steps: np.ndarray) -> list[np.ndarray]:
 def analyse(g: Graph, budget: Optional[Budget] = None, compact: bool = True) -> Analysis:
     """Exact worst steps of every unused code, the locked codes and every locked cycle set.
 
-    ``compact=False`` ranks a one-successor graph as the engine did before the
-    compact tables (pointer jumping over every code, 64-bit cycle search)."""
+    Several rows (compact): strategy improvement over one-successor tables
+    (:mod:`checker.engines.strategy`); the locked sets are the strongly
+    connected sets of the whole graph up to :data:`SCC_LIMIT` locked codes,
+    and beyond it the cycles the final strategy reaches from the smallest
+    :data:`compact.SETS_LIMIT` locked codes (each an admissible run that
+    stays out forever; ``sets_complete`` is then False, and ``locked_total``
+    counts those cycles).
+    ``compact=False`` ranks as the engine did before the compact tables
+    (pointer jumping over every code, retrograde rounds, 64-bit cycle search)."""
+    strat = None
     if g.deterministic and compact:
         steps, rounds = C.depth_functional(g.succ[0], g.member, budget)
     elif g.deterministic:
         steps, rounds = _depth_functional(g, budget)
+    elif compact:
+        steps, rounds, strat, _ = S.worst_depths(g.succ, g.member, budget)
     else:
         steps, rounds = _depth_game(g, budget)
     count = g.size - int(np.count_nonzero(g.member))
     if count == 0:
         return Analysis(g, steps, 0, None, [], 0, rounds)
+    complete = True
     if g.deterministic and compact:
         sets, total = C.functional_cycles(g.succ[0], steps, budget)
+    elif strat is not None and int(np.count_nonzero(steps < 0)) > SCC_LIMIT:
+        # beyond the limit: the cycles the strategy reaches from the smallest locked codes
+        sets, total = C.functional_cycles(strat, steps, budget, first=C.SETS_LIMIT)
+        complete = False
     else:
+        del strat
         sets = _cycles(g, steps)
         total = len(sets)
     if sets or bool((steps < 0).any()):  # a sequence code's steps are 0
-        return Analysis(g, steps, None, None, sets, count, rounds, total)
+        return Analysis(g, steps, None, None, sets, count, rounds, total, complete)
     worst_code = int(np.argmax(steps))
     return Analysis(g, steps, int(steps[worst_code]), worst_code, sets, count, rounds)
 

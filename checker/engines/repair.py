@@ -18,7 +18,7 @@ import numpy as np
 
 from ..words import count
 from .budget import Budget
-from .explicit import Analysis, Graph, analyse, inner_edges, scc_cycles, worst_step
+from .explicit import SCC_LIMIT, Analysis, Graph, analyse, inner_edges, scc_cycles, worst_step
 from .sat import DEFAULT_SOLVER
 
 EXACT_FVS_LIMIT = 128
@@ -94,7 +94,7 @@ def _exact_fvs(n: int, adj: list[list[int]], forced: set[int], solver: str) -> l
     from pysat.solvers import Solver
 
     cycles: list[list[int]] = []
-    k = 0
+    k = len(forced)  # every forced code is in the set: no smaller bound can be met
     while True:
         best: Optional[list[int]] = None
         while best is None:
@@ -136,6 +136,14 @@ def _greedy_fvs(n: int, src: np.ndarray, dst: np.ndarray, forced: set[int]) -> l
         removed[int(np.argmax(score))] = True
 
 
+def _cycle_left(n: int, src: np.ndarray, dst: np.ndarray, removed: set[int]) -> bool:
+    """Whether a cycle remains among nodes 0..n-1 once ``removed`` are taken out."""
+    gone = np.zeros(n, dtype=bool)
+    gone[list(removed)] = True
+    keep = ~gone[src] & ~gone[dst]
+    return bool(scc_cycles(n, src[keep], dst[keep]))
+
+
 def feedback_codes(a: Analysis, solver: str = DEFAULT_SOLVER) -> tuple[list[int], bool]:
     """A smallest set of unused codes meeting every cycle of unused codes, and whether it is exact.
 
@@ -158,7 +166,9 @@ def feedback_codes(a: Analysis, solver: str = DEFAULT_SOLVER) -> tuple[list[int]
         if not forced and src.size == n and np.unique(src).size == n:
             out.append(int(members[0]))  # a simple cycle: one code breaks it
             continue
-        if n <= EXACT_FVS_LIMIT:
+        if forced and not _cycle_left(n, src, dst, forced):
+            pick = sorted(forced)  # the codes that hold themselves break every cycle: nothing to choose
+        elif n <= EXACT_FVS_LIMIT:
             adj: list[list[int]] = [[] for _ in range(n)]
             for x, y in zip(src.tolist(), dst.tolist()):  # the edges are distinct
                 adj[x].append(y)
@@ -189,6 +199,10 @@ def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
     needs more than ``within`` clocks, redirect the code ``within - 1`` clocks
     down its worst run, then look again. Advice only.
     """
+    if not a.sets_complete:
+        return RepairPlan([], target, False, [], notes=[
+            f"no repair hint: more than {SCC_LIMIT} unused codes are locked under several inputs, and the "
+            "sets they form are not separated (a smallest set of codes to redirect needs them)"])
     codes, exact = feedback_codes(a, solver)
     notes = []
     if not exact:
@@ -214,6 +228,14 @@ def repair_plan(a: Analysis, target: int, within: Optional[int] = None,
         if extra:
             notes.append("the redirects for the clock bound are chosen greedily (not always the fewest)")
     succ = a.graph.succ
+    if codes and not a.graph.deterministic:
+        pick = np.asarray(codes, dtype=np.int64)
+        held = int(np.count_nonzero((succ[:, pick] == pick).any(axis=0)))
+        why = "(a hold that applies outside the sequence too), so none of them can be left out"
+        if held == len(codes):
+            notes.append(f"each of these codes goes to itself under some input {why}")
+        elif held:
+            notes.append(f"{held} of these {len(codes)} codes go to themselves under some input {why}")
     table = []
     for c in (codes + extra)[:TABLE_LIMIT]:
         table.append((c, sorted({int(x) for x in succ[:, c]}), target))
@@ -226,7 +248,7 @@ def plan_lines(plan: RepairPlan, fmt: Callable[[int], str] = str) -> list[str]:
     (``a/b``: either, by the inputs) and the next code proposed for it."""
     every = plan.codes + plan.for_within
     if not every:
-        return []
+        return list(plan.notes)
     lines = []
     if plan.codes:
         what = "the smallest set" if plan.exact else "a set"
