@@ -36,6 +36,7 @@ from ..model.aig import evaluate
 from ..model.events import EventModel, Firing, packed, unpacked
 from .common import Options, code_and_decimal, inputs_text, make_result, replay
 from .clocking import input_rows
+from .equal_wide import prove_after_wide
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 MAX_POINTS = 1 << 18
@@ -115,8 +116,38 @@ def _limit(check: Check, claim: Claim) -> Optional[str]:
 
 
 def prove_async(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
-    """Prove or refute ``equal`` with an asynchronous design on either side (see the module docstring)."""
+    """Prove or refute ``equal`` with an asynchronous design on either side (see the module docstring).
+    The ``after`` form goes to the firings miter (:mod:`checker.claims.equal_wide`) with ``--engine
+    sat``, and with ``auto`` past the explicit search's limits or when it stops at one."""
     why = _limit(check, claim)
+    if claim.mode == "after" and opts.engine != "explicit":
+        if opts.engine == "sat" or why is not None or _after_wide(check, claim):
+            return prove_after_wide(check, claim, opts, budget)
+        res = _explicit(check, claim, opts, budget, None)
+        if res.status == OPEN and not budget.expired():
+            wide = prove_after_wide(check, claim, opts, budget)
+            wide.evidence.insert(0, f"the explicit settled comparison stopped: {res.summary}")
+            return wide
+        return res
+    return _explicit(check, claim, opts, budget, why)
+
+
+AFTER_EXPLICIT_STATES = 1 << 16
+"""With ``auto``, ``equal ... after`` visits every state of each design explicitly (for the reset)
+up to this many states under every input; past it the firings miter goes instead."""
+
+
+def _after_wide(check: Check, claim: Claim) -> bool:
+    """Whether the explicit reset search of ``equal ... after`` would visit more than
+    :data:`AFTER_EXPLICIT_STATES` (state, input) points in either design."""
+    b = claim.other
+    assert b is not None
+    n_in = len(check.design.model.inputs)
+    return any((1 << len(d.model.states)) << n_in > AFTER_EXPLICIT_STATES for d in (check.design, b))
+
+
+def _explicit(check: Check, claim: Claim, opts: Options, budget: Budget, why: Optional[str]) -> Result:
+    """The explicit settled comparison, or ``open`` saying why it cannot take the claim."""
     if why is not None:
         return make_result(check, claim, OPEN, f"an asynchronous design is compared through its settled codes "
                            f"by an exhaustive search, which cannot take this one: {why}",

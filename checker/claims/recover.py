@@ -27,7 +27,7 @@ from ..engines.budget import Budget, OutOfBudget
 from ..engines.sat import satisfiable
 from ..engines.unused_runs import SatSearch, sat_search
 from ..errors import InputError
-from ..engines.cascade import Exploration, never_settling
+from ..engines.cascade import CascadeLimit, Exploration, never_settling
 from ..model.events import EventModel
 from .clocking import events_json, order_lines, settle_order, state_of, warning_lines
 from ..words import count
@@ -122,6 +122,9 @@ def _prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
                               details={"engine": "explicit", "worst": None, "locked": None, "depth": e.depth})
         except X.NeverSettles as e:
             res = _never_settles(check, claim, e)
+        except CascadeLimit as e:
+            res = make_result(check, claim, OPEN, f"the explicit cascade engine reached its limit: {e}",
+                              details={"engine": "explicit", "worst": None, "locked": None, "depth": None})
     elif engine == "firings":
         res = prove_wide(check, claim, cond, opts, budget)
     else:

@@ -36,7 +36,11 @@ order has more than L firings. Two ways to know that:
   source, so by induction along the clock tree every flop fires at most once,
   and a flop whose clock chain never reaches the system clock never fires.
   L = the number of flops whose chain reaches the system clock (and the
-  depth is at most the longest chain);
+  depth is at most the longest chain). An asynchronous clear or preset read
+  from the inputs alone (a reset pin) is constant for the whole clock, so the
+  same holds (:func:`structural_bound`); a SAT proof of that bound would be a
+  pigeonhole argument over every order of the flops it clears, which
+  resolution cannot make short;
 * by SAT otherwise: no order of L firings exists (every step firing is
   unsatisfiable), so every order settles within L - 1 firings. An order of L
   firings that comes back to a cascade it has met is one that never
@@ -106,10 +110,20 @@ def structural_bound(model: Model) -> Optional[int]:
     """The most firings of any order of one clock, when the clock tree alone bounds it: with no
     asynchronous clear or preset, every flop fires at most once (see the module docstring),
     so the bound is the number of flops clocked from the system clock through their chain.
-    None when some asynchronous clear or preset exists (the SAT termination search decides)."""
-    if any(l != FALSE for l in model.async_clear) or any(l != FALSE for l in model.async_preset):
-        return None
-    return sum(system_rooted(model))
+    An asynchronous clear or preset read from the inputs only keeps that: the inputs hold for
+    the whole clock, so it holds throughout or never; a flop it holds for fires at most once
+    (to its target, its clock edges ignored) and one it never holds for is clocked as without
+    it; the bound adds the flops outside the clock tree that have one. None when some
+    asynchronous clear or preset reads a flop (the SAT termination search decides)."""
+    lits = [l for l in list(model.async_clear) + list(model.async_preset) if l not in (FALSE, TRUE)]
+    if lits:
+        inputs = {l >> 1 for l in model.input_lits}
+        aig = model.aig
+        if any(aig.left[x] < 0 and x not in inputs for x in aig.cone(lits)):
+            return None
+    clr = model.async_clear or [FALSE] * len(model.states)
+    pre = model.async_preset or [FALSE] * len(model.states)
+    return sum(r or c != FALSE or p != FALSE for r, c, p in zip(system_rooted(model), clr, pre))
 
 
 @dataclass
