@@ -81,7 +81,7 @@ def test_the_firings_engine_names_its_bound_and_replays_its_worst_run(tmp_path):
     assert any(e.startswith("worst: 5 clocks, from code 16777215") for e in r.evidence)
 
 
-@pytest.mark.parametrize("n", [6, 8])
+@pytest.mark.parametrize("n", [6])
 def test_a_short_clear_pulse_locks_the_decoded_ripple_divider(tmp_path, n):
     """The divider of tests/test_firings.py, cleared from stages n-1 and 1: a clear that drops before
     every stage has changed lets the falls ripple on, and some unused codes go round for ever."""

@@ -160,6 +160,11 @@ def fire(model: Model, state: int, inputs: dict[str, int], flops: Sequence[int])
     return out
 
 
+TIGHTEN_CONFLICTS = 5_000
+"""Conflicts each question of the tightening of a SAT-found bound may take (the bound stays
+sound without it: a question left unanswered keeps the larger number)."""
+
+
 def clock_bound(model: Model, extra: Sequence[int], budget: Optional[Budget], solver: str = DEFAULT_SOLVER,
                 max_firings: Optional[int] = None) -> Bound:
     """How many steps cover every order of one clock from every start code and input meeting the
@@ -178,8 +183,8 @@ def clock_bound(model: Model, extra: Sequence[int], budget: Optional[Budget], so
         lo, hi = 0, b.steps + 1
         while hi - lo > 1:
             mid = (lo + hi) // 2
-            if fir.solve(list(start) + [st.fired for st in fir.steps[:mid]], budget):
-                lo = mid
+            if fir.try_solve(list(start) + [st.fired for st in fir.steps[:mid]], TIGHTEN_CONFLICTS, budget) is not False:
+                lo = mid  # an order of mid firings, or no quick proof that none exists
             else:
                 hi = mid
         return Bound(hi - 1, "sat", tried=b.tried)
