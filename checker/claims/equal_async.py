@@ -120,21 +120,32 @@ def prove_async(check: Check, claim: Claim, opts: Options, budget: Budget) -> Re
     The ``after`` form goes to the firings miter (:mod:`checker.claims.equal_wide`) with ``--engine
     sat``, and with ``auto`` past the explicit search's limits or when it stops at one."""
     why = _limit(check, claim)
-    if claim.mode == "after" and opts.engine != "explicit":
-        if opts.engine == "sat" or why is not None or _after_wide(check, claim):
-            return prove_after_wide(check, claim, opts, budget)
-        res = _explicit(check, claim, opts, budget, None)
-        if res.status == OPEN and not budget.expired():
-            wide = prove_after_wide(check, claim, opts, budget)
-            wide.evidence.insert(0, f"the explicit settled comparison stopped: {res.summary}")
-            return wide
+    if claim.mode == "after" and opts.engine == "sat":
+        return prove_after_wide(check, claim, opts, budget)
+    if claim.mode == "after" and opts.engine == "auto":
+        first, then = (_wide, _exact) if why is not None or _after_wide(check, claim) else (_exact, _wide)
+        res = first(check, claim, opts, budget, why)
+        if res.status == OPEN and not budget.expired() and (then is _wide or why is None):
+            other = then(check, claim, opts, budget, why)
+            other.evidence.insert(0, f"{res.details.get('engine')} stopped first: {res.summary}")
+            return other
         return res
     return _explicit(check, claim, opts, budget, why)
 
 
-AFTER_EXPLICIT_STATES = 1 << 16
-"""With ``auto``, ``equal ... after`` visits every state of each design explicitly (for the reset)
-up to this many states under every input; past it the firings miter goes instead."""
+def _wide(check: Check, claim: Claim, opts: Options, budget: Budget, why: Optional[str]) -> Result:
+    return prove_after_wide(check, claim, opts, budget)
+
+
+def _exact(check: Check, claim: Claim, opts: Options, budget: Budget, why: Optional[str]) -> Result:
+    return _explicit(check, claim, opts, budget, why)
+
+
+AFTER_EXPLICIT_STATES = 1 << 10
+"""With ``auto``, ``equal ... after`` goes to the explicit search first up to this many (state,
+input) points in each design, and to the firings miter first past it (an 8-bit ripple counter
+against a synchronous one: 4.5 s explicit, 0.1 s by the miter, tests/perf/RESULTS_async_wide.md);
+either way the other follows when the first is open with time left."""
 
 
 def _after_wide(check: Check, claim: Claim) -> bool:
