@@ -131,3 +131,36 @@ def test_equal_after_verdicts_agree_between_engines(tmp_path, spec, k, same):
     if ex.status == REFUTED and "differ" in ex.summary:
         # both searches find a shortest run to a difference
         assert "differ" in sat.summary and ex.trace[-1].clock == sat.trace[-1].clock, (full, ex.summary, sat.summary)
+
+
+@pytest.mark.parametrize("n, engines", [(5, ["explicit", "sat"]), (24, ["auto"]), (32, ["auto"])])
+@pytest.mark.parametrize("form", ["", " on sequence"])
+def test_paired_forms_on_wide_designs(tmp_path, n, engines, form):
+    for miswired in (False, True):
+        chk = load(tmp_path, counters(n, miswired).replace("equal steady after rst", "equal steady" + form)).checks[0]
+        for engine in engines:
+            r = run_claim(chk, chk.claims[-1], Options(engine=engine, timeout=300))
+            assert r.status == (REFUTED if miswired else PROVED), (engine, r.summary)
+            if engine != "explicit":
+                assert r.details["engine"] == "firings miter"
+            if miswired:
+                assert r.trace[0].events is not None and r.trace[1].code != r.trace[1].other_code
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(designs(), st.integers(0, 40), st.booleans(), st.booleans(), st.integers(0, 14))
+def test_paired_equal_verdicts_agree_between_engines(tmp_path, spec, k, same, on_seq, last):
+    n, text = spec
+    a = text
+    b = (text if same else mutate(text, k)).replace("design mix", "design other")
+    code = ", ".join(f"q[{i}]" for i in reversed(range(n)))
+    form = " on sequence" if on_seq else ""
+    full = a + b + (f"check c of mix\n  code {{{code}}}\n  count 0 .. {min(last, 2 ** n - 1)}\n"
+                    f"  equal other{form}\nend\n")
+    chk = load(tmp_path, full).checks[0]
+    claim = chk.claims[-1]
+    ex = run_claim(chk, claim, Options(engine="explicit", timeout=120))
+    sat = run_claim(chk, claim, Options(engine="sat", timeout=120))
+    if OPEN in (ex.status, sat.status):
+        return
+    assert ex.status == sat.status, (full, ex.summary, sat.summary)

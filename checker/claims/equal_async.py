@@ -20,7 +20,9 @@ which one they take.
   every input, outputs compared at each (an explicit product machine search).
 
 Both are exhaustive and limited (:data:`MAX_POINTS`, :data:`MAX_PAIRS`,
-:data:`MAX_INPUT_BITS`); past a limit the claim is ``open`` with the reason.
+:data:`MAX_INPUT_BITS`); past a limit (or with ``--engine sat``) the claim
+goes to the firings miter (:mod:`checker.claims.equal_wide`), and ``compare``
+says it cannot take the designs.
 """
 
 from __future__ import annotations
@@ -36,7 +38,7 @@ from ..model.aig import evaluate
 from ..model.events import EventModel, Firing, packed, unpacked
 from .common import Options, code_and_decimal, inputs_text, make_result, replay
 from .clocking import input_rows
-from .equal_wide import prove_after_wide
+from .equal_wide import prove_after_wide, prove_paired_wide
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 MAX_POINTS = 1 << 18
@@ -117,8 +119,9 @@ def _limit(check: Check, claim: Claim) -> Optional[str]:
 
 def prove_async(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
     """Prove or refute ``equal`` with an asynchronous design on either side (see the module docstring).
-    The ``after`` form goes to the firings miter (:mod:`checker.claims.equal_wide`) with ``--engine
-    sat``, and with ``auto`` past the explicit search's limits or when it stops at one."""
+    Every form goes to the firings miter (:mod:`checker.claims.equal_wide`) with ``--engine sat``,
+    and with ``auto`` past the explicit search's limits; the ``after`` form also when the
+    explicit search stops at one, and first from :data:`AFTER_EXPLICIT_STATES` points."""
     why = _limit(check, claim)
     if claim.mode == "after" and opts.engine == "sat":
         return prove_after_wide(check, claim, opts, budget)
@@ -129,6 +132,11 @@ def prove_async(check: Check, claim: Claim, opts: Options, budget: Budget) -> Re
             other = then(check, claim, opts, budget, why)
             other.evidence.insert(0, f"{res.details.get('engine')} stopped first: {res.summary}")
             return other
+        return res
+    if opts.engine == "sat" or (opts.engine == "auto" and why is not None):
+        res = prove_paired_wide(check, claim, opts, budget)
+        if why is not None:
+            res.evidence.insert(0, f"the exhaustive settled comparison cannot take this claim: {why}")
         return res
     return _explicit(check, claim, opts, budget, why)
 

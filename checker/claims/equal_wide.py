@@ -18,7 +18,7 @@ from typing import Optional
 
 from ..elab import Check, Claim, Design
 from ..engines.budget import Budget, OutOfBudget
-from ..engines.clock_miter import MiterSearch, Reset, after_search, reset
+from ..engines.clock_miter import MiterSearch, Reset, after_search, paired_search, reset
 from ..engines.clock_runs import fire
 from ..engines.sat import satisfiable
 from ..errors import InputError
@@ -149,3 +149,78 @@ def _undetermined(check: Check, claim: Claim, d: Design, r: Reset, opts: Options
     if d is not check.design:  # the other design's run: its code beside, the check's own left at 0
         trace = [TraceEntry(0, 0, trace[0].inputs, trace[0].code)]
     return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=[summary] + lines)
+
+
+def prove_paired_wide(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+    """``equal D`` and ``equal D on sequence`` by one SAT question over one clock of both designs
+    (:func:`checker.engines.clock_miter.paired_search`): every state (or code of the sequence)
+    and input, every order of each."""
+    try:
+        return _paired(check, claim, opts, budget)
+    except OutOfBudget as e:
+        return make_result(check, claim, OPEN, "ran out of time in the firings miter",
+                           details={"engine": ENGINE, "depth": e.depth})
+
+
+def _paired(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
+    a, b = check.design, claim.other
+    assert b is not None
+    pos = [b.model.states.index(n) for n in a.model.states]
+    idx = list(check.code)
+    bidx = [pos[i] for i in idx]
+    seq = check.sequence
+    on_seq = claim.mode == "sequence" and seq is not None
+    dom: tuple[list[int], list[int]] = ([], [])
+    if on_seq:
+        assert seq is not None
+        dom = ([seq.member(a.model.aig, check.code_lits())],
+               [seq.member(b.model.aig, [b.model.state_lits[j] for j in reversed(bidx)])])
+    s = paired_search(a.model, b.model, pos, dom, budget, opts.solver)
+    details: dict = {"engine": ENGINE, "firings": list(s.firings)}
+    where = f"in every code of the sequence ({seq.describe()})" if on_seq and seq is not None else "in every state"
+    if s.status == "open":
+        return make_result(check, claim, OPEN, "open: " + s.why, details=dict(details, depth=0))
+    if s.status == "same":
+        return make_result(check, claim, PROVED, f"{a.name} and {b.name} settle in the same code, by every order, "
+                           f"and give the same outputs {where}", details=details,
+                           evidence=[f"engine {ENGINE}: one SAT question over every start, input and pair of "
+                                     f"orders, each clock unrolled to {s.firings[0]} and {s.firings[1]} firings "
+                                     f"(no order has more)"])
+
+    def f(c: int) -> str:
+        return code_and_decimal(c, check.width, opts.radix)
+    if s.status == "never":
+        assert s.never is not None
+        state, inputs, flops = s.never
+        d = a if s.who == "a" else b
+        firings = fire(d.model, state, inputs, flops)
+        code = unpacked(idx if d is a else bidx, state)
+        summary = f"at code {f(code)} under {inputs_text(None, inputs)}: an order of {d.name}'s firings never settles"
+        ev = [summary, f"  {d.name}: {_order_text(d.model, firings)} (back to a cascade it has met)"]
+        if d is a:
+            trace = [TraceEntry(0, code, dict(inputs), events=_events(a.model, firings, idx))]
+            replay(a, check, trace)
+        else:
+            trace = [TraceEntry(0, code, dict(inputs), other_code=code)]
+            replay(b, check, [TraceEntry(0, code, dict(inputs), events=_events(b.model, firings, bidx))], code=bidx)
+        return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev)
+    code = unpacked(idx, s.state)
+    fa = fire(a.model, s.state, s.inputs, s.orders[0])
+    sb = sum(((s.state >> i) & 1) << pos[i] for i in range(len(pos)))
+    fb = fire(b.model, sb, s.inputs, s.orders[1])
+    ea, eb = unpacked(idx, s.ends[0]), unpacked(bidx, s.ends[1])
+    trace = [TraceEntry(0, code, dict(s.inputs), code, _events(a.model, fa, idx)), TraceEntry(1, ea, None, eb)]
+    replay(a, check, trace)
+    replay(b, check, [TraceEntry(0, code, dict(s.inputs), events=_events(b.model, fb, bidx)), TraceEntry(1, eb)],
+           code=bidx)
+    what = []
+    if ea != eb:
+        what.append(f"{a.name} can settle in {f(ea)}, {b.name} in {f(eb)}")
+    if s.outputs:
+        what.append(f"output{'s' if len(s.outputs) > 1 else ''} {', '.join(s.outputs[:6])} "
+                    f"differ{'' if len(s.outputs) > 1 else 's'}")
+    summary = f"at code {f(code)} under {inputs_text(None, s.inputs)}: {'; '.join(what)}"
+    details.update(outputs_differ=s.outputs, other_events=_events(b.model, fb, bidx))
+    ev = [summary, f"  {a.name}: {_order_text(a.model, fa)} settles in {f(ea)}",
+          f"  {b.name}: {_order_text(b.model, fb)} settles in {f(eb)}"]
+    return make_result(check, claim, REFUTED, summary, trace=trace, details=details, evidence=ev)

@@ -199,3 +199,71 @@ def after_search(a: Model, b: Model, start: tuple[int, int], budget: Budget, sol
         base.close()
         ind.close()
 
+
+
+@dataclass
+class PairedSearch:
+    """One clock of two designs from every state (flops paired by name) that ``domain`` admits.
+    ``status``: 'same' (outputs agree and every order of both settles in one code), 'differ'
+    (``state``, ``inputs``, an order of each, ``ends`` their settled states, ``outputs`` that
+    differ), 'never' (``who`` is 'a' or 'b', ``never`` = (state of that design, inputs, flops):
+    an order that never settles), 'open' (``why``)."""
+
+    status: str
+    state: int = 0
+    inputs: dict[str, int] = field(default_factory=dict)
+    orders: tuple[list[int], list[int]] = ([], [])
+    ends: tuple[int, int] = (0, 0)
+    outputs: list[str] = field(default_factory=list)
+    who: str = ""
+    never: Optional[tuple[int, dict[str, int], list[int]]] = None
+    why: str = ""
+    firings: tuple[Optional[int], Optional[int]] = (None, None)
+
+
+def paired_search(a: Model, b: Model, pos: list[int], domain: tuple[list[int], list[int]], budget: Budget,
+                  solver: str = DEFAULT_SOLVER) -> PairedSearch:
+    """Whether, from every state of ``a`` meeting the model literals ``domain[0]`` (the same state
+    of ``b``, flop ``i`` of ``a`` being flop ``pos[i]`` of ``b``, meets ``domain[1]``) under every
+    input, the outputs agree and every order of one clock of each design settles in one and the
+    same code: one SAT question, each design's order free, after a proved bound on firings
+    over that domain (an order that never settles there refutes)."""
+    bounds = []
+    for who, m, dom in (("a", a, domain[0]), ("b", b, domain[1])):
+        bd = clock_bound(m, dom, budget, solver)
+        if bd.never is not None:
+            return PairedSearch("never", who=who, never=bd.never)
+        if bd.steps is None:
+            return PairedSearch("open", why=f"orders of {bd.tried} firings that never come back to a cascade they "
+                                            f"have met, and the search for a bound stopped there")
+        bounds.append(bd.steps)
+    u = Unrolled(solver)
+    try:
+        g = u.g
+        ca = Chain(u, a, bounds[0], "a")
+        back = {j: i for i, j in enumerate(pos)}
+        cb = Chain(u, b, bounds[1], "b", [ca.codes[0][back[j]] for j in range(len(b.states))])
+        names = list(a.inputs)
+        ins = dict(zip(names, u.leaves([f"{n}@0" for n in names])))
+        ia, ib = [ins[n] for n in a.inputs], [ins[n] for n in b.inputs]
+        for lit in ca.at(0, ia, domain[0]):
+            u.hold(lit)
+        for lit in cb.at(0, ib, domain[1]):
+            u.hold(lit)
+        oa = ca.at(0, ia, a.output_lits)
+        ob = dict(zip(b.outputs, cb.at(0, ib, b.output_lits)))
+        diffs = [g.xor(x, ob[n]) for n, x in zip(a.outputs, oa)]
+        for d in diffs:
+            u.lit(d)
+        ca.clock(ia)
+        cb.clock(ib)
+        apart = [g.xor(ca.codes[1][i], cb.codes[1][pos[i]]) for i in range(len(a.states))]
+        budget.report(depth=1, engine="firings miter")
+        firings = (bounds[0], bounds[1])
+        if not u.solve([g.or_all(diffs + apart)], budget, 1):
+            return PairedSearch("same", firings=firings)
+        return PairedSearch("differ", ca.state(0), {n: u.value(l) for n, l in ins.items()},
+                            (ca.order(0), cb.order(0)), (ca.state(1), cb.state(1)),
+                            [n for n, d in zip(a.outputs, diffs) if u.value(d)], firings=firings)
+    finally:
+        u.close()
