@@ -98,8 +98,12 @@ def prove_wide(check: Check, claim: Claim, cond: int, opts: Options, budget: Bud
         return make_result(check, claim, OPEN, f"the firings engine found orders of {s.tried} firings from unused "
                            f"codes that never come back to a cascade they have met, and stopped there",
                            details=details)
-    evidence = [f"engine {ENGINE}: every order of a clock from an unused code settles within "
-                f"{count(s.steps or 0, 'firing')} ({'by the clock tree' if s.how == 'structure' else 'proved by SAT'})"]
+    if s.steps is None:  # a lock found before any bound: each clock shown is an order that settles
+        evidence = [f"engine {ENGINE}: runs whose every clock settles within {count(s.tried, 'firing')} "
+                    f"searched first (a refutation needs no bound on firings)"]
+    else:
+        evidence = [f"engine {ENGINE}: every order of a clock from an unused code settles within "
+                    f"{count(s.steps, 'firing')} ({'by the clock tree' if s.how == 'structure' else 'proved by SAT'})"]
     if s.status == "open":
         details["worst"] = None
         evidence.append(f"no locked cycle and some unused code still unused after {count(s.depth, 'clock')}, "

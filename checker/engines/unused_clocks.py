@@ -37,6 +37,7 @@ from ..model.events import unpacked
 from ..model.space import CodeSpace
 from .budget import Budget
 from .clock_runs import Chain, Run, Unrolled, clock_bound, fire, read_run, settling_order
+from .firings import structural_bound
 from .sat import DEFAULT_SOLVER
 from .unused_runs import EXTRA_DEPTH, MAX_SAT_DEPTH, PAIR_DEPTH, SatSearch
 
@@ -124,6 +125,10 @@ def clock_search(space: CodeSpace, cond: int, within: Optional[int], budget: Bud
     complete questions (see the module docstring); 'open' with the depth reached when the
     budget or ``max_depth`` runs out."""
     budget.report(depth=0, engine="firings")
+    if structural_bound(space.model) is None:
+        quick = _quick_refutation(space, cond, within, budget.share(0.25, 1.0, QUICK_SECONDS), solver)
+        if quick is not None:
+            return quick
     bound = clock_bound(space.model, [space.member_lit() ^ 1, cond], budget, solver)
     if bound.never is not None:
         return ClockSearch("never", 0, never=bound.never, how=bound.how, tried=bound.tried)
@@ -171,6 +176,47 @@ def clock_search(space: CodeSpace, cond: int, within: Optional[int], budget: Bud
             budget.report(depth=k, engine="firings")
             if stop_at is not None and time.monotonic() - t0 > (stop_at - time.monotonic()) / 4:
                 return _stopped(f, k, slow, info)
+    finally:
+        f.close()
+
+
+QUICK_SECONDS = 10.0
+"""Longest the search for a refutation before the bound on firings may take (a quarter of the
+time left when there is a deadline)."""
+
+QUICK_FIRINGS = 2
+"""That search unrolls each clock to this many firings per flop, plus one (a clear that drops
+early lets a stage fire twice: the lock of tests/test_recover_wide.py needs 2n - 1 firings)."""
+
+QUICK_CONFLICTS = 20_000
+"""Conflicts each question of that search may take; one left unanswered finds nothing."""
+
+QUICK_CLOCKS = 4
+"""Most clocks that search unrolls: it looks for short locked cycles only (a slow run it found
+would leave the worst unknown, which the full search gives)."""
+
+
+def _quick_refutation(space: CodeSpace, cond: int, within: Optional[int], budget: Budget,
+                      solver: str) -> Optional[ClockSearch]:
+    """A short locked cycle among runs whose every clock settles
+    within 2n+1 firings, before the bound on firings is known. Whatever it finds is a real run
+    (each clock an order that settles), so it refutes; finding nothing proves nothing, since a
+    clock may have longer orders: the caller goes on to the bound. Proving that bound can take
+    the solver minutes where a lock shows within two clocks (a clear decoded from many stages)."""
+    steps = QUICK_FIRINGS * len(space.model.states) + 1
+    limit = QUICK_CLOCKS
+    f = _Runs(space, cond, steps, solver)
+    info = dict(steps=None, how="none needed: the runs shown settle at every clock", tried=steps)
+    try:
+        for k in range(limit + 1):
+            if budget.expired():
+                return None
+            f.grow(True)
+            if not f.u.sat.solve_limited([], QUICK_CONFLICTS):
+                return None  # no run of k+1 unused codes among these, or no quick answer
+            if k > 0 and f.u.sat.solve_limited([f.loops[k]], QUICK_CONFLICTS):
+                return _locked(f, k, None, info)
+        return None
     finally:
         f.close()
 
