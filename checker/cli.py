@@ -174,8 +174,8 @@ def build_parser() -> argparse.ArgumentParser:
                         help=f"python-sat solver (default {api.DEFAULT_SOLVER})")
         if engine:
             sp.add_argument("--engine", choices=["auto", "sat", "explicit"], default="auto",
-                            help="engine for recover claims and maps, and for count, settle and glitchfree "
-                                 "on asynchronous designs (default: chosen per claim)")
+                            help="engine for recover claims and maps, and for count, settle, glitchfree and "
+                                 "equal ... after on asynchronous designs (default: chosen per claim)")
 
     def radix_option(sp):
         sp.add_argument("--radix", choices=api.RADIXES, default=None,

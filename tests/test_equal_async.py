@@ -113,14 +113,19 @@ def test_ripple_decade_with_decoded_clear_differs_from_the_synchronous_one(tmp_p
     assert after.details["engine"] == "explicit settled"
 
 
-def test_equal_on_an_asynchronous_design_is_open_past_its_limit(tmp_path):
+def test_equal_on_an_asynchronous_design_past_the_explicit_limit(tmp_path):
+    """--engine explicit is open past its limit; auto takes the firings miter, which proves it."""
     lines = ["design wide_r", "  in en"] + ["  flop q[0] : T (t = en)"] + \
         [f"  flop q[{i}] : T (t = 1) clock fall q[{i - 1}]" for i in range(1, 20)] + ["end"]
     text = "\n".join(lines) + "\n" + "\n".join(lines).replace("wide_r", "wide_s") + "\n"
     code = ", ".join(f"q[{i}]" for i in reversed(range(20)))
     text += f"check w of wide_r\n  code {{{code}}}\n  count 0 .. {2 ** 20 - 1}\n  hold when !en\n  equal wide_s\nend\n"
-    r = run_claim(load(tmp_path, text).checks[0], load(tmp_path, text).checks[0].claims[1], Options(timeout=60))
+    chk = load(tmp_path, text).checks[0]
+    r = run_claim(chk, chk.claims[1], Options(engine="explicit", timeout=60))
     assert r.status == OPEN and "settled comparison" in r.summary
+    r = run_claim(chk, chk.claims[1], Options(timeout=60))
+    assert r.status == PROVED and r.details["engine"] == "firings miter"
+    assert any("cannot take this claim" in e for e in r.evidence)
 
 
 def _settles_uniquely(model, n):

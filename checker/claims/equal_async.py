@@ -20,7 +20,9 @@ which one they take.
   every input, outputs compared at each (an explicit product machine search).
 
 Both are exhaustive and limited (:data:`MAX_POINTS`, :data:`MAX_PAIRS`,
-:data:`MAX_INPUT_BITS`); past a limit the claim is ``open`` with the reason.
+:data:`MAX_INPUT_BITS`); past a limit (or with ``--engine sat``) the claim
+goes to the firings miter (:mod:`checker.claims.equal_wide`), and ``compare``
+says it cannot take the designs.
 """
 
 from __future__ import annotations
@@ -36,6 +38,7 @@ from ..model.aig import evaluate
 from ..model.events import EventModel, Firing, packed, unpacked
 from .common import Options, code_and_decimal, inputs_text, make_result, replay
 from .clocking import input_rows
+from .equal_wide import prove_after_wide, prove_paired_wide
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 MAX_POINTS = 1 << 18
@@ -115,8 +118,55 @@ def _limit(check: Check, claim: Claim) -> Optional[str]:
 
 
 def prove_async(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
-    """Prove or refute ``equal`` with an asynchronous design on either side (see the module docstring)."""
+    """Prove or refute ``equal`` with an asynchronous design on either side (see the module docstring).
+    Every form goes to the firings miter (:mod:`checker.claims.equal_wide`) with ``--engine sat``,
+    and with ``auto`` past the explicit search's limits; the ``after`` form also when the
+    explicit search stops at one, and first from :data:`AFTER_EXPLICIT_STATES` points."""
     why = _limit(check, claim)
+    if claim.mode == "after" and opts.engine == "sat":
+        return prove_after_wide(check, claim, opts, budget)
+    if claim.mode == "after" and opts.engine == "auto":
+        first, then = (_wide, _exact) if why is not None or _after_wide(check, claim) else (_exact, _wide)
+        res = first(check, claim, opts, budget, why)
+        if res.status == OPEN and not budget.expired() and (then is _wide or why is None):
+            other = then(check, claim, opts, budget, why)
+            other.evidence.insert(0, f"{res.details.get('engine')} stopped first: {res.summary}")
+            return other
+        return res
+    if opts.engine == "sat" or (opts.engine == "auto" and why is not None):
+        res = prove_paired_wide(check, claim, opts, budget)
+        if why is not None:
+            res.evidence.insert(0, f"the exhaustive settled comparison cannot take this claim: {why}")
+        return res
+    return _explicit(check, claim, opts, budget, why)
+
+
+def _wide(check: Check, claim: Claim, opts: Options, budget: Budget, why: Optional[str]) -> Result:
+    return prove_after_wide(check, claim, opts, budget)
+
+
+def _exact(check: Check, claim: Claim, opts: Options, budget: Budget, why: Optional[str]) -> Result:
+    return _explicit(check, claim, opts, budget, why)
+
+
+AFTER_EXPLICIT_STATES = 1 << 10
+"""With ``auto``, ``equal ... after`` goes to the explicit search first up to this many (state,
+input) points in each design, and to the firings miter first past it (an 8-bit ripple counter
+against a synchronous one: 4.5 s explicit, 0.1 s by the miter, tests/perf/RESULTS_async_wide.md);
+either way the other follows when the first is open with time left."""
+
+
+def _after_wide(check: Check, claim: Claim) -> bool:
+    """Whether the explicit reset search of ``equal ... after`` would visit more than
+    :data:`AFTER_EXPLICIT_STATES` (state, input) points in either design."""
+    b = claim.other
+    assert b is not None
+    n_in = len(check.design.model.inputs)
+    return any((1 << len(d.model.states)) << n_in > AFTER_EXPLICIT_STATES for d in (check.design, b))
+
+
+def _explicit(check: Check, claim: Claim, opts: Options, budget: Budget, why: Optional[str]) -> Result:
+    """The explicit settled comparison, or ``open`` saying why it cannot take the claim."""
     if why is not None:
         return make_result(check, claim, OPEN, f"an asynchronous design is compared through its settled codes "
                            f"by an exhaustive search, which cannot take this one: {why}",

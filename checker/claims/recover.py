@@ -27,12 +27,13 @@ from ..engines.budget import Budget, OutOfBudget
 from ..engines.sat import satisfiable
 from ..engines.unused_runs import SatSearch, sat_search
 from ..errors import InputError
-from ..engines.cascade import Exploration, never_settling
+from ..engines.cascade import CascadeLimit, Exploration, never_settling
 from ..model.events import EventModel
 from .clocking import events_json, order_lines, settle_order, state_of, warning_lines
 from ..words import count
 from .common import Options, code_and_decimal, code_text, inputs_text, make_result, replay, stepping
 from .conditions import recover_condition
+from .recover_wide import prove_wide
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 TRACE_LIMIT = 4096
@@ -67,16 +68,19 @@ def claim_condition(check: Check, claim: Claim, solver: str) -> int:
 # --- the claim -------------------------------------------------------------------
 
 def choose_engine(check: Check, cond: int, opts: Options) -> tuple[str, str]:
-    """('explicit' | 'sat', why): the engine a recover question runs on. An asynchronous
-    design goes to the explicit engine, which explores every order of its clocks."""
+    """('explicit' | 'sat' | 'firings', why): the engine a recover question runs on. An
+    asynchronous design goes to the explicit engine, which explores every order of its clocks,
+    when it can take it; past that (or with ``--engine sat``) to the chained firings engine
+    (:mod:`checker.claims.recover_wide`)."""
     ok, why = X.feasible(check.space, cond, opts.solver, opts.parallel)
     if not check.design.model.synchronous:
-        pos = check.sequence_pos or check.pos
         if opts.engine == "sat":
-            raise InputError(pos, "the SAT engine does not read asynchronous designs; use --engine explicit or auto")
+            return "firings", ""
         if not ok:
-            raise InputError(pos, f"recover on this asynchronous design needs the explicit engine, "
-                                  f"which cannot take it: {why}")
+            if opts.engine == "explicit":
+                raise InputError(check.sequence_pos or check.pos,
+                                 f"the explicit engine cannot take this asynchronous design: {why}")
+            return "firings", f"explicit engine not used: {why}"
         return "explicit", ""
     if opts.engine == "explicit":
         if not ok:
@@ -118,6 +122,11 @@ def _prove(check: Check, claim: Claim, opts: Options, budget: Budget) -> Result:
                               details={"engine": "explicit", "worst": None, "locked": None, "depth": e.depth})
         except X.NeverSettles as e:
             res = _never_settles(check, claim, e)
+        except CascadeLimit as e:
+            res = make_result(check, claim, OPEN, f"the explicit cascade engine reached its limit: {e}",
+                              details={"engine": "explicit", "worst": None, "locked": None, "depth": None})
+    elif engine == "firings":
+        res = prove_wide(check, claim, cond, opts, budget)
     else:
         res = _sat(check, claim, cond, opts, budget)
     if why:

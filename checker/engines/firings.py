@@ -36,7 +36,11 @@ order has more than L firings. Two ways to know that:
   source, so by induction along the clock tree every flop fires at most once,
   and a flop whose clock chain never reaches the system clock never fires.
   L = the number of flops whose chain reaches the system clock (and the
-  depth is at most the longest chain);
+  depth is at most the longest chain). An asynchronous clear or preset read
+  from the inputs alone (a reset pin) is constant for the whole clock, so the
+  same holds (:func:`structural_bound`); a SAT proof of that bound would be a
+  pigeonhole argument over every order of the flops it clears, which
+  resolution cannot make short;
 * by SAT otherwise: no order of L firings exists (every step firing is
   unsatisfiable), so every order settles within L - 1 firings. An order of L
   firings that comes back to a cascade it has met is one that never
@@ -106,10 +110,20 @@ def structural_bound(model: Model) -> Optional[int]:
     """The most firings of any order of one clock, when the clock tree alone bounds it: with no
     asynchronous clear or preset, every flop fires at most once (see the module docstring),
     so the bound is the number of flops clocked from the system clock through their chain.
-    None when some asynchronous clear or preset exists (the SAT termination search decides)."""
-    if any(l != FALSE for l in model.async_clear) or any(l != FALSE for l in model.async_preset):
-        return None
-    return sum(system_rooted(model))
+    An asynchronous clear or preset read from the inputs only keeps that: the inputs hold for
+    the whole clock, so it holds throughout or never; a flop it holds for fires at most once
+    (to its target, its clock edges ignored) and one it never holds for is clocked as without
+    it; the bound adds the flops outside the clock tree that have one. None when some
+    asynchronous clear or preset reads a flop (the SAT termination search decides)."""
+    lits = [l for l in list(model.async_clear) + list(model.async_preset) if l not in (FALSE, TRUE)]
+    if lits:
+        inputs = {l >> 1 for l in model.input_lits}
+        aig = model.aig
+        if any(aig.left[x] < 0 and x not in inputs for x in aig.cone(lits)):
+            return None
+    clr = model.async_clear or [FALSE] * len(model.states)
+    pre = model.async_preset or [FALSE] * len(model.states)
+    return sum(r or c != FALSE or p != FALSE for r, c, p in zip(system_rooted(model), clr, pre))
 
 
 @dataclass
@@ -169,21 +183,26 @@ def ge_const(g: Aig, bits: Sequence[int], k: int) -> int:
     return gt
 
 
-class Firings:
-    """The cascade of one clock of ``model`` unrolled step by step over a free start code and
-    free inputs, in an AIG of its own, encoded into one incremental SAT solver on demand.
+class Cascade:
+    """The cascade of one clock of ``model`` unrolled step by step, built into the AIG ``g`` from
+    the code literals ``q0`` and input literals ``ins`` (leaves, or the end of an earlier clock).
+    No solver: :class:`Firings` asks questions of one clock, :mod:`checker.engines.clock_runs`
+    chains clocks. ``idle``: per step, (some change pending before it, it fired); a user must
+    require ``pending -> fired`` (no step idles while a change is pending).
 
     ``depth_cap``: track each pending change's depth, saturating at this value (0: no depths).
     ``watch``: model literals whose value is wanted at every frame (glitches).
+    ``tag``: appended to the names of the index leaves, so that several clocks share one AIG.
     """
 
-    def __init__(self, model: Model, depth_cap: int = 0, watch: Sequence[int] = (),
-                 solver: str = DEFAULT_SOLVER) -> None:
+    def __init__(self, model: Model, g: Aig, q0: list[int], ins: list[int], depth_cap: int = 0,
+                 watch: Sequence[int] = (), tag: str = "") -> None:
         self.model = model
         self.n = n = len(model.states)
-        self.g = g = Aig()
-        self.q0 = [g.leaf(f"{s}@0") for s in model.states]
-        self.ins = [g.leaf(i) for i in model.inputs]
+        self.g = g
+        self.q0 = q0
+        self.ins = ins
+        self.tag = tag
         self.clocks = model.clocks or [None] * n
         self.aclear = model.async_clear or [FALSE] * n
         self.apreset = model.async_preset or [FALSE] * n
@@ -195,13 +214,9 @@ class Firings:
         self.dbits = depth_cap.bit_length() if depth_cap and self.chain is None else 0
         self.kbits = max(1, n.bit_length())  # the index: 0 .. n-1 a flop, n .. 2^k-1 nothing
         self.steps: list[Step] = []
+        self.idle: list[tuple[int, int]] = []
         self.frames: list[Frame] = [self._frame(self.q0)]
         self._edge()
-        self.sat = Sat(solver)
-        self.enc = Encoder(g, self.sat)
-        self.env = self.enc.new_env({})
-        for leaf in self.q0 + self.ins:
-            self.enc.lit(self.env, leaf)
 
     # --- building -------------------------------------------------------
     def _leaf_map(self, q: list[int]) -> dict[int, int]:
@@ -251,7 +266,7 @@ class Firings:
     def _step(self) -> None:
         g, n, t = self.g, self.n, len(self.steps)
         cur = self.frames[-1]
-        idx = [g.leaf(f"fire{k}@{t}") for k in range(self.kbits)]
+        idx = [g.leaf(f"fire{k}@{t}{self.tag}") for k in range(self.kbits)]
         sel = [g.and_(g.equal_const(idx, i), cur.p[i]) for i in range(n)]
         fired = g.or_all(sel)
         depth = [g.or_all(g.and_(s, d[k]) for s, d in zip(sel, cur.d)) for k in range(self.dbits)]
@@ -283,38 +298,27 @@ class Firings:
                 nf.d.append([])
         self.steps.append(Step(idx, sel, fired, depth, faults))
         self.frames.append(nf)
-        for leaf in idx:
-            self.enc.lit(self.env, leaf)
         # No step is idle while a change is pending: every order is one assignment (up to the
         # indices after settling), not one per placement of idle steps.
-        self.sat.add([-self.lit(g.or_all(cur.p)), self.lit(fired)])
+        self.idle.append((g.or_all(cur.p), fired))
 
-    # --- questions ------------------------------------------------------
-    def lit(self, alit: int) -> int:
-        """The solver literal of a literal of :attr:`g`."""
-        return self.enc.lit(self.env, alit)
+    def end(self) -> list[int]:
+        """The code after the last step built (the settled code when nothing is pending there)."""
+        return self.frames[-1].q
 
-    def solve(self, lits: Sequence[int], budget: Optional[Budget] = None) -> bool:
-        """Whether literals of :attr:`g` can all hold at once."""
-        if budget is not None:
-            budget.check(len(self.steps))
-        assume = [self.lit(l) for l in lits]
-        if any(a == -self.sat.true for a in assume):
-            return False
-        return self.sat.solve([a for a in assume if a != self.sat.true])
-
-    def try_solve(self, lits: Sequence[int], conflicts: int, budget: Optional[Budget] = None) -> Optional[bool]:
-        """:meth:`solve` within ``conflicts`` conflicts; None when the solver gave up first."""
-        if budget is not None:
-            budget.check(len(self.steps))
-        assume = [self.lit(l) for l in lits]
-        if any(a == -self.sat.true for a in assume):
-            return False
-        return self.sat.solve_limited([a for a in assume if a != self.sat.true], conflicts)
-
-    def any_of(self, lits: Sequence[int]) -> int:
-        """A literal of :attr:`g`: some of ``lits``."""
-        return self.g.or_all(lits)
+    def order_of(self, value, code: int, inputs: dict[str, int], steps: Optional[int] = None) -> list[int]:
+        """The flops an assignment fires, in order (state indices), replayed through the event
+        model from the edge at state ``code`` under ``inputs``: a step whose index names no pending
+        change fires nothing. ``value``: a literal of :attr:`g` to its value in the assignment."""
+        em = EventModel(self.model, inputs)
+        state = em.edge(code)
+        out = []
+        for s in self.steps[:steps]:
+            k = sum(value(l) << j for j, l in enumerate(s.idx))
+            if any(c.flop == k for c in state.pending):
+                state, _ = em.fire(state, k)
+                out.append(k)
+        return out
 
     def pending_at(self, t: int) -> int:
         """Literal: some change is still pending after ``t`` steps."""
@@ -359,6 +363,57 @@ class Firings:
             left = g.or_(left, g.xor(w, w0))
         return out
 
+
+class Firings(Cascade):
+    """The cascade of one clock of ``model`` over a free start code and free inputs, in an AIG of
+    its own, encoded into one incremental SAT solver on demand (see :class:`Cascade`)."""
+
+    def __init__(self, model: Model, depth_cap: int = 0, watch: Sequence[int] = (),
+                 solver: str = DEFAULT_SOLVER) -> None:
+        g = Aig()
+        q0 = [g.leaf(f"{s}@0") for s in model.states]
+        ins = [g.leaf(i) for i in model.inputs]
+        self.sat = Sat(solver)
+        self.enc = Encoder(g, self.sat)
+        self.env = self.enc.new_env({})
+        super().__init__(model, g, q0, ins, depth_cap, watch)
+        for leaf in self.q0 + self.ins:
+            self.enc.lit(self.env, leaf)
+
+    def _step(self) -> None:
+        super()._step()
+        for leaf in self.steps[-1].idx:
+            self.enc.lit(self.env, leaf)
+        pending, fired = self.idle[-1]
+        self.sat.add([-self.lit(pending), self.lit(fired)])
+
+    # --- questions ------------------------------------------------------
+    def lit(self, alit: int) -> int:
+        """The solver literal of a literal of :attr:`g`."""
+        return self.enc.lit(self.env, alit)
+
+    def solve(self, lits: Sequence[int], budget: Optional[Budget] = None) -> bool:
+        """Whether literals of :attr:`g` can all hold at once."""
+        if budget is not None:
+            budget.check(len(self.steps))
+        assume = [self.lit(l) for l in lits]
+        if any(a == -self.sat.true for a in assume):
+            return False
+        return self.sat.solve([a for a in assume if a != self.sat.true])
+
+    def try_solve(self, lits: Sequence[int], conflicts: int, budget: Optional[Budget] = None) -> Optional[bool]:
+        """:meth:`solve` within ``conflicts`` conflicts; None when the solver gave up first."""
+        if budget is not None:
+            budget.check(len(self.steps))
+        assume = [self.lit(l) for l in lits]
+        if any(a == -self.sat.true for a in assume):
+            return False
+        return self.sat.solve_limited([a for a in assume if a != self.sat.true], conflicts)
+
+    def any_of(self, lits: Sequence[int]) -> int:
+        """A literal of :attr:`g`: some of ``lits``."""
+        return self.g.or_all(lits)
+
     # --- reading a model -------------------------------------------------
     def value(self, alit: int) -> int:
         return self.sat.value(self.lit(alit))
@@ -372,15 +427,7 @@ class Firings:
         """The flops the last model fires, in order (state indices), replayed through the event
         model: a step whose index names no pending change fires nothing."""
         code, inputs = self.start()
-        em = EventModel(self.model, inputs)
-        state = em.edge(code)
-        out = []
-        for s in self.steps[:steps]:
-            k = sum(self.value(l) << j for j, l in enumerate(s.idx))
-            if any(c.flop == k for c in state.pending):
-                state, _ = em.fire(state, k)
-                out.append(k)
-        return out
+        return self.order_of(self.value, code, inputs, steps)
 
     def close(self) -> None:
         self.sat.close()
