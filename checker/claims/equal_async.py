@@ -38,7 +38,7 @@ from ..model.aig import evaluate
 from ..model.events import EventModel, Firing, packed, unpacked
 from .common import Options, code_and_decimal, inputs_text, make_result, replay
 from .clocking import input_rows
-from .equal_wide import prove_after_wide, prove_paired_wide
+from .equal_wide import differ_lines, prove_after_wide, prove_paired_wide
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 MAX_POINTS = 1 << 18
@@ -414,15 +414,9 @@ def _traces(check: Check, claim: Claim, sa: Settler, sb: Settler, parent: dict, 
 
 
 def _after_refute(check, claim, sa, sb, parent, end, inputs, outs, run_a, run_b, opts) -> Result:
-    a, b = check.design, claim.other
+    b = claim.other
     ta, tb, _ = _traces(check, claim, sa, sb, parent, end, inputs, run_a, run_b)
-    summary = (f"output{'s' if len(outs) > 1 else ''} {', '.join(outs)} of {a.name} and {b.name} "
-               f"differ{'' if len(outs) > 1 else 's'} at clock {ta[-1].clock} (the condition applied at clock 0)")
-    wb = len(b.model.states)
-    ev = [f"clock {t.clock}: code {code_and_decimal(t.code, check.width, opts.radix)} "
-          f"({b.name}: {code_and_decimal(t.other_code or 0, wb, opts.radix)}), inputs {inputs_text(None, t.inputs)}"
-          for t in ta[1:]]
-    ev.append(f"outputs that differ at clock {ta[-1].clock}: {', '.join(outs)}")
+    summary, ev = differ_lines(check, b, ta, outs, opts)
     return make_result(check, claim, REFUTED, summary, trace=ta,
                        details={"engine": "explicit settled", "outputs_differ": outs,
                                 "other_trace": [t.to_json() for t in tb]}, evidence=[summary] + ev)

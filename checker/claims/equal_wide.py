@@ -31,6 +31,21 @@ ENGINE = "firings miter"
 """The name results give this engine."""
 
 
+
+def differ_lines(check: Check, other: Design, trace: list[TraceEntry], outs: list[str],
+                 opts: Options) -> tuple[str, list[str]]:
+    """The summary and evidence of an ``equal ... after`` refutation: the outputs that differ at
+    the trace's last clock, and each clock's code in both designs with its inputs."""
+    a, b = check.design, other
+    summary = (f"output{'s' if len(outs) > 1 else ''} {', '.join(outs)} of {a.name} and {b.name} "
+               f"differ{'' if len(outs) > 1 else 's'} at clock {trace[-1].clock} (the condition applied at clock 0)")
+    wb = len(b.model.states)
+    ev = [f"clock {t.clock}: code {code_and_decimal(t.code, check.width, opts.radix)} "
+          f"({b.name}: {code_and_decimal(t.other_code or 0, wb, opts.radix)}), inputs {inputs_text(None, t.inputs)}"
+          for t in trace[1:]]
+    ev.append(f"outputs that differ at clock {trace[-1].clock}: {', '.join(outs)}")
+    return summary, ev
+
 def _events(model, firings: list[Firing], idx: list[int]) -> list[dict]:
     return [{"flop": model.states[f.flop], "value": f.value, "code": unpacked(idx, f.code), "depth": f.depth}
             for f in firings]
@@ -107,13 +122,7 @@ def _differ(check: Check, claim: Claim, ra: Reset, rb: Reset, s: MiterSearch, de
     replay(a, check, ta)
     replay(b, check, tb, code=bidx)
     outs = s.outputs
-    summary = (f"output{'s' if len(outs) > 1 else ''} {', '.join(outs)} of {a.name} and {b.name} "
-               f"differ{'' if len(outs) > 1 else 's'} at clock {ta[-1].clock} (the condition applied at clock 0)")
-    wb = len(b.model.states)
-    ev = [f"clock {t.clock}: code {code_and_decimal(t.code, check.width, opts.radix)} "
-          f"({b.name}: {code_and_decimal(t.other_code or 0, wb, opts.radix)}), inputs {inputs_text(None, t.inputs)}"
-          for t in ta[1:]]
-    ev.append(f"outputs that differ at clock {ta[-1].clock}: {', '.join(outs)}")
+    summary, ev = differ_lines(check, b, ta, outs, opts)
     details.update(outputs_differ=outs, other_trace=[t.to_json() for t in tb])
     return make_result(check, claim, REFUTED, summary, trace=ta, details=details, evidence=[summary] + ev)
 
