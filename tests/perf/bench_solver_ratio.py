@@ -259,8 +259,8 @@ def main() -> None:
             "modules; claims: building and solving, a forked child per claim; report: the JSON; exit: exit "
             "handlers and leaving), so they add up to about the total rather than exactly. "
             "Inside solver calls: the `solve_seconds` of the claims' JSON, where every claim of the file reports it "
-            "(count does; recover and equal do not). (total - parse) / best solver: the ratio without the parser's time (the parse column), which "
-            "another piece of work replaces. Questions asked in-process: the `questions` of each claim's JSON where it reports them (count), "
+            "(count does; recover and equal do not). (total - parse) / best solver: the ratio without the parser's time (the parse column; "
+            "lark's where the hand-written reader declines a text). Questions asked in-process: the `questions` of each claim's JSON where it reports them (count), "
             "else `-`; in the DIMACS: how many the exported formula joins with selector variables.", ""]
     met = [f"{l} ({t / b:.1f})" for l, t, b, _ in summary if b and t / b <= 2]
     unmet = [f"{l} ({t / b:.1f})" for l, t, b, _ in summary if b and t / b > 2]
