@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Optional, Sequence
+from typing import Callable, Optional, Sequence
 
 from ..elab import Check, Claim, Design
 from ..elab.reference import Reference
@@ -77,6 +77,29 @@ def code_and_decimal(code: int, width: int, radix: str = "auto") -> str:
     """``code_text`` with the decimal beside it where that helps: ``0b1010 (10)``, ``0x3F (63)``."""
     t = code_text(code, width, radix)
     return f"{t} ({code})" if decimal_helps(code, width, radix) else t
+
+
+SETS_SHOWN = 8
+"""Locked sets a readable report lists (``set_lines``); the JSON report lists them all."""
+
+CODES_SHOWN = 32
+"""Codes of one locked set a readable report lists."""
+
+
+def set_lines(sets, fmt: Callable[[int], str] = str, limit: int = SETS_SHOWN,
+              more: str = "--json lists every one", total: Optional[int] = None) -> list[str]:
+    """The first ``limit`` sets of codes (lists or arrays) as readable lines, each cut short when
+    long; every cut says how much was shown of how much, and ``more`` says how to see the rest.
+    ``total``: the number of sets when ``sets`` lists only the first of them."""
+    lines = []
+    total = len(sets) if total is None else total
+    for s in sets[:limit]:
+        cut = len(s) > CODES_SHOWN
+        lines.append("  {" + ", ".join(fmt(int(c)) for c in s[:CODES_SHOWN])
+                     + (f", ... ({CODES_SHOWN} of {len(s)} codes shown)" if cut else "") + "}")
+    if total > limit:
+        lines.append(f"  ({limit} of {total} locked sets shown; {more})")
+    return lines
 
 
 class ReplayError(AssertionError):

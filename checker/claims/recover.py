@@ -31,7 +31,8 @@ from ..engines.cascade import CascadeLimit, Exploration, never_settling
 from ..model.events import EventModel
 from .clocking import events_json, order_lines, settle_order, state_of, warning_lines
 from ..words import count
-from .common import Options, code_and_decimal, code_text, inputs_text, make_result, replay, stepping
+from .common import (Options, code_and_decimal, code_text, inputs_text, make_result, replay, set_lines,
+                     stepping)
 from .conditions import recover_condition
 from .recover_wide import prove_wide
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
@@ -212,27 +213,6 @@ def lock_inputs_lines(check: Check, codes: list[int], inputs: list[dict[str, int
     return lines
 
 
-SETS_SHOWN = 8
-"""Locked sets a readable report lists (``set_lines``); the JSON report lists them all."""
-
-CODES_SHOWN = 32
-"""Codes of one locked set a readable report lists."""
-
-
-def set_lines(sets, fmt: Callable[[int], str] = str, limit: int = SETS_SHOWN,
-              more: str = "--json lists every one", total: Optional[int] = None) -> list[str]:
-    """The first ``limit`` sets of codes (lists or arrays) as readable lines, each cut short when
-    long; every cut says how much was shown of how much, and ``more`` says how to see the rest.
-    ``total``: the number of sets when ``sets`` lists only the first of them."""
-    lines = []
-    total = len(sets) if total is None else total
-    for s in sets[:limit]:
-        cut = len(s) > CODES_SHOWN
-        lines.append("  {" + ", ".join(fmt(int(c)) for c in s[:CODES_SHOWN])
-                     + (f", ... ({CODES_SHOWN} of {len(s)} codes shown)" if cut else "") + "}")
-    if total > limit:
-        lines.append(f"  ({limit} of {total} locked sets shown; {more})")
-    return lines
 
 
 def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str, radix: str = "dec") -> Result:

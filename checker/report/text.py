@@ -7,8 +7,7 @@ from typing import Optional, Sequence
 
 from tabulate import tabulate
 
-from ..claims.common import code_text, inputs_text, shows_decimal, trace_lines
-from ..claims.recover import set_lines
+from ..claims.common import code_text, inputs_text, set_lines, shows_decimal, trace_lines
 from ..claims.result import OPEN, PROVED, REFUTED, Result
 from ..words import count, plural
 
