@@ -23,7 +23,6 @@ import os
 import platform
 import statistics
 import sys
-import tempfile
 import time
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
@@ -32,22 +31,12 @@ sys.path.insert(0, os.path.join(ROOT, "tests"))
 
 from checker.claims import run_claim  # noqa: E402
 from checker.claims.common import Options  # noqa: E402
-from checker.elab import load_namespace  # noqa: E402
 from test_equal_wide import counters  # noqa: E402  (the tests' own designs)
 from test_recover_wide import catcher  # noqa: E402
+from test_explicit import load_text as load  # noqa: E402  (a check from its text)
 
 TIMEOUT = 120.0
 REPS = 3
-
-
-def load(text: str):
-    fd, path = tempfile.mkstemp(suffix=".cnl")
-    with os.fdopen(fd, "w") as f:
-        f.write(text)
-    try:
-        return load_namespace(path).checks[0]
-    finally:
-        os.unlink(path)
 
 
 def timed(check, claim, engine: str):

@@ -22,7 +22,6 @@ from __future__ import annotations
 import os
 import platform
 import sys
-import tempfile
 import time
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
@@ -31,9 +30,9 @@ sys.path.insert(0, os.path.join(ROOT, "tests"))
 
 from checker.claims import run_claim  # noqa: E402
 from checker.claims.common import Options  # noqa: E402
-from checker.elab import load_namespace  # noqa: E402
 from test_events import binary_counter as binary, gray_design  # noqa: E402  (the tests' own counters)
 from test_firings import ripple as ripple_divider  # noqa: E402
+from test_explicit import load_text as load  # noqa: E402  (a check from its text)
 
 TIMEOUT = 60.0
 
@@ -45,16 +44,6 @@ def ripple(n: int) -> str:
     lines += ["end", "check r of ripple", f"  code {{{code}}}", f"  count 0 .. {2 ** n - 1}", "  hold when !en",
               f"  settle within {n}", "end"]
     return "\n".join(lines) + "\n"
-
-
-def load(text: str):
-    fd, path = tempfile.mkstemp(suffix=".cnl")
-    with os.fdopen(fd, "w") as f:
-        f.write(text)
-    try:
-        return load_namespace(path).checks[0]
-    finally:
-        os.unlink(path)
 
 
 def timed(check, kind: str, engine: str):

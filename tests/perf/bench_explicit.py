@@ -51,11 +51,11 @@ sys.path.insert(0, os.path.join(ROOT, "tests"))
 
 from checker.claims import run_claim  # noqa: E402
 from checker.claims.common import Options, stepping  # noqa: E402
-from checker.elab import load_namespace  # noqa: E402
 from checker.engines import compact as C  # noqa: E402
 from checker.engines import explicit as X  # noqa: E402
 from test_recover import tail_counter  # noqa: E402
 from test_auto import misting_timers  # noqa: E402
+from test_explicit import load_text as _load  # noqa: E402  (a check from its text)
 
 
 def shift_register(w: int) -> str:
@@ -127,16 +127,6 @@ check phases of vent
   recover when run | drop
 end
 """
-
-
-def _load(text: str):
-    fd, path = tempfile.mkstemp(suffix=".cnl")
-    with os.fdopen(fd, "w") as f:
-        f.write(text)
-    try:
-        return load_namespace(path).checks[0]
-    finally:
-        os.unlink(path)
 
 
 def _child(conn, text: str, what: str, engine: str, timeout):

@@ -33,24 +33,7 @@ from checker.elab import load_namespace  # noqa: E402
 
 sys.path.insert(0, os.path.join(ROOT, "tests"))
 from test_recover import tail_counter as batch_counter  # noqa: E402  (the tests' own design)
-
-
-def dosing_pump(n: int) -> str:
-    """A greenhouse dosing pump stepping one or two codes as a free input says (several successors)."""
-    top = (1 << n) - 1
-    return f"""
-design pump
-  in gust, frost
-  flop q[{n - 1}:0] : T (t = (c1 & !(gust ^ frost)) | (c2 & (gust ^ frost)))
-  node c1[{n - 1}:0] = {{c1[{n - 2}:0] & q[{n - 2}:0], 1}}
-  node c2[{n - 1}:0] = {{c2[{n - 2}:1] & q[{n - 2}:1], 1, 0}}
-end
-check dose of pump
-  code q
-  count 0 {top - 1} {top}
-  recover when gust
-end
-"""
+from test_compact import pump as dosing_pump  # noqa: E402  (a greenhouse dosing pump: two rows)
 
 
 def _child(conn, text: str, engine: str, timeout):
