@@ -190,3 +190,15 @@ def test_damaged_programs_are_never_taken_where_lark_refuses(text, data):
     elif k + 1 < len(words):
         words[k], words[k + 1] = words[k + 1], words[k]
     agree(" ".join(words))
+
+
+@pytest.mark.parametrize("text", [
+    "module top();\nwire a = & ( 'd 5);\nendmodule\n",  # found by the damaged-program test above
+    "module top();\nwire [3:0] a = \t 'hF;\nendmodule\n",
+    "module top();\nwire [3:0] a =\n  'hF;\nendmodule\n",
+    "module top();\nwire [3:0] a = 4 'hF;\nendmodule\n",
+])
+def test_an_unsized_literal_after_spaces_starts_where_lark_starts_it(text):
+    # lark's BASED terminal (priority 2) may begin with spaces or tabs, so after them an unsized
+    # literal is one token starting at the first space; after a newline white space comes first
+    assert agree(text)

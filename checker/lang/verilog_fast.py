@@ -29,11 +29,13 @@ KEYWORDS = frozenset("module endmodule input output wire reg assign always posed
                      "and nand nor xor xnor buf not".split())
 GATES = ("and", "nand", "or", "nor", "xor", "xnor", "buf", "not")
 
+# BASED comes before white space: lark's lexer prefers it (priority 2) where both match, so an
+# unsized literal after spaces or tabs (`= 'd5`) is one token starting at the first space.
 _TOKEN = re.compile(r"""
-  (?P<ws>[ \t\f\r\n]+)
+  (?P<BASED>(?:[0-9][0-9_]*)?[ \t]*'[bBoOdDhH][ \t]*[0-9a-fA-FxXzZ?_]+)
+| (?P<ws>[ \t\f\r\n]+)
 | (?P<comment>//[^\n]*|/\*(?:.|\n)*?\*/)
 | (?P<directive>`timescale[^\n]*)
-| (?P<BASED>(?:[0-9][0-9_]*)?[ \t]*'[bBoOdDhH][ \t]*[0-9a-fA-FxXzZ?_]+)
 | (?P<NUMBER>[0-9][0-9_]*)
 | (?P<IDENT>[A-Za-z_][A-Za-z0-9_$]*)
 | (?P<ESCAPED>\\[^\s]+)
