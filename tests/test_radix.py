@@ -178,3 +178,18 @@ def test_bcd_codes_are_hex_without_the_binary_values_decimal(capsys):
     assert "from code 0xA0:" in out and "(160)" not in out
     rc, out = run(capsys, ["check", "cases/pallet_tally.cnl", "--radix", "hex"])
     assert "from code 0xA0 (160):" in out  # asked for hex: the plain hex report, decimal beside
+
+
+def test_a_locked_listing_cut_in_the_json_too_says_how_many_the_json_gives(capsys, tmp_path):
+    # 20 flops that hold any code with a high bit set: 2^20 - 2 locked sets of one code each,
+    # more than a result lists (LOCKED_LIST_LIMIT codes), so the JSON's list is cut as well
+    hi = " | ".join(f"q[{i}]" for i in range(1, 20))
+    f = tmp_path / "jam.cnl"
+    f.write_text("design jam\n  flop q[19:0] : D (d = mux(hi, {q[19:1], !q[0]}, q))\n"
+                 f"  node hi = {hi}\nend\ncheck c of jam\n  code q\n  count 0 1\n  recover\nend\n")
+    rc, out = run(capsys, ["check", str(f), "--jobs", "1"])
+    assert rc == 1
+    assert f"(8 of {2**20 - 2} locked sets shown; --json lists the first 65536)" in out
+    rc, out = run(capsys, ["check", str(f), "--jobs", "1", "--json"])
+    doc = next(c for c in json.loads(out)["claims"] if c["claim"] == "recover")
+    assert len(doc["locked"]) == 65536 and doc["locked_complete"] is False

@@ -256,7 +256,8 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
                             f"{count(n_sets, 'cycle')} of unused codes found from the smallest of them "
                             f"(lengths {_sizes(sizes)}), one choice of inputs each; the sets they lie in "
                             f"are not separated above {X.SCC_LIMIT} locked codes")
-        evidence.extend(set_lines(a.locked_sets, fmt, total=n_sets))
+        more = f"--json lists the first {len(listed)}" if cut else "--json lists every one"
+        evidence.extend(set_lines(a.locked_sets, fmt, total=n_sets, more=more))
         evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + _arrow(codes, fmt=fmt))
         if complete:
             evidence.extend(lock_inputs_lines(check, codes, [t.inputs or {} for t in trace[:-1]], fmt))
