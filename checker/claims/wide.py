@@ -18,6 +18,7 @@ from typing import Sequence
 from ..elab import Check, Claim
 from ..engines.budget import Budget
 from ..engines.firings import Bound, Firings, settle_bound
+from ..engines.clock_runs import fire_in
 from ..model.events import EventModel, Firing
 from .clocking import explicit_limit
 from .common import Options, make_result
@@ -85,14 +86,7 @@ def firings_of(check: Check, start: int, inputs: dict[str, int], flops: list[int
     """The event model under ``inputs`` and the firings of the order ``flops`` (state indices) from
     the edge at ``start``, fired through the event model (which checks each is pending)."""
     em = EventModel(check.design.model, inputs)
-    state = em.edge(start)
-    out = []
-    for f in flops:
-        if not any(c.flop == f for c in state.pending):
-            raise AssertionError(f"order: {check.design.model.states[f]} is not pending at its turn")
-        state, firing = em.fire(state, f)
-        out.append(firing)
-    return em, out
+    return em, fire_in(em, start, flops)
 
 
 def no_bound(check: Check, claim: Claim, w: Wide) -> Result:

@@ -149,12 +149,16 @@ def fire(model: Model, state: int, inputs: dict[str, int], flops: Sequence[int])
     """The firings of the order ``flops`` from the edge at ``state``, through the event model,
     which checks that each is pending at its turn; the last leaves nothing pending unless the
     order is one that never settles."""
-    em = EventModel(model, inputs)
+    return fire_in(EventModel(model, inputs), state, flops)
+
+
+def fire_in(em: EventModel, state: int, flops: Sequence[int]) -> list[Firing]:
+    """:func:`fire` in an event model already made for the inputs."""
     cur = em.edge(state)
     out = []
     for f in flops:
         if not any(c.flop == f for c in cur.pending):
-            raise AssertionError(f"order: {model.states[f]} is not pending at its turn")
+            raise AssertionError(f"order: {em.model.states[f]} is not pending at its turn")
         cur, firing = em.fire(cur, f)
         out.append(firing)
     return out
