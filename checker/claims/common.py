@@ -79,6 +79,15 @@ def code_and_decimal(code: int, width: int, radix: str = "auto") -> str:
     return f"{t} ({code})" if decimal_helps(code, width, radix) else t
 
 
+def run_text(codes: Sequence[int], limit: int = 24, fmt: Callable[[int], str] = str) -> str:
+    """A run of codes, ``a -> b -> c``; a long one shows its ends and says how many it left out."""
+    if len(codes) <= limit:
+        return " -> ".join(fmt(c) for c in codes)
+    head = " -> ".join(fmt(c) for c in codes[:limit // 2])
+    tail = " -> ".join(fmt(c) for c in codes[-limit // 2:])
+    return f"{head} -> ... ({len(codes) - limit} more) ... -> {tail}"
+
+
 SETS_SHOWN = 8
 """Locked sets a readable report lists (``set_lines``); the JSON report lists them all."""
 

@@ -31,8 +31,8 @@ from ..engines.cascade import CascadeLimit, Exploration, never_settling
 from ..model.events import EventModel
 from .clocking import events_json, order_lines, settle_order, state_of, warning_lines
 from ..words import count
-from .common import (Options, code_and_decimal, code_text, inputs_text, make_result, replay, set_lines,
-                     stepping)
+from .common import (Options, code_and_decimal, code_text, inputs_text, make_result, replay, run_text,
+                     set_lines, stepping)
 from .conditions import recover_condition
 from .recover_wide import prove_wide
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
@@ -162,15 +162,6 @@ def _never_settles(check: Check, claim: Claim, e: "X.NeverSettles") -> Result:
                                              "warnings": warning_lines(order)}, evidence=lines)
 
 
-def _arrow(codes: list[int], limit: int = 24, fmt: Callable[[int], str] = str) -> str:
-    """A run of codes, ``a -> b -> c``; a long one shows its ends and says how many it left out."""
-    if len(codes) <= limit:
-        return " -> ".join(fmt(c) for c in codes)
-    head = " -> ".join(fmt(c) for c in codes[:limit // 2])
-    tail = " -> ".join(fmt(c) for c in codes[-limit // 2:])
-    return f"{head} -> ... ({len(codes) - limit} more) ... -> {tail}"
-
-
 def _sizes(sizes: list[int]) -> str:
     """Set sizes for people: '8' or '1 x1022, 4 x3'."""
     if len(sizes) <= 6:
@@ -258,7 +249,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
                             f"are not separated above {X.SCC_LIMIT} locked codes")
         more = f"--json lists the first {len(listed)}" if cut else "--json lists every one"
         evidence.extend(set_lines(a.locked_sets, fmt, total=n_sets, more=more))
-        evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + _arrow(codes, fmt=fmt))
+        evidence.append(("cycle: " if complete else f"run in the locked set, {TRACE_LIMIT} clocks: ") + run_text(codes, fmt=fmt))
         if complete:
             evidence.extend(lock_inputs_lines(check, codes, [t.inputs or {} for t in trace[:-1]], fmt))
         if not complete:
@@ -268,7 +259,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
     elif claim.within is not None and a.worst is not None and a.worst > claim.within:
         codes, rows = X.worst_run(a, a.worst_code, claim.within)
         trace = _replayed(check, codes, [g.rows.full[r] for r in rows])
-        evidence.append(f"code {one(a.worst_code)} is still unused after {count(claim.within, 'clock')}: {_arrow(codes, fmt=fmt)}")
+        evidence.append(f"code {one(a.worst_code)} is still unused after {count(claim.within, 'clock')}: {run_text(codes, fmt=fmt)}")
         evidence.append(f"worst: {count(a.worst, 'clock')} (from code {one(a.worst_code)})")
         res = make_result(check, claim, REFUTED, f"code {one(a.worst_code)} needs {count(a.worst, 'clock')}, more than {claim.within}",
                           trace=trace, details=details, evidence=evidence)
@@ -278,7 +269,7 @@ def _explicit(check: Check, claim: Claim, cond: int, budget: Budget, solver: str
             codes, rows = X.worst_run(a, a.worst_code, min(a.worst, EVIDENCE_RUN))
             _replayed(check, codes, [g.rows.full[r] for r in rows])
             more = "" if a.worst <= EVIDENCE_RUN else f" -> ... ({a.worst - EVIDENCE_RUN} more clocks)"
-            evidence.append(f"worst: {count(a.worst, 'clock')}, from code {one(a.worst_code)}: {_arrow(codes, fmt=fmt)}{more}")
+            evidence.append(f"worst: {count(a.worst, 'clock')}, from code {one(a.worst_code)}: {run_text(codes, fmt=fmt)}{more}")
         else:
             evidence.append("no unused codes: worst 0")
         res = make_result(check, claim, PROVED, f"no lockout; worst {count(a.worst, 'clock')}", details=details, evidence=evidence)
@@ -316,9 +307,9 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
         details["locked_complete"] = False  # one cycle found; other locked sets may exist
         details["worst"] = None
         loop = s.codes[s.codes.index(s.codes[-1]):]
-        evidence.append(f"engine sat: a locked cycle of {count(len(s.cycle), 'unused code')}: {_arrow(loop, fmt=fmt)}")
+        evidence.append(f"engine sat: a locked cycle of {count(len(s.cycle), 'unused code')}: {run_text(loop, fmt=fmt)}")
         evidence.extend(lock_inputs_lines(check, loop, [trace[k].inputs or {} for k in range(len(s.codes) - len(loop), len(s.codes) - 1)], fmt))
-        evidence.append(f"run: {_arrow(s.codes, fmt=fmt)}")
+        evidence.append(f"run: {run_text(s.codes, fmt=fmt)}")
         evidence.append("the SAT engine shows one locked cycle; others may exist")
         res = make_result(check, claim, REFUTED, f"locked: a cycle of {count(len(s.cycle), 'unused code')}",
                           trace=trace, details=details, evidence=evidence)
@@ -335,7 +326,7 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
             evidence.append(f"worst: at least {count(s.worst_at_least, 'clock')} (the search for the exact worst stopped there)")
         else:
             evidence.append(f"worst: {count(s.worst, 'clock')}")
-        evidence.append(f"code {one(codes[0])} is still unused after {count(n, 'clock')}: {_arrow(codes, fmt=fmt)}")
+        evidence.append(f"code {one(codes[0])} is still unused after {count(n, 'clock')}: {run_text(codes, fmt=fmt)}")
         res = make_result(check, claim, REFUTED, f"code {one(codes[0])} needs more than {count(n, 'clock')}",
                           trace=trace, details=details, evidence=evidence)
         res.advice = [f"repair hint: redirecting code {one(codes[n - 1] if n >= 1 else codes[0])} into the sequence "
@@ -343,7 +334,7 @@ def _sat(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
         return res
     if s.worst_codes:
         _replayed(check, s.worst_codes, s.worst_inputs)
-        evidence.append(f"worst: {count(s.worst, 'clock')}, from code {one(s.worst_codes[0])}: {_arrow(s.worst_codes, fmt=fmt)}")
+        evidence.append(f"worst: {count(s.worst, 'clock')}, from code {one(s.worst_codes[0])}: {run_text(s.worst_codes, fmt=fmt)}")
     else:
         evidence.append("no unused codes: worst 0")
     evidence.append(f"engine sat: no run of {s.depth + 1} unused codes exists (k-induction closed at depth {s.depth})")

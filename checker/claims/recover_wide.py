@@ -23,7 +23,7 @@ from ..engines.unused_clocks import ClockSearch, clock_search
 from ..model.events import packed, unpacked
 from ..words import count
 from .clocking import events_json, order_lines, warning_lines
-from .common import Options, code_and_decimal, code_text, inputs_text, make_result, replay
+from .common import Options, code_and_decimal, code_text, inputs_text, make_result, replay, run_text
 from .result import OPEN, PROVED, REFUTED, Result, TraceEntry
 
 ENGINE = "firings"
@@ -53,13 +53,6 @@ def _code(check: Check, state: int) -> int:
 
 def _state(check: Check, code: int) -> int:
     return packed(list(check.code), code)
-
-
-def _arrow(codes: list[int], fmt, limit: int = 24) -> str:
-    if len(codes) <= limit:
-        return " -> ".join(fmt(c) for c in codes)
-    return (" -> ".join(fmt(c) for c in codes[:limit // 2]) + f" -> ... ({len(codes) - limit} more) ... -> "
-            + " -> ".join(fmt(c) for c in codes[-limit // 2:]))
 
 
 def prove_wide(check: Check, claim: Claim, cond: int, opts: Options, budget: Budget,
@@ -113,8 +106,8 @@ def prove_wide(check: Check, claim: Claim, cond: int, opts: Options, budget: Bud
         trace = clock_trace(check, [_state(check, c) for c in s.codes], s.inputs, s.orders)
         details.update(locked=[s.cycle], locked_complete=False, worst=None)
         loop = s.codes[s.codes.index(s.codes[-1]):]
-        evidence.append(f"a locked cycle of {count(len(s.cycle), 'unused code')}: {_arrow(loop, fmt)}")
-        evidence.append(f"run: {_arrow(s.codes, fmt)} (each clock by the order of firings in the trace)")
+        evidence.append(f"a locked cycle of {count(len(s.cycle), 'unused code')}: {run_text(loop, fmt=fmt)}")
+        evidence.append(f"run: {run_text(s.codes, fmt=fmt)} (each clock by the order of firings in the trace)")
         evidence.append("this engine shows one locked cycle; others may exist")
         res = make_result(check, claim, REFUTED, f"locked: a cycle of {count(len(s.cycle), 'unused code')}",
                           trace=trace, details=details, evidence=evidence)
@@ -133,7 +126,7 @@ def prove_wide(check: Check, claim: Claim, cond: int, opts: Options, budget: Bud
                             f"stopped there)")
         else:
             evidence.append(f"worst: {count(s.worst, 'clock')}")
-        evidence.append(f"code {one(s.codes[0])} is still unused after {count(n, 'clock')}: {_arrow(s.codes[:n + 1], fmt)}")
+        evidence.append(f"code {one(s.codes[0])} is still unused after {count(n, 'clock')}: {run_text(s.codes[:n + 1], fmt=fmt)}")
         return make_result(check, claim, REFUTED, f"code {one(s.codes[0])} needs more than {count(n, 'clock')}",
                            trace=trace, details=details, evidence=evidence)
     if s.worst_codes:
@@ -141,7 +134,7 @@ def prove_wide(check: Check, claim: Claim, cond: int, opts: Options, budget: Bud
         if not seq.contains(s.worst_codes[-1]):
             raise AssertionError("the worst run shown does not end in the sequence")
         evidence.append(f"worst: {count(s.worst, 'clock')}, from code {one(s.worst_codes[0])}: "
-                        f"{_arrow(s.worst_codes, fmt)}")
+                        f"{run_text(s.worst_codes, fmt=fmt)}")
     else:
         evidence.append("no unused codes: worst 0")
     evidence.append(f"no run of {s.depth + 1} unused codes exists under any inputs and orders "
