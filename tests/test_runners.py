@@ -57,6 +57,19 @@ def _first_always_does(monkeypatch, tmp_path, act) -> Path:
     return mark
 
 
+def _record_pids(monkeypatch, tmp_path) -> Path:
+    """Every always claim writes the pid of the process proving it to the returned file, a line each."""
+    pids = tmp_path / "pids"
+
+    def prove(*args):
+        with open(pids, "a") as f:
+            f.write(f"{os.getpid()}\n")
+        return always_claim.prove(*args)
+
+    monkeypatch.setitem(PROVERS, "always", prove)
+    return pids
+
+
 def the_open_one(run: api.CheckRun) -> int:
     """The index of the one open claim, an always claim (odd index); every other claim proved.
     With two runners, which always claim comes first to a runner depends on the machine's load."""
@@ -120,14 +133,7 @@ def test_a_claim_past_its_timeout_is_open_and_its_runner_replaced(monkeypatch, t
 
 def test_claims_run_one_after_another_in_one_runner(monkeypatch, tmp_path, tally):
     # one child for the whole run, not one per claim
-    pids = tmp_path / "pids"
-
-    def prove(*args):
-        with open(pids, "a") as f:
-            f.write(f"{os.getpid()}\n")
-        return always_claim.prove(*args)
-
-    monkeypatch.setitem(PROVERS, "always", prove)
+    pids = _record_pids(monkeypatch, tmp_path)
     run = api.check_files(tally, api.options(isolate=True), jobs=1)
     assert [r.status for r in run.results] == ["proved"] * 6
     seen = pids.read_text().split()
@@ -176,14 +182,7 @@ def test_a_runner_is_retired_after_many_claims_or_much_memory(monkeypatch, tmp_p
         monkeypatch.setattr(runner, "RUNNER_CLAIMS", 2)  # each file's two claims, then a fresh runner
     else:
         monkeypatch.setattr(runner, "RUNNER_GROWTH_BYTES", -(1 << 40))  # any runner counts as grown
-    pids = tmp_path / "pids"
-
-    def prove(*args):
-        with open(pids, "a") as f:
-            f.write(f"{os.getpid()}\n")
-        return always_claim.prove(*args)
-
-    monkeypatch.setitem(PROVERS, "always", prove)
+    pids = _record_pids(monkeypatch, tmp_path)
     run = api.check_files(tally, api.options(isolate=True), jobs=1)
     assert [r.status for r in run.results] == ["proved"] * 6
     assert len(set(pids.read_text().split())) == 3
